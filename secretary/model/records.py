@@ -1,0 +1,174 @@
+"""Typed records at the boundaries: plain, frozen, and free of any I/O.
+
+Everything the workbook reader produces and the pipeline passes around is one
+of these.  Ratings in records are in display points; the model converts to
+log-odds strengths internally (see ``secretary.model.scale``).
+"""
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+from dataclasses import dataclass, field
+from typing import Mapping
+
+
+@dataclass(frozen=True)
+class Result:
+    """One match between two players: the games (racks/frames) each side won."""
+
+    date: dt.date
+    player_a: str
+    player_b: str
+    games_a: int
+    games_b: int
+    division: str = ""
+    event: str = ""
+    void: bool = False  # kept in the workbook but not rated
+    row: int = 0  # row in the Results sheet (0 = not from a sheet)
+
+
+@dataclass(frozen=True)
+class Player:
+    """A player as the Players sheet describes them."""
+
+    name: str
+    division: str = ""
+    starting: float | None = None  # starting rating in points, if known
+    aliases: tuple[str, ...] = ()
+    row: int = 0
+
+
+@dataclass(frozen=True)
+class Fixture:
+    """A match still to be played; races are optional."""
+
+    date: dt.date | None
+    player_a: str
+    player_b: str
+    race_a: int | None = None
+    race_b: int | None = None
+    row: int = 0
+
+
+# Defaults chosen by walk-forward evaluation (see README, "How good are the
+# ratings").  They live here only; every other place reads them from Settings.
+DEFAULT_SKILL_SPREAD = 200.0  # points
+DEFAULT_HALF_LIFE_DAYS = 365.0
+
+
+@dataclass(frozen=True)
+class Settings:
+    """The league's settings (the Settings sheet), every field with a default."""
+
+    centre: float = 1500.0
+    scale: float = 400.0
+    skill_spread: float = DEFAULT_SKILL_SPREAD  # points: SD of the prior
+    half_life_days: float = DEFAULT_HALF_LIFE_DAYS  # 0 = games never age
+    longest_race: int = 9
+    usual_race: int = 5
+    date_order: str = "day-first"  # or "month-first"
+    league_name: str = ""
+    paper: str = "A4"  # or "Letter"
+    weakly_linked_below: float = 0.5  # linked share under which a division is flagged
+    held_z: float = 2.0  # surplus z-score at which a player counts as held
+    linking_matches: int = 6  # suggested linking matches to list
+    few_games: float = 10.0  # weighted games under which a prediction is uncertain
+
+    def replace(self, **changes) -> "Settings":
+        """A copy with some fields changed (the stored defaults never change)."""
+        from dataclasses import replace
+
+        return replace(self, **changes)
+
+
+@dataclass(frozen=True)
+class Problem:
+    """Something wrong in the workbook: an error stops the update, a warning does not."""
+
+    severity: str  # "error" or "warning"
+    sheet: str
+    row: int | None  # 1-based sheet row, None for a whole sheet or column
+    column: str | None  # the header as the secretary wrote it (or the letter)
+    found: str  # the value found, as text ("" when blank)
+    problem: str  # what is wrong, in plain words
+    fix: str  # what to do
+
+    @property
+    def is_error(self) -> bool:
+        return self.severity == "error"
+
+    def __str__(self) -> str:
+        where = self.sheet
+        if self.row is not None:
+            where += f", row {self.row}"
+        if self.column:
+            where += f", column {self.column}"
+        found = f" (found: {self.found!r})" if self.found != "" else ""
+        return f"{self.severity.upper()} {where}: {self.problem}{found}. {self.fix}"
+
+
+@dataclass(frozen=True)
+class PublishedState:
+    """What the previous update published; kept in the workbook's hidden sheet."""
+
+    updated_at: str  # ISO timestamp of the update
+    reference_date: dt.date  # newest result date at that update
+    ratings: Mapping[str, float]  # published rating, points, per player
+    sds: Mapping[str, float]  # published ± (points) per player
+    rows: tuple[tuple[str, str], ...]  # (identity, fingerprint) of each result included
+    settings: Settings = field(default_factory=Settings)
+
+
+def _digest(*parts: object) -> str:
+    text = "\x1f".join(str(p) for p in parts)
+    return hashlib.blake2b(text.encode("utf-8"), digest_size=8).hexdigest()
+
+
+def identity(result: Result) -> str:
+    """Which match a row is (date and the two players), whatever its score says."""
+    a, b = sorted((result.player_a.casefold(), result.player_b.casefold()))
+    return _digest(result.date.isoformat(), a, b)
+
+
+def fingerprint(result: Result) -> str:
+    """Everything about a row that the rating uses; changes when the row is edited."""
+    return _digest(
+        result.date.isoformat(),
+        result.player_a.casefold(),
+        result.player_b.casefold(),
+        result.games_a,
+        result.games_b,
+        result.division.casefold(),
+        result.void,
+    )
+
+
+@dataclass(frozen=True)
+class PlayerRating:
+    """One line of the published ratings."""
+
+    name: str
+    division: str
+    rating: float  # points
+    sd: float  # ± one standard deviation, points
+    games: float  # age-weighted games played
+    wins: float  # age-weighted games won
+    last_played: dt.date | None
+    change: float | None = None  # points since the previous update; None = new
+    is_new: bool = False  # first published this update
+
+
+@dataclass(frozen=True)
+class UpdateLog:
+    """One row of the Update log sheet."""
+
+    updated_at: str  # ISO timestamp
+    version: str
+    reference_date: dt.date
+    rows_read: int
+    rows_rated: int
+    new_rows: int
+    changed_rows: int
+    removed_rows: int
+    settings: Settings
+    warnings: tuple[str, ...] = ()
