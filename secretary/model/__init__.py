@@ -1,0 +1,1 @@
+"""Pure computation: numpy, scipy and the standard library only (no files, no UI)."""
