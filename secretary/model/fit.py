@@ -68,29 +68,43 @@ def pair_curvature(pairs: Pairs, r) -> np.ndarray:
 
 
 class LaplacianPattern:
-    """The sparsity pattern of ``H`` built once; each Newton step only refills the values."""
+    """``H`` for a fixed set of pairs: the structure is built once, each Newton step only refills values.
+
+    ``H = D + U + U^T`` with ``U`` the strictly upper triangle (``-h`` at ``(i, j)``)
+    and ``D`` the diagonal; aggregated pairs arrive sorted by ``(i, j)``, so ``U``
+    is a CSR matrix without any reordering.
+    """
 
     def __init__(self, pairs: Pairs):
         n = pairs.n_players
-        m = len(pairs.i)
-        rows = np.concatenate([pairs.i, pairs.j, np.arange(n)])
-        cols = np.concatenate([pairs.j, pairs.i, np.arange(n)])
-        order = np.lexsort((cols, rows))
-        self.n, self.m = n, m
-        self.order = order
-        self.indices = cols[order].astype(np.int32)
-        self.indptr = np.concatenate([[0], np.cumsum(np.bincount(rows, minlength=n))]).astype(np.int64)
+        self.n = n
         self.pairs = pairs
+        key = pairs.i.astype(np.int64) * max(n, 1) + pairs.j
+        self.order = None if np.all(key[1:] >= key[:-1]) else np.argsort(key, kind="stable")
+        rows = pairs.i if self.order is None else pairs.i[self.order]
+        self.indices = (pairs.j if self.order is None else pairs.j[self.order]).astype(np.int32)
+        self.indptr = np.concatenate([[0], np.cumsum(np.bincount(rows, minlength=n))]).astype(np.int32)
 
     def diagonal(self, h, prior_sd: float) -> np.ndarray:
         """``diag(H)``: each player's summed pair weights plus ``1 / sd^2``."""
         n = self.n
         return np.bincount(self.pairs.i, h, n) + np.bincount(self.pairs.j, h, n) + 1.0 / prior_sd**2
 
+    def upper(self, h) -> sp.csr_matrix:
+        """The strictly upper triangle ``U`` of ``H`` for pair weights ``h``."""
+        values = -h if self.order is None else -h[self.order]
+        return sp.csr_matrix((values, self.indices, self.indptr), shape=(self.n, self.n))
+
+    def operator(self, h, diag) -> spla.LinearOperator:
+        """``v -> H v`` without forming the symmetric matrix."""
+        upper = self.upper(h)
+        lower = upper.T.tocsr() if self.n <= DENSE_LIMIT else upper.T
+        return spla.LinearOperator((self.n, self.n), matvec=lambda v: diag * v + upper @ v + lower @ v, dtype=float)
+
     def matrix(self, h, prior_sd: float) -> sp.csr_matrix:
         """``H`` as a sparse matrix for pair weights ``h``."""
-        values = np.concatenate([-h, -h, self.diagonal(h, prior_sd)])[self.order]
-        return sp.csr_matrix((values, self.indices, self.indptr), shape=(self.n, self.n))
+        upper = self.upper(h)
+        return (upper + upper.T + sp.diags(self.diagonal(h, prior_sd))).tocsr()
 
 
 def hessian(pairs: Pairs, r, prior_sd: float) -> sp.csr_matrix:
@@ -98,14 +112,26 @@ def hessian(pairs: Pairs, r, prior_sd: float) -> sp.csr_matrix:
     return LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
 
 
-def _newton_step(H: sp.csr_matrix, g: np.ndarray, diag: np.ndarray, gmax: float) -> np.ndarray:
-    n = H.shape[0]
-    if n <= DENSE_LIMIT:
-        return -sla.cho_solve(sla.cho_factor(H.toarray(), check_finite=False), g, check_finite=False)
-    # Inexact Newton: solve H s = -g by Jacobi-preconditioned CG, tighter as we converge.
+def _gradient_and_curvature(pairs: Pairs, r, mu, prior_sd: float):
+    """``dF/dr`` and the pair weights ``n p (1 - p)`` from one pass over the pairs."""
+    p = expit(r[pairs.i] - r[pairs.j])
+    total = pairs.total
+    g = total * p - pairs.won_i
+    n = pairs.n_players
+    grad = np.bincount(pairs.i, g, n) - np.bincount(pairs.j, g, n) + (r - mu) / prior_sd**2
+    return grad, total * p * (1.0 - p)
+
+
+def _newton_step(pattern: LaplacianPattern, h, prior_sd: float, g: np.ndarray, gmax: float) -> np.ndarray:
+    diag = pattern.diagonal(h, prior_sd)
+    if pattern.n <= DENSE_LIMIT:
+        H = pattern.matrix(h, prior_sd).toarray()
+        return -sla.cho_solve(sla.cho_factor(H, check_finite=False), g, check_finite=False)
+    # Inexact Newton: Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
+    n = pattern.n
     precond = spla.LinearOperator((n, n), matvec=lambda v: v / diag, dtype=float)
     rtol = min(0.1, np.sqrt(gmax)) * 0.1
-    step, info = spla.cg(H, -g, rtol=rtol, atol=0.0, maxiter=10 * n, M=precond)
+    step, info = spla.cg(pattern.operator(h, diag), -g, rtol=rtol, atol=0.0, maxiter=10 * n, M=precond)
     if info < 0:
         raise FitFailed("the rating fit hit a numerical breakdown; please report this with the workbook")
     return step
@@ -144,36 +170,30 @@ def fit_map(
     if n == 0:
         return Fit(r, mu, prior_sd, 0, 0.0)
     pattern = LaplacianPattern(pairs)
-    games = pairs.games_per_player()
-    tol = gtol * max(1.0, float(games.mean()) if n else 1.0)
-    f = objective(pairs, r, mu, prior_sd)
+    tol = gtol * max(1.0, float(pairs.games_per_player().mean()))
+    g, h = _gradient_and_curvature(pairs, r, mu, prior_sd)
+    gmax = float(np.max(np.abs(g)))
     for it in range(max_iter + 1):
-        g = gradient(pairs, r, mu, prior_sd)
-        gmax = float(np.max(np.abs(g)))
         if not np.isfinite(gmax):
             break
         if gmax <= tol:
             return Fit(r, mu, prior_sd, it, gmax)
         if it == max_iter:
             break
-        h = pair_curvature(pairs, r)
-        diag = pattern.diagonal(h, prior_sd)
-        step = _newton_step(pattern.matrix(h, prior_sd), g, diag, gmax)
-        slope = float(g @ step)
-        t = 1.0
-        while True:  # Armijo backtracking: the safeguard that makes Newton globally convergent
-            r_new = r + t * step
-            f_new = objective(pairs, r_new, mu, prior_sd)
-            if f_new <= f + 1e-4 * t * slope or t < 1e-10:
+        step = _newton_step(pattern, h, prior_sd, g, gmax)
+        # Safeguard: F is convex along the step, so dF/dt at t = 1 being <= 0 proves a decrease.
+        # Otherwise the line minimum lies in (0, 1): find it by bisection on dF/dt (exact line search).
+        lo, hi, t = 0.0, 1.0, 1.0
+        for _ in range(60):
+            g_new, h_new = _gradient_and_curvature(pairs, r + t * step, mu, prior_sd)
+            slope = float(g_new @ step)
+            if slope <= 0.0 and (t == hi or slope >= -1e-3 * abs(float(g @ step))):
                 break
-            t *= 0.5
-        if t < 1e-10 and f_new > f:
-            # No descent along the step: the objective is flat to machine precision here.
-            g_new = gradient(pairs, r, mu, prior_sd)
-            if float(np.max(np.abs(g_new))) <= 1e3 * tol:
-                return Fit(r, mu, prior_sd, it, float(np.max(np.abs(g_new))))
-            break
-        r, f = r_new, f_new
+            lo, hi = (t, hi) if slope < 0 else (lo, t)
+            t = 0.5 * (lo + hi)
+        r = r + t * step
+        g, h = g_new, h_new
+        gmax = float(np.max(np.abs(g)))
     raise FitFailed(
         "the rating calculation did not settle (largest gradient "
         f"{gmax:.3g} after {max_iter} steps); no ratings were changed. "

@@ -51,17 +51,21 @@ def approximate_variance(pairs: Pairs, h, prior_sd: float, groups) -> np.ndarray
     # Coarse precision B^T H B: prior mass on the diagonal, cross-group pair weights as a Laplacian.
     gi, gj = groups[pairs.i], groups[pairs.j]
     cross = gi != gj
-    coarse = np.zeros((n_groups, n_groups))
-    np.add.at(coarse, (gi[cross], gj[cross]), -h[cross])
-    np.add.at(coarse, (gj[cross], gi[cross]), -h[cross])
+    link = np.bincount(gi[cross] * n_groups + gj[cross], h[cross], n_groups * n_groups).reshape(n_groups, n_groups)
+    coarse = -(link + link.T).astype(float)
     coarse[np.diag_indices(n_groups)] -= coarse.sum(axis=1)
     coarse[np.diag_indices(n_groups)] += np.bincount(groups, minlength=n_groups) / prior_sd**2
     cov = sla.inv(coarse)
-    # w_k: share of player k's curvature coming from each group's players.
+    # w_k: share of player k's curvature coming from each group's players (dense n x groups when small).
     rows = np.concatenate([pairs.i, pairs.j])
     cols = np.concatenate([gj, gi])
-    share = sp.csr_matrix((np.concatenate([h, h]) * local[rows], (rows, cols)), shape=(n, n_groups))
-    level = np.asarray(share.multiply(share @ cov).sum(axis=1)).ravel()
+    weights = np.concatenate([h, h]) * local[rows]
+    if n * n_groups <= 5_000_000:
+        share = np.bincount(rows * n_groups + cols, weights, n * n_groups).reshape(n, n_groups)
+        level = np.einsum("kg,kg->k", share @ cov, share)
+    else:
+        share = sp.csr_matrix((weights, (rows, cols)), shape=(n, n_groups))
+        level = np.asarray(share.multiply(share @ cov).sum(axis=1)).ravel()
     return local + neighbours + level
 
 

@@ -1,0 +1,323 @@
+"""How good the ratings are: a walk forward through the history, week by week.
+
+Results are cut into steps of ``step_days`` (7 = weeks) counted from the first
+result's date.  For each step the league is rated from the results dated
+before it only, exactly as an update on that day would (ages measured from the
+newest of those results), and every game of the step is predicted with
+``p = sigmoid(r_a - r_b)``; a player not yet seen gets their prior mean.  The
+predictions are scored per game:
+
+    log-loss = sum_matches [games_a * -log p + games_b * -log(1 - p)] / games
+    Brier    = sum_matches [games_a * (1 - p)^2 + games_b * p^2] / games
+
+Each fit starts from the previous step's optimum (players first seen since
+get their prior mean), so a walk costs a few Newton steps per week.
+"""
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+from scipy.special import expit, log_expit
+from scipy.stats import chi2
+
+from secretary.errors import Cancelled
+from secretary.model.fit import fit_map
+from secretary.model.pairs import Pairs, age_weights
+from secretary.model.records import Player, Result, Settings
+from secretary.model.scale import points_per_logodds, to_strength
+
+BANDS = 10  # calibration bands of width 10 %
+
+
+@dataclass(frozen=True)
+class Walk:
+    """Results prepared once for any number of walks (the settings come later).
+
+    Matches are sorted by date (stable) and players numbered in order of first
+    appearance, so the players seen before any step are ``0 .. n_seen - 1``.
+
+    Attributes
+    ----------
+    names : players in order of first appearance
+    day : days since ``first_date`` of each match (sorted)
+    a, b : player index of each side
+    games_a, games_b : games won by each side
+    order : position of each sorted match in the caller's sequence
+    bounds : first match of each step; step ``k`` is ``bounds[k] : bounds[k + 1]``
+    pair : pair number of each match; ``pair_i < pair_j`` are the players of each pair
+    pair_first : index of the first match of each pair
+    starting : starting rating (points) of each player, NaN where none
+    first_date : date of step 0's first day
+    step_days : length of a step in days
+    n_input : length of the caller's sequence (void results included)
+    """
+
+    names: tuple[str, ...]
+    day: np.ndarray
+    a: np.ndarray
+    b: np.ndarray
+    games_a: np.ndarray
+    games_b: np.ndarray
+    order: np.ndarray
+    bounds: np.ndarray
+    pair: np.ndarray
+    pair_i: np.ndarray
+    pair_j: np.ndarray
+    pair_first: np.ndarray
+    starting: np.ndarray
+    first_date: dt.date | None
+    step_days: int
+    n_input: int
+
+    def seen(self, stop: int) -> int:
+        """Number of players who appear in the first ``stop`` matches."""
+        if stop == 0:
+            return 0
+        return int(max(self.a[:stop].max(), self.b[:stop].max())) + 1
+
+
+def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_days: int = 7) -> Walk:
+    """Sort and index the rated (non-void) results for ``evaluate``.
+
+    Parameters
+    ----------
+    results : the matches, in any order; void ones are not predicted or used
+    players : optional Players-sheet records; their starting ratings (points) set prior means
+    step_days : length of a step in days (7 = week by week)
+    """
+    if int(step_days) < 1:
+        raise ValueError(f"the step must be at least one day (got {step_days!r})")
+    step_days = int(step_days)
+    results = list(results)
+    kept = [k for k, res in enumerate(results) if not res.void]
+    kept.sort(key=lambda k: results[k].date)  # stable: same-day rows keep the caller's order
+    index: dict[str, int] = {}
+    a = np.empty(len(kept), np.int64)
+    b = np.empty(len(kept), np.int64)
+    for m, k in enumerate(kept):
+        res = results[k]
+        a[m] = index.setdefault(res.player_a, len(index))
+        b[m] = index.setdefault(res.player_b, len(index))
+    n = len(index)
+    first = results[kept[0]].date if kept else None
+    day = np.fromiter(((results[k].date - first).days for k in kept), np.int64, len(kept))
+    steps = int(day[-1] // step_days) + 1 if len(kept) else 0
+    bounds = np.searchsorted(day, np.arange(steps + 1) * step_days, side="left")
+    lo, hi = np.minimum(a, b), np.maximum(a, b)
+    keys, first_match, pair = np.unique(lo * max(n, 1) + hi, return_index=True, return_inverse=True)
+    starting = np.full(n, np.nan)
+    for p in players:
+        if p.starting is not None and p.name in index:
+            starting[index[p.name]] = float(p.starting)
+    return Walk(
+        names=tuple(index),
+        day=day,
+        a=a,
+        b=b,
+        games_a=np.fromiter((results[k].games_a for k in kept), float, len(kept)),
+        games_b=np.fromiter((results[k].games_b for k in kept), float, len(kept)),
+        order=np.asarray(kept, np.int64),
+        bounds=bounds.astype(np.int64),
+        pair=pair.reshape(-1).astype(np.int64),
+        pair_i=keys // max(n, 1),
+        pair_j=keys % max(n, 1),
+        pair_first=first_match.astype(np.int64),
+        starting=starting,
+        first_date=first,
+        step_days=step_days,
+        n_input=len(results),
+    )
+
+
+def training_pairs(walk: Walk, stop: int, half_life_days: float) -> Pairs:
+    """Age-weighted pairs of the first ``stop`` matches, ages from the newest of them.
+
+    Only the players seen so far (``0 .. walk.seen(stop) - 1``) take part.
+    """
+    n = walk.seen(stop)
+    age = (walk.day[stop - 1] - walk.day[:stop]) if stop else np.zeros(0)
+    w = age_weights(age, half_life_days)
+    first_is_i = walk.a[:stop] < walk.b[:stop]
+    won_lo = np.where(first_is_i, walk.games_a[:stop], walk.games_b[:stop]) * w
+    won_hi = np.where(first_is_i, walk.games_b[:stop], walk.games_a[:stop]) * w
+    m = len(walk.pair_first)
+    won_i = np.bincount(walk.pair[:stop], won_lo, m)
+    won_j = np.bincount(walk.pair[:stop], won_hi, m)
+    met = walk.pair_first < stop
+    return Pairs(n, walk.pair_i[met], walk.pair_j[met], won_i[met], won_j[met])
+
+
+@dataclass(frozen=True)
+class Band:
+    """One row of a calibration table: predictions between ``low`` and ``high``.
+
+    Attributes
+    ----------
+    low, high : band edges, chance per game (0..1)
+    games : games predicted in the band
+    predicted : mean predicted chance per game (NaN when empty)
+    observed : share of those games won by side A (NaN when empty)
+    variance : sum over the band's games of ``p (1 - p)``, the binomial variance of the wins
+    """
+
+    low: float
+    high: float
+    games: float
+    predicted: float
+    observed: float
+    variance: float
+
+
+@dataclass(frozen=True)
+class Evaluation:
+    """Scores of one walk forward.
+
+    Attributes
+    ----------
+    settings : the settings rated with
+    step_days : length of a step, days
+    steps : steps predicted (steps with at least one match and some history)
+    matches : matches predicted
+    games : games predicted
+    log_loss : mean negative log-likelihood per game, nats (ln 2 = 0.693 for a coin toss)
+    brier : mean squared error per game
+    calibration : bands over all predicted games
+    few_games : games where either player had fewer than ``settings.few_games`` weighted games
+    few_log_loss : log-loss over those games (NaN when none)
+    few_calibration : bands over those games
+    p : A's predicted chance per game for each input result (NaN: void or not predicted)
+    uncertain : per input result, True where the prediction counts as few-games
+    """
+
+    settings: Settings
+    step_days: int
+    steps: int
+    matches: int
+    games: float
+    log_loss: float
+    brier: float
+    calibration: tuple[Band, ...]
+    few_games: float
+    few_log_loss: float
+    few_calibration: tuple[Band, ...]
+    p: np.ndarray
+    uncertain: np.ndarray
+
+
+def calibration_table(p, games_a, games_b, bands: int = BANDS) -> tuple[Band, ...]:
+    """Calibration by band of predicted chance (per game, weighted by games)."""
+    p = np.asarray(p, float)
+    total = np.asarray(games_a, float) + np.asarray(games_b, float)
+    k = np.minimum((p * bands).astype(np.int64), bands - 1)
+    g = np.bincount(k, total, bands)
+    wins = np.bincount(k, games_a, bands)
+    expected = np.bincount(k, total * p, bands)
+    var = np.bincount(k, total * p * (1.0 - p), bands)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        pred, obs = expected / g, wins / g
+    return tuple(
+        Band(i / bands, (i + 1) / bands, float(g[i]), float(pred[i]), float(obs[i]), float(var[i]))
+        for i in range(bands)
+    )
+
+
+def calibration_chi_square(bands: Sequence[Band]) -> tuple[float, int, float]:
+    """Chi-square of observed against predicted wins over the non-empty bands.
+
+    Returns ``(statistic, degrees of freedom, p-value)``; each band contributes
+    ``(wins - expected)^2 / sum p (1 - p)``, one degree of freedom each.
+    """
+    used = [bd for bd in bands if bd.games > 0 and bd.variance > 0]
+    stat = sum((bd.games * (bd.observed - bd.predicted)) ** 2 / bd.variance for bd in used)
+    return float(stat), len(used), float(chi2.sf(stat, len(used))) if used else 1.0
+
+
+def game_scores(p, games_a, games_b) -> tuple[float, float]:
+    """Summed log-loss (nats) and summed Brier score over games, for chances ``p`` of side A."""
+    p = np.clip(np.asarray(p, float), 1e-15, 1 - 1e-15)
+    logit = np.log(p) - np.log1p(-p)
+    loss = -(games_a @ log_expit(logit) + games_b @ log_expit(-logit))
+    brier = games_a @ (1.0 - p) ** 2 + games_b @ p**2
+    return float(loss), float(brier)
+
+
+def evaluate(
+    data: Walk | Sequence[Result],
+    settings: Settings = Settings(),
+    *,
+    players: Sequence[Player] = (),
+    step_days: int = 7,
+    cancel=None,
+    gtol: float = 1e-7,
+) -> Evaluation:
+    """Walk forward, rating before each step and predicting its games.
+
+    Parameters
+    ----------
+    data : results, or a ``Walk`` from ``prepare`` (then ``players`` and ``step_days`` are ignored)
+    settings : centre, scale, skill spread (points), half-life (days) and few-games threshold
+    players : Players-sheet records (starting ratings set prior means)
+    step_days : step length in days (7 = week by week)
+    cancel : optional flag with ``is_set()``, checked once per step
+    gtol : the fit's relative gradient tolerance (looser than an update's; the scores move < 1e-9)
+
+    Raises
+    ------
+    Cancelled
+        when ``cancel`` is set during the walk.
+    """
+    walk = data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days)
+    ppl = points_per_logodds(settings.scale)
+    starting = np.where(np.isnan(walk.starting), settings.centre, walk.starting)
+    mu = np.asarray(to_strength(starting, settings.centre, settings.scale), float).reshape(-1)
+    prior_sd = settings.skill_spread / ppl
+    n_total = len(walk.names)
+    p_sorted = np.full(len(walk.day), np.nan)
+    few_sorted = np.zeros(len(walk.day), bool)
+    r = np.zeros(0)
+    steps = 0
+    for k in range(len(walk.bounds) - 1):
+        start, stop = int(walk.bounds[k]), int(walk.bounds[k + 1])
+        if stop == start or start == 0:
+            continue
+        if cancel is not None and cancel.is_set():
+            raise Cancelled("The evaluation was cancelled.")
+        pairs = training_pairs(walk, start, settings.half_life_days)
+        n = pairs.n_players
+        warm = np.concatenate([r, mu[len(r):n]])
+        r = fit_map(pairs, mu[:n], prior_sd, start=warm, gtol=gtol).r
+        full = np.concatenate([r, mu[n:n_total]])
+        games = np.concatenate([pairs.games_per_player(), np.zeros(n_total - n)])
+        a, b = walk.a[start:stop], walk.b[start:stop]
+        p_sorted[start:stop] = expit(full[a] - full[b])
+        few_sorted[start:stop] = np.minimum(games[a], games[b]) < settings.few_games
+        steps += 1
+    done = ~np.isnan(p_sorted)
+    p, ga, gb = p_sorted[done], walk.games_a[done], walk.games_b[done]
+    total = float(ga.sum() + gb.sum())
+    loss, brier = game_scores(p, ga, gb)
+    few = few_sorted[done]
+    few_total = float(ga[few].sum() + gb[few].sum())
+    few_loss = game_scores(p[few], ga[few], gb[few])[0] / few_total if few_total else float("nan")
+    p_input = np.full(walk.n_input, np.nan)
+    p_input[walk.order] = p_sorted
+    uncertain = np.zeros(walk.n_input, bool)
+    uncertain[walk.order] = few_sorted & done
+    return Evaluation(
+        settings=settings,
+        step_days=walk.step_days,
+        steps=steps,
+        matches=int(done.sum()),
+        games=total,
+        log_loss=loss / total if total else float("nan"),
+        brier=brier / total if total else float("nan"),
+        calibration=calibration_table(p, ga, gb),
+        few_games=few_total,
+        few_log_loss=few_loss,
+        few_calibration=calibration_table(p[few], ga[few], gb[few]),
+        p=p_input,
+        uncertain=uncertain,
+    )

@@ -1,0 +1,156 @@
+"""Plain-language sentences for the notice board, made from a player's numbers.
+
+One template per cause.  A part is *worth a word* when it moved the player by
+at least ``MIN_POINTS`` points, by at least ``MIN_SHARE`` of the largest part,
+and shows as a non-zero whole number; smaller parts are never named as a
+cause.  A player who played gets up to two clauses (largest parts first); a
+player who did not play gets "You did not play this week." and the largest
+part's clause.  Figures quoted are the shown whole points, and the games
+quoted are this update's new games with the number the player's pre-week
+rating expected them to win (the sum over those games of the pre-week chance).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # pragma: no cover - typing only
+    from secretary.model.breakdown import PlayerChange
+
+MIN_POINTS = 1.0
+MIN_SHARE = 0.2
+LONG_GAP_DAYS = 90  # a player away this long is "back after a gap"
+DAYS_PER_MONTH = 30.44
+
+
+@dataclass(frozen=True)
+class Context:
+    """What the sentence needs to know beyond the player's own numbers."""
+
+    first_update: bool = False
+    settings_changed: tuple[str, ...] = ()
+    edited_rows: int = 0
+    removed_rows: int = 0
+    group_event: str = ""  # the usual event name of the division's games against other divisions
+    group_played_others: bool = False  # the division had new games against other divisions
+
+
+def signed(points: int) -> str:
+    """``+18`` / ``-6`` / ``0``."""
+    return f"{points:+d}" if points else "0"
+
+
+def worth_a_word(values, shown) -> list[bool]:
+    """Which parts are big enough to be named as a cause."""
+    largest = max((abs(v) for v in values), default=0.0)
+    return [abs(v) >= MIN_POINTS and abs(v) >= MIN_SHARE * largest and s != 0 for v, s in zip(values, shown)]
+
+
+def _games(k: int) -> str:
+    return f"{k} game" if k == 1 else f"{k} games"
+
+
+def _names(items) -> str:
+    names = [name for name, _ in items]
+    if len(names) <= 1:
+        return "".join(names)
+    return ", ".join(names[:-1]) + " and " + names[-1]
+
+
+def _months(days: int) -> str:
+    months = max(1, round(days / DAYS_PER_MONTH))
+    return "a month" if months == 1 else f"{months} months"
+
+
+def division_label(division: str) -> str:
+    """How a division is named inside a sentence."""
+    if not division.strip():
+        return "your division"
+    if any(word in division.casefold() for word in ("division", "league", "group", "section", "tier")):
+        return division
+    return f"the {division} division"
+
+
+def _own(pc: "PlayerChange", points: int) -> str:
+    if not pc.played:
+        return f"Your older games now count a little less, which moves you back toward the starting rating: {signed(points)}."
+    diff = pc.new_won - pc.new_expected
+    word = "more" if diff > 0 else "fewer"
+    if abs(diff) >= 0.5:
+        phrase = f"about {math.floor(abs(diff) + 0.5)} {word} than your rating expected"
+    elif abs(diff) >= 0.05:
+        phrase = f"a little {word} than your rating expected"
+    else:
+        phrase = "about as many as your rating expected"
+    head = f"You won {pc.new_won} of {_games(pc.new_games)} this week, {phrase}"
+    if abs(diff) >= 0.05 and (diff > 0) == (points > 0):
+        return f"{head}: {signed(points)}."
+    # The new games did not pull this way: the ageing of older games did.
+    return f"{head}, but your older games now count a little less: {signed(points)} in all."
+
+
+def _opponents(pc: "PlayerChange", points: int) -> str:
+    who = "Players you met earlier" if not pc.played else "Players you have met"
+    if pc.top_opponents:
+        who += f" ({_names(pc.top_opponents)})"
+    how = "better" if points > 0 else "worse"
+    much = "a bit " if abs(points) < 10 else ""
+    more = "more" if points > 0 else "less"
+    return f"{who} did {how} elsewhere, so your results against them count for {much}{more}: {signed(points)}."
+
+
+def _group(pc: "PlayerChange", points: int, context: Context) -> str:
+    label = division_label(pc.division)
+    label = label[0].upper() + label[1:]
+    moves = "lifts" if points > 0 else "lowers"
+    if context.group_played_others:
+        how = "did well" if points > 0 else "did less well"
+        event = context.group_event
+        at = "" if not event else f" at {event}" if event.casefold().startswith("the ") else f" at the {event}"
+        return f"{label} as a whole {how} against the other divisions{at}, which {moves} everyone in it: {signed(points)}."
+    way = "up" if points > 0 else "down"
+    return f"{label} as a whole moved {way} this week, which {moves} everyone in it: {signed(points)}."
+
+
+def _corrections(points: int, context: Context) -> str:
+    rows = context.edited_rows + context.removed_rows
+    if rows:
+        how = "corrected" if not context.removed_rows else "removed" if not context.edited_rows else "corrected or removed"
+        what = f"An earlier result was {how}" if rows == 1 else f"Earlier results were {how}"
+    if context.settings_changed and rows:
+        return f"{what} and the league's settings changed: {signed(points)}."
+    if context.settings_changed:
+        return f"The league's settings changed: {signed(points)}."
+    if rows:
+        return f"{what}: {signed(points)}."
+    return f"Earlier ratings were recalculated: {signed(points)}."
+
+
+def sentence(pc: "PlayerChange", context: Context = Context()) -> str:
+    """One or two short sentences saying, in plain words, why the player's rating moved."""
+    if context.first_update or pc.is_new:
+        return f"First rating: based on {_games(pc.games)}."
+    _, _, change, *shown = pc.shown
+    values = list(pc.parts)
+    big = worth_a_word(values, shown)
+    order = sorted((k for k in range(4) if big[k]), key=lambda k: -abs(values[k]))
+    away = pc.days_away is not None and pc.days_away >= LONG_GAP_DAYS
+    lead = []
+    if pc.played and away:
+        lead.append(f"Back after {_months(pc.days_away)}.")
+    elif not pc.played and order:
+        lead.append(f"You have not played for {_months(pc.days_away)}." if away else "You did not play this week.")
+    if not order:
+        return " ".join(lead + ["No change." if change == 0 else f"Hardly any change: {signed(change)}."])
+    clauses = []
+    for k in order[: 2 if pc.played else 1]:
+        if k == 0:
+            clauses.append(_own(pc, shown[0]))
+        elif k == 1:
+            clauses.append(_opponents(pc, shown[1]))
+        elif k == 2:
+            clauses.append(_group(pc, shown[2], context))
+        else:
+            clauses.append(_corrections(shown[3], context))
+    return " ".join(lead + clauses)
