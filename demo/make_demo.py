@@ -40,6 +40,7 @@ import csv
 import datetime as dt
 import math
 import sys
+import shutil
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -48,6 +49,7 @@ from openpyxl import Workbook
 from openpyxl.styles import Font
 
 HERE = Path(__file__).resolve().parent
+PACKAGE_DATA = HERE.parent / "secretary" / "data"
 try:
     from secretary.workbook import schema
 except ImportError:  # run from a checkout without installing the package
@@ -443,8 +445,14 @@ def main(argv=None) -> None:
     parser.add_argument("--out", type=Path, default=HERE, help="folder to write into (default: demo/)")
     parser.add_argument("--seed", type=int, default=SEED)
     args = parser.parse_args(argv)
-    for path in write_demo(args.out, args.seed).values():
+    paths = write_demo(args.out, args.seed)
+    for path in paths.values():
         print(f"wrote {path} ({path.stat().st_size // 1024} KB)")
+    if args.out == HERE:  # the installed package carries a copy for `secretary demo`
+        for name in ("league.xlsx", "new-week.csv"):
+            packaged = PACKAGE_DATA / f"demo-{name}"
+            shutil.copyfile(paths[name], packaged)
+            print(f"wrote {packaged}")
 
 
 if __name__ == "__main__":

@@ -1,0 +1,232 @@
+"""The command line: a thin shell over the pipeline.
+
+Exit codes: 0 done; 1 the workbook has problems (or was refused) and nothing
+was written; 2 usage error; 3 something went wrong inside the tool (a bug:
+the details are in the log file named on screen).
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from pathlib import Path
+
+from secretary import __version__
+from secretary.errors import SecretaryError, WorkbookProblems
+
+EXIT_DONE, EXIT_PROBLEMS, EXIT_USAGE, EXIT_BUG = 0, 1, 2, 3
+
+DESCRIPTION = """\
+Weekly player ratings for a cue-sports league, from its own Excel workbook.
+
+Every player's rating is worked out together from all the league's results,
+written back into the workbook with its uncertainty (±), an exact account of
+why each rating changed, a printable notice board, a watch list and fair
+handicap races.  Ratings are estimates: the league committee makes the
+decisions.  Run with no command to open the window.
+"""
+
+EPILOG = """\
+exit codes: 0 done; 1 the workbook has problems or was refused (nothing was
+written); 2 the command was not understood; 3 an unexpected error (details
+in the log file named on screen)."""
+
+
+class ProgressBar:
+    """A progress bar on stderr that appears only once the work has taken more than a second."""
+
+    def __init__(self, stream=sys.stderr, delay: float = 1.0):
+        self.stream, self.delay, self.start = stream, delay, time.monotonic()
+        self.shown = False
+
+    def __call__(self, stage: str, fraction: float) -> None:
+        if time.monotonic() - self.start < self.delay and fraction < 1.0:
+            return
+        if fraction >= 1.0 and not self.shown:
+            return
+        self.shown = True
+        width = 24
+        filled = int(round(width * min(max(fraction, 0.0), 1.0)))
+        line = f"[{'#' * filled}{'.' * (width - filled)}] {fraction:4.0%} {stage}"
+        if self.stream.isatty():
+            self.stream.write("\r" + line.ljust(72) + ("\n" if fraction >= 1.0 else ""))
+        else:
+            self.stream.write(line + "\n")
+        self.stream.flush()
+
+
+def _signed(x: float) -> str:
+    return f"{x:+.0f}"
+
+
+def summary(outcome) -> list[str]:
+    """The update in a few lines for the terminal."""
+    book, fit, bd = outcome.book, outcome.fit, outcome.breakdown
+    name = book.settings.league_name or outcome.path.stem
+    games = int(round(sum(r.games_a + r.games_b for r in book.results if not r.void)))
+    lines = [f"{name}: ratings as of {outcome.log.reference_date:%d %b %Y}",
+             f"  {len(fit.names)} players, {outcome.log.rows_rated} results ({games} games)."]
+    if bd.first_update:
+        lines.append("  First ratings for this workbook: the next update will explain every change.")
+        if bd.note:
+            lines.append(f"  {bd.note}")
+    else:
+        c = bd.changes
+        lines.append(f"  Since the last update: {len(c.new)} new, {len(c.edited)} edited, {len(c.removed)} removed result rows.")
+        movers = sorted((p for p in bd.players if not p.is_new), key=lambda p: -abs(p.change))[:5]
+        if movers:
+            lines.append("  Biggest changes: " + "; ".join(
+                f"{p.name} {_signed(p.shown[2])} ({p.shown[0]} -> {p.shown[1]})" for p in movers))
+    flagged = [d for d in outcome.watch.divisions if d.flagged]
+    held = [h for h in outcome.watch.held if h.flagged]
+    if flagged or held or outcome.watch.pools:
+        lines.append("  Watch list:")
+        lines += [f"    - {p.what_to_do}" for p in outcome.watch.pools]
+        lines += [f"    - {d.division}: {d.what_to_do}" for d in flagged]
+        lines += [f"    - {h.name}: {h.what_to_do}" for h in held]
+    lines += [f"  Note: {note}" for note in outcome.notes]
+    if book.warnings:
+        lines.append(f"  {len(book.warnings)} warning(s); see the Problems sheet:")
+        lines += [f"    - {w}" for w in book.warnings[:5]]
+        if len(book.warnings) > 5:
+            lines.append(f"    ... and {len(book.warnings) - 5} more")
+    if outcome.written is None:
+        lines.append("  Dry run: nothing was written.")
+    else:
+        lines.append(f"  {outcome.reason}")
+        lines.append(f"  Ratings written to: {outcome.written}")
+        if outcome.backup:
+            lines.append(f"  Previous version kept in: {outcome.backup}")
+        if outcome.notice_pdf:
+            lines.append(f"  Notice board (PDF): {outcome.notice_pdf}")
+    return lines
+
+
+def _print_problems(problems, stream=sys.stdout) -> None:
+    errors = [p for p in problems if p.is_error]
+    warnings = [p for p in problems if not p.is_error]
+    if errors:
+        print(f"{len(errors)} error(s) to fix before the ratings can be updated:", file=stream)
+        for p in errors:
+            print(f"  - {p}", file=stream)
+    if warnings:
+        print(f"{len(warnings)} warning(s) (the update can go ahead):", file=stream)
+        for p in warnings:
+            print(f"  - {p}", file=stream)
+
+
+def cmd_update(args) -> int:
+    from secretary.pipeline import run_update
+
+    outcome = run_update(args.workbook, out=args.out, dry_run=args.dry_run, progress=ProgressBar())
+    print("\n".join(summary(outcome)))
+    return EXIT_DONE
+
+
+def cmd_check(args) -> int:
+    from secretary.pipeline import check_workbook
+
+    book = check_workbook(args.workbook)
+    if not book.problems:
+        print(f"{Path(args.workbook).name}: no problems found ({len(book.results)} result rows).")
+        return EXIT_DONE
+    _print_problems(book.problems)
+    return EXIT_PROBLEMS if book.has_errors else EXIT_DONE
+
+
+def cmd_new(args) -> int:
+    from secretary.pipeline import new_league
+
+    path = new_league(args.workbook)
+    print(f"A blank league workbook is ready: {path}\nFill in the Results sheet (and Players, Settings if you like), then run: secretary update \"{path}\"")
+    return EXIT_DONE
+
+
+def cmd_restore(args) -> int:
+    from secretary.pipeline import restore
+
+    backup = restore(args.workbook)
+    print(f"Restored {args.workbook} from {backup.name}. The version it replaced was kept as a backup too.")
+    return EXIT_DONE
+
+
+def cmd_demo(args) -> int:
+    from secretary.pipeline import run_demo
+
+    first, second = run_demo(args.folder, progress=ProgressBar())
+    print(f"The demo league is in {Path(args.folder).resolve()}.")
+    print("First update (first ratings):")
+    print("\n".join(summary(first)[:3]))
+    print("\nThen the new week's results (new-week.csv) were added and the ratings updated again:")
+    print("\n".join(summary(second)))
+    return EXIT_DONE
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(prog="secretary", description=DESCRIPTION, epilog=EPILOG,
+                                     formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--version", action="version", version=f"secretary {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    p = sub.add_parser("update", help="the weekly update: check, rate, explain, write back safely")
+    p.add_argument("workbook", help="the league workbook (.xlsx or .xlsm)")
+    p.add_argument("--dry-run", action="store_true", help="do everything except write: shows what the update would do")
+    p.add_argument("--out", metavar="FILE", help="write the updated workbook to FILE instead of over the original")
+    p.set_defaults(run=cmd_update)
+
+    p = sub.add_parser("check", help="only check the workbook for problems; nothing is written")
+    p.add_argument("workbook", help="the league workbook")
+    p.set_defaults(run=cmd_check)
+
+    p = sub.add_parser("new", help="make a blank league workbook from the template")
+    p.add_argument("workbook", help="the file to create (it must not exist yet)")
+    p.set_defaults(run=cmd_new)
+
+    p = sub.add_parser("restore", help="bring back the previous version of the workbook from its backups folder")
+    p.add_argument("workbook", help="the league workbook")
+    p.set_defaults(run=cmd_restore)
+
+    p = sub.add_parser("demo", help="copy the invented demo league to FOLDER and update it twice")
+    p.add_argument("folder", nargs="?", default="secretary-demo", help="where to put it (default: ./secretary-demo)")
+    p.set_defaults(run=cmd_demo)
+    return parser
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as stop:  # argparse exits 2 on usage errors, 0 on --help
+        return int(stop.code or 0)
+    if getattr(args, "run", None) is None:
+        return open_window(None)
+    try:
+        return args.run(args)
+    except WorkbookProblems as err:
+        print(err)
+        _print_problems(err.problems)
+        return EXIT_PROBLEMS
+    except SecretaryError as err:
+        print(err, file=sys.stderr)
+        return EXIT_PROBLEMS
+    except KeyboardInterrupt:
+        print("Stopped; the workbook was not changed.", file=sys.stderr)
+        return EXIT_PROBLEMS
+    except Exception:  # a bug: never a traceback on screen
+        from secretary.userdirs import log_exception
+
+        log = log_exception(f"secretary {' '.join(argv or sys.argv[1:])}")
+        print(f"Something went wrong inside secretary; the workbook was not changed. "
+              f"The details are in the log file at {log}", file=sys.stderr)
+        return EXIT_BUG
+
+
+def open_window(workbook) -> int:
+    """Open the desktop window (once it is available)."""
+    print("The window is not available yet; use the commands below.", file=sys.stderr)
+    build_parser().print_help()
+    return EXIT_USAGE
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,232 @@
+"""One weekly update: read -> check -> fit -> explain -> diagnose -> write.
+
+Knows no UI: the command line and the window call these functions with a
+progress callback ``progress(stage, fraction)`` and a cancel flag (anything
+with ``is_set()``, e.g. ``threading.Event``).  Nothing is written until every
+stage has finished; a cancelled or failed update leaves the workbook as it was.
+"""
+from __future__ import annotations
+
+import csv
+import datetime as dt
+import shutil
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Callable, Protocol
+
+from secretary import __version__
+from secretary.errors import Cancelled, FileRefused, WorkbookProblems
+from secretary.model.breakdown import Breakdown, explain_changes
+from secretary.model.diagnose import describe
+from secretary.model.fixtures import FixtureForecast, forecast_fixtures
+from secretary.model.league import LeagueFit, fit_league
+from secretary.model.linkage import WatchList, watch_list
+from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
+from secretary.report.notice import write_notice_pdf
+from secretary.workbook import fidelity, save, schema, state
+from secretary.workbook.fixtures_sheet import write_fixture_columns
+from secretary.workbook.notice_sheet import write_notice
+from secretary.workbook.read import LeagueBook, read_workbook
+from secretary.workbook.template import new_workbook
+from secretary.workbook.watch_sheet import write_watch
+from secretary.workbook.why_sheet import write_why
+from secretary.workbook.write import write_history, write_log, write_problems, write_ratings
+
+Progress = Callable[[str, float], None]
+DATA = Path(__file__).resolve().parent / "data"
+
+
+class CancelFlag(Protocol):
+    def is_set(self) -> bool: ...
+
+
+@dataclass(frozen=True)
+class UpdateOutcome:
+    """What one update did, for the summary on screen."""
+
+    path: Path  # the secretary's workbook
+    written: Path | None  # where the outputs went (None for a dry run)
+    companion: bool  # outputs went to the companion workbook
+    reason: str  # plain words about the save
+    backup: Path | None
+    notice_pdf: Path | None
+    book: LeagueBook
+    fit: LeagueFit
+    ratings: tuple[PlayerRating, ...]
+    breakdown: Breakdown
+    watch: WatchList
+    forecasts: tuple[FixtureForecast, ...]
+    log: UpdateLog
+    notes: tuple[str, ...]  # the pre-fit diagnosis in league words
+
+
+def _quiet(stage: str, fraction: float) -> None:
+    pass
+
+
+def _step(progress: Progress, cancel: CancelFlag | None, stage: str, fraction: float) -> None:
+    if cancel is not None and cancel.is_set():
+        raise Cancelled("The update was cancelled; the workbook was not changed.")
+    progress(stage, fraction)
+
+
+def check_workbook(path: str | Path) -> LeagueBook:
+    """Read and check the workbook; nothing is written."""
+    return read_workbook(path)
+
+
+def notice_pdf_path(path: str | Path) -> Path:
+    """Where the PDF notice board of a workbook goes: beside it."""
+    path = Path(path)
+    return path.with_name(f"{path.stem} - notice board.pdf")
+
+
+def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRating, ...]:
+    by_name = {c.name: c for c in breakdown.players}
+    games, wins, ratings, sds = fit.games, fit.wins, fit.ratings, fit.sds
+    out = []
+    for k, name in enumerate(fit.names):
+        change = by_name.get(name)
+        is_new = breakdown.first_update or change is None or change.is_new
+        out.append(PlayerRating(
+            name=name, division=fit.group_names[fit.group[k]], rating=float(ratings[k]), sd=float(sds[k]),
+            games=float(games[k]), wins=float(wins[k]), last_played=fit.last_played[k],
+            change=None if is_new else float(change.change), is_new=is_new))
+    return tuple(out)
+
+
+def _target(path: Path, out: Path | None):
+    """The workbook to write the tool's sheets into, and where it will be saved."""
+    lost = fidelity.unsupported_content(path)
+    if out is not None:
+        return save.load_for_update(path), Path(out), lost
+    if lost:
+        companion = save.companion_path(path)
+        if companion.exists():
+            return save.load_for_update(companion), companion, lost
+        from openpyxl import Workbook  # a fresh companion holds only the tool's sheets
+
+        wb = Workbook()
+        wb.remove(wb.active)
+        return wb, companion, lost
+    return save.load_for_update(path), path, lost
+
+
+def run_update(
+    path: str | Path,
+    *,
+    out: str | Path | None = None,
+    dry_run: bool = False,
+    progress: Progress | None = None,
+    cancel: CancelFlag | None = None,
+    now: dt.datetime | None = None,
+) -> UpdateOutcome:
+    """The weekly update of the workbook at ``path``.
+
+    Raises ``WorkbookProblems`` (nothing written) when the checks find errors,
+    ``Cancelled`` when the cancel flag is set, ``FileRefused`` when the file
+    cannot be read or must not be overwritten.
+    """
+    progress = progress or _quiet
+    path = Path(path)
+    _step(progress, cancel, "Reading the workbook", 0.0)
+    wb, target, lost = _target(path, Path(out) if out else None)
+    book = read_workbook(path, wb=wb if target == path else None)
+    if book.has_errors:
+        raise WorkbookProblems(book.problems)
+    published = book.state
+    if published is None and target != path and target.exists():
+        published = state.read_state(wb)  # the companion keeps the record when the workbook cannot
+    settings = book.settings
+
+    _step(progress, cancel, "Rating every player", 0.25)
+    fit = fit_league(book.results, settings, players=book.players)
+    _step(progress, cancel, "Working out why ratings changed", 0.5)
+    breakdown = explain_changes(book.results, published, settings, book.players,
+                                state_missing=published is None and _was_updated_before(book), current=fit)
+    _step(progress, cancel, "Looking for divisions that need linking", 0.65)
+    watch = watch_list(fit, book.results)
+    forecasts = forecast_fixtures(book.fixtures, fit)
+    ratings = _published_ratings(fit, breakdown)
+
+    stamp = (now or dt.datetime.now()).replace(microsecond=0).isoformat(sep=" ")
+    rated = [r for r in book.results if not r.void]
+    changes = breakdown.changes
+    log = UpdateLog(
+        updated_at=stamp, version=__version__, reference_date=fit.reference_date or dt.date.today(),
+        rows_read=len(book.results), rows_rated=len(rated), new_rows=len(changes.new),
+        changed_rows=len(changes.edited), removed_rows=len(changes.removed), settings=settings,
+        warnings=tuple(str(p) for p in book.warnings[:50]) + tuple(lost))
+    new_state = PublishedState(
+        updated_at=stamp, reference_date=log.reference_date,
+        ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
+        rows=tuple((identity(r), fingerprint(r)) for r in rated), settings=settings)
+
+    _step(progress, cancel, "Writing the sheets", 0.75)
+    write_ratings(wb, ratings, settings)
+    write_why(wb, breakdown, settings)
+    write_watch(wb, watch)
+    write_notice(wb, breakdown, ratings, settings)
+    write_history(wb, log.reference_date, ratings)
+    write_log(wb, log)
+    write_problems(wb, book.warnings)
+    companion = bool(lost) and out is None
+    if book.fixtures and not companion:
+        write_fixture_columns(wb, forecasts, settings)
+    state.write_state(wb, new_state)
+
+    written = backup = pdf = None
+    reason = "Dry run: nothing was written."
+    if not dry_run:
+        _step(progress, cancel, "Saving the workbook safely", 0.9)
+        saved = save.save_workbook(wb, target)
+        written, backup = saved.path, saved.backup
+        reason = saved.reason
+        if companion:
+            reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
+                      f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
+        pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
+    progress("Done", 1.0)
+    return UpdateOutcome(
+        path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
+        book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch, forecasts=forecasts,
+        log=log, notes=tuple(describe(fit.diagnosis, fit.names)))
+
+
+def _was_updated_before(book: LeagueBook) -> bool:
+    """The tool's Ratings sheet is there, so a missing record means it was deleted."""
+    return schema.RATINGS_SHEET in book.sheet_names
+
+
+def new_league(path: str | Path) -> Path:
+    """A blank league workbook from the template."""
+    return new_workbook(path)
+
+
+def restore(path: str | Path) -> Path:
+    """Bring back the previous version of the workbook from its backups."""
+    return save.restore_previous(path)
+
+
+def append_results_csv(path: str | Path, csv_path: str | Path) -> int:
+    """Add the rows of a CSV (Results columns) to the workbook's Results sheet, saved safely."""
+    from secretary.workbook.append import append_results
+
+    with open(csv_path, newline="", encoding="utf-8") as handle:
+        rows = list(csv.DictReader(handle))
+    return append_results(path, rows)
+
+
+def run_demo(folder: str | Path = "secretary-demo", progress: Progress | None = None) -> tuple[UpdateOutcome, UpdateOutcome]:
+    """Copy the invented demo league to ``folder``, give it first ratings, add the new week and update again."""
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    workbook = folder / "league.xlsx"
+    if workbook.exists():
+        raise FileRefused(f"{workbook} already exists; choose another folder or remove it first.")
+    shutil.copyfile(DATA / "demo-league.xlsx", workbook)
+    shutil.copyfile(DATA / "demo-new-week.csv", folder / "new-week.csv")
+    first = run_update(workbook, progress=progress)
+    append_results_csv(workbook, folder / "new-week.csv")
+    second = run_update(workbook, progress=progress)
+    return first, second
