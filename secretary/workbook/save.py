@@ -1,0 +1,369 @@
+"""Saving the secretary's workbook safely: never half-written, checked, with backups to go back to.
+
+A save writes a new file beside the workbook, reads it back, copies the old
+version into `backups/`, then swaps the new file in with one `os.replace`.
+Any failure before the swap leaves the original untouched.
+
+Load a workbook that will be saved with `load_for_update`: an .xlsm must be
+loaded with `keep_vba=True` or its macros are lost, and a workbook loaded with
+`data_only=True` holds values in place of formulas and must never be saved
+over the original.
+
+When the workbook holds content openpyxl would drop (see `fidelity`), the
+tool's sheets go to a companion workbook `<name> (ratings).xlsx` beside it
+instead, and the original is left alone.  The next update must then read the
+state (and history, log) from `companion_path(path)`.
+"""
+from __future__ import annotations
+
+import contextlib
+import datetime as dt
+import errno
+import math
+import os
+import re
+import secrets
+import shutil
+import time
+import zipfile
+from dataclasses import dataclass
+from pathlib import Path
+
+from openpyxl import load_workbook
+from openpyxl.workbook.defined_name import DefinedNameDict
+from openpyxl.workbook.workbook import Workbook
+
+from secretary.errors import FileRefused
+from secretary.workbook.fidelity import unsupported_content
+from secretary.workbook.guard import check_readable
+from secretary.workbook.schema import OUTPUT_SHEETS
+
+BACKUP_FOLDER = "backups"
+_TEMP_PREFIX = ".~secretary-"
+_STALE_TEMP_SECONDS = 3600
+_VBA_PART = "xl/vbaProject.bin"
+
+
+@dataclass(frozen=True)
+class SaveOutcome:
+    """Where the outputs went and why."""
+
+    path: Path  # the file written: the workbook itself or its companion
+    backup: Path | None  # the copy of the previous version, if there was one
+    companion: bool  # True when the outputs went to the companion workbook
+    reason: str  # plain words for the secretary
+
+
+def load_for_update(path: str | Path) -> Workbook:
+    """Load a workbook the way a later save needs it: formulas kept, macros kept for .xlsm."""
+    path = check_readable(path)
+    return load_workbook(path, keep_vba=_has_macros_suffix(path), keep_links=True)
+
+
+def companion_path(path: str | Path) -> Path:
+    """The companion workbook that receives the outputs when the workbook cannot be saved safely."""
+    path = Path(path)
+    return path.with_name(f"{path.stem} (ratings).xlsx")
+
+
+def lock_files(path: str | Path) -> list[Path]:
+    """Lock files beside `path` saying it is open in Excel (~$name) or LibreOffice (.~lock.name#)."""
+    path = Path(path)
+    name = path.name
+    # Excel shortens long names by their first characters; accept those forms too.
+    candidates = [f"~${name}", f"~${name[1:]}", f"~${name[2:]}", f".~lock.{name}#"]
+    return [path.with_name(c) for c in dict.fromkeys(candidates) if path.with_name(c).exists()]
+
+
+def backups_of(path: str | Path) -> list[Path]:
+    """The backups of this workbook, newest first."""
+    path = Path(path)
+    folder = path.parent / BACKUP_FOLDER
+    if not folder.is_dir():
+        return []
+    pattern = re.compile(re.escape(path.stem) + r"-(\d{8}-\d{6})(?:-(\d+))?" + re.escape(path.suffix) + "$")
+    found = []
+    for item in folder.iterdir():
+        match = pattern.match(item.name)
+        if match and item.is_file():
+            found.append(((match.group(1), int(match.group(2) or 1)), item))
+    return [item for _, item in sorted(found, reverse=True)]
+
+
+def save_workbook(wb: Workbook, path: str | Path, *, keep: int = 10) -> SaveOutcome:
+    """Save safely over `path` (or to its companion when `path` holds content openpyxl would lose)."""
+    path = Path(path)
+    if getattr(wb, "_data_only", False):
+        raise ValueError("this workbook was loaded with data_only=True; saving it would replace formulas by values")
+    if keep < 1:
+        raise ValueError("keep at least one backup")
+    lost = unsupported_content(path) if path.exists() else []
+    if not lost:
+        if _has_macros_suffix(path) and wb.vba_archive is None:
+            raise ValueError(f"{path.name} has macros: load it with load_for_update() so that they are kept")
+        backup = _save_checked(wb, path, keep)
+        return SaveOutcome(path, backup, False, f"Saved {path.name}.")
+    target = companion_path(path)
+    with _only_tool_sheets(wb):
+        backup = _save_checked(wb, target, keep)
+    reason = (
+        f"{path.name} holds content this tool cannot carry through a save unchanged "
+        f"({'; '.join(lost)}). To keep it safe, {path.name} was not changed and the results "
+        f"were written to {target.name} beside it."
+    )
+    return SaveOutcome(target, backup, True, reason)
+
+
+def restore_previous(path: str | Path, *, keep: int = 10) -> Path:
+    """Bring back the newest backup; the current file is backed up first, so a restore can be undone."""
+    path = Path(path)
+    backups = backups_of(path)
+    if not backups:
+        raise FileRefused(
+            f"There is no earlier version of {path.name} to restore: the '{BACKUP_FOLDER}' folder "
+            f"beside it holds no copy of it."
+        )
+    _refuse_if_open(path)
+    previous = backups[0]
+    temp = _new_temp(path)
+    try:
+        shutil.copyfile(previous, temp)
+        _copy_mode(path, temp)
+        if not zipfile.is_zipfile(temp):
+            raise FileRefused(f"The backup {previous.name} is damaged and cannot be restored; try an older one.")
+        if path.exists():
+            _backup(path)
+        _replace(temp, path)
+    except BaseException:
+        _remove(temp)
+        raise
+    _prune(path, keep)
+    return previous
+
+
+def _save_checked(wb: Workbook, target: Path, keep: int) -> Path | None:
+    """Write a temp file, check it, back up the old file, swap; the old file survives any failure."""
+    _refuse_if_open(target)
+    _remove_stale_temps(target)
+    temp = _new_temp(target)
+    backup = None
+    try:
+        try:
+            _write_temp(wb, temp)
+        except OSError as exc:
+            raise _plain_os_error(exc, target) from exc
+        _check_copy(wb, temp, target)
+        _copy_mode(target, temp)
+        if target.exists():
+            backup = _backup(target)
+        _replace(temp, target)
+    except BaseException:
+        _remove(temp)
+        raise
+    _prune(target, keep)
+    return backup
+
+
+def _write_temp(wb: Workbook, temp: Path) -> None:
+    """Write the workbook to the temp file (a seam the fault tests replace)."""
+    wb.save(temp)
+
+
+def _refuse_if_open(path: Path) -> None:
+    locks = lock_files(path)
+    if locks:
+        program = "LibreOffice" if locks[0].name.startswith(".~lock.") else "Excel"
+        raise FileRefused(
+            f"{path.name} is open in another program ({program}). Close it there and try again. "
+            f"If it is not open anywhere, delete the leftover lock file '{locks[0].name}' beside it."
+        )
+
+
+def _new_temp(target: Path) -> Path:
+    """An empty temp file in the target's folder (same disk, so the final swap is atomic)."""
+    name = target.parent / f"{_TEMP_PREFIX}{secrets.token_hex(6)}{target.suffix}"
+    try:
+        # Not mkstemp: its files are private (0600); this one gets the usual permissions.
+        fd = os.open(name, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o666)
+    except OSError as exc:
+        raise FileRefused(
+            f"Cannot save in the folder '{target.parent}': it does not accept new files "
+            f"(it may be read-only, full, or you may lack permission). Copy the workbook to a folder "
+            f"you can write to, such as your Documents, and try again. ({exc.strerror})"
+        ) from exc
+    os.close(fd)
+    return Path(name)
+
+
+def _plain_os_error(exc: OSError, target: Path) -> FileRefused:
+    if exc.errno == errno.ENOSPC:
+        why = "the disk is full"
+    elif isinstance(exc, PermissionError):
+        why = "permission was refused"
+    else:
+        why = exc.strerror or str(exc)
+    return FileRefused(f"Could not write the new version of {target.name} ({why}). {target.name} was not changed.")
+
+
+def _replace(temp: Path, target: Path) -> None:
+    try:
+        os.replace(temp, target)
+    except PermissionError as exc:
+        raise FileRefused(
+            f"{target.name} could not be replaced: it is probably open in another program. "
+            f"Close it there and try again. Nothing was changed."
+        ) from exc
+    except OSError as exc:
+        raise _plain_os_error(exc, target) from exc
+
+
+def _copy_mode(target: Path, temp: Path) -> None:
+    """Give the new file the old one's permissions (a temp file starts private to its owner)."""
+    if target.exists():
+        shutil.copymode(target, temp)
+
+
+def _remove(path: Path) -> None:
+    with contextlib.suppress(OSError):
+        path.unlink()
+
+
+def _remove_stale_temps(target: Path) -> None:
+    """Temp files left by a save that was killed; old ones only, so a running save is not disturbed."""
+    now = time.time()
+    for item in target.parent.glob(_TEMP_PREFIX + "*" + target.suffix):
+        with contextlib.suppress(OSError):
+            if now - item.stat().st_mtime > _STALE_TEMP_SECONDS:
+                item.unlink()
+
+
+# ------------------------------------------------------------------ read-back check
+
+
+def _check_copy(wb: Workbook, temp: Path, target: Path) -> None:
+    """Read the new file back: same sheets, the tool's sheets cell for cell, the others' sizes."""
+    try:
+        copy = load_workbook(temp, read_only=True, keep_links=False)
+    except Exception as exc:  # any failure to read means the copy is not fit to replace the original
+        raise _check_failed(target, f"it cannot be read: {exc}") from exc
+    try:
+        if copy.sheetnames != wb.sheetnames:
+            raise _check_failed(target, "its sheets differ")
+        for name in wb.sheetnames:
+            mine, theirs = wb[name], copy[name]
+            if not hasattr(mine, "iter_rows"):
+                continue  # a chart sheet holds no cells
+            if name in OUTPUT_SHEETS:
+                if _cells(mine) != _cells(theirs):
+                    raise _check_failed(target, f"sheet '{name}' does not read back as written")
+            elif (mine.max_row, mine.max_column) != (theirs.max_row, theirs.max_column):
+                raise _check_failed(target, f"sheet '{name}' changed size")
+    finally:
+        copy.close()
+    if _has_macros_suffix(target):
+        _check_macros(temp, target, wb)
+
+
+def _cells(ws) -> list[tuple]:
+    """A sheet's values, comparable across a save (dates as date-times, floats to 15 digits)."""
+    rows = [tuple(_comparable(v) for v in row) for row in ws.iter_rows(values_only=True)]
+    rows = [row[: _used_length(row)] for row in rows]
+    while rows and not rows[-1]:
+        rows.pop()
+    return rows
+
+
+def _used_length(row: tuple) -> int:
+    n = len(row)
+    while n and row[n - 1] is None:
+        n -= 1
+    return n
+
+
+def _comparable(value: object) -> object:
+    if isinstance(value, float) and math.isfinite(value) and not value.is_integer():
+        # openpyxl writes 16 significant digits; rounding both sides the same way compares exactly
+        # (rounding to 15 would round twice on one side and could differ in the last digit).
+        return float(f"{value:.16g}")
+    if isinstance(value, dt.datetime):
+        return value
+    if isinstance(value, dt.date):
+        return dt.datetime.combine(value, dt.time())
+    return None if value == "" else value
+
+
+def _check_macros(temp: Path, target: Path, wb: Workbook) -> None:
+    if target.exists():
+        with zipfile.ZipFile(target) as z:
+            before = z.read(_VBA_PART) if _VBA_PART in z.namelist() else None
+    else:
+        before = wb.vba_archive.read(_VBA_PART) if wb.vba_archive and _VBA_PART in wb.vba_archive.namelist() else None
+    if before is None:
+        return
+    with zipfile.ZipFile(temp) as z:
+        after = z.read(_VBA_PART) if _VBA_PART in z.namelist() else None
+    if after != before:
+        raise _check_failed(target, "its macros were not kept")
+
+
+def _check_failed(target: Path, why: str) -> FileRefused:
+    return FileRefused(
+        f"The new version of {target.name} did not pass the check after saving ({why}), "
+        f"so {target.name} was not changed. Please report this."
+    )
+
+
+def _has_macros_suffix(path: Path) -> bool:
+    return path.suffix.lower() in (".xlsm", ".xltm")
+
+
+# ------------------------------------------------------------------ backups
+
+
+def _backup(path: Path) -> Path:
+    """Copy the current file into backups/<stem>-<date-time><ext>."""
+    folder = path.parent / BACKUP_FOLDER
+    try:
+        folder.mkdir(exist_ok=True)
+    except OSError as exc:
+        raise _plain_os_error(exc, path) from exc
+    stamp = dt.datetime.now().strftime("%Y%m%d-%H%M%S")
+    dest, n = folder / f"{path.stem}-{stamp}{path.suffix}", 1
+    while dest.exists():
+        n += 1
+        dest = folder / f"{path.stem}-{stamp}-{n}{path.suffix}"
+    try:
+        shutil.copy2(path, dest)
+    except OSError as exc:
+        _remove(dest)
+        raise _plain_os_error(exc, path) from exc
+    return dest
+
+
+def _prune(path: Path, keep: int) -> None:
+    """Keep the newest `keep` backups; a failure here never undoes a good save."""
+    for old in backups_of(path)[keep:]:
+        _remove(old)
+
+
+# ------------------------------------------------------------------ companion workbook
+
+
+@contextlib.contextmanager
+def _only_tool_sheets(wb: Workbook):
+    """For the length of a save, show openpyxl only the tool's sheets (the caller's workbook is restored)."""
+    sheets = wb._sheets[:]
+    saved = (wb._active_sheet_index, wb.vba_archive, wb.defined_names, wb._external_links, wb.template)
+    kept = [ws for ws in sheets if ws.title in OUTPUT_SHEETS]
+    visible = [i for i, ws in enumerate(kept) if ws.sheet_state == "visible"]
+    if not visible:
+        raise ValueError("nothing to save in the companion workbook: no visible sheet of the tool's")
+    try:
+        wb._sheets[:] = kept
+        wb._active_sheet_index = visible[0]
+        # The secretary's names, links and macros refer to sheets left out; an .xlsx holds no macros.
+        wb.vba_archive, wb.defined_names, wb._external_links, wb.template = None, DefinedNameDict(), [], False
+        yield
+    finally:
+        wb._sheets[:] = sheets
+        wb._active_sheet_index, wb.vba_archive, wb.defined_names, wb._external_links, wb.template = saved

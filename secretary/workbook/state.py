@@ -1,0 +1,100 @@
+"""The very-hidden state sheet: what the previous update published, for the next update's breakdown.
+
+The state is one JSON document (floats in full precision, every text escaped to
+ASCII so that no cell can hold a character XML refuses) cut into cells of
+column B.  One cell holds about 800 result rows, so 100 000 rows take some 130
+cells: far cheaper to write and read than one sheet row per result.
+"""
+from __future__ import annotations
+
+import datetime as dt
+import json
+import math
+from dataclasses import fields
+
+from openpyxl.workbook.workbook import Workbook
+
+from secretary.model.records import PublishedState, Settings
+from secretary.workbook.schema import STATE_SHEET
+from secretary.workbook.style import put, replace_sheet
+
+FORMAT = 1
+_CHUNK = 30000  # characters per cell, under Excel's 32 767
+_TITLE = "Kept by the secretary tool for the next update. Do not edit; deleting it only loses next week's breakdown."
+
+
+def write_state(wb: Workbook, state: PublishedState) -> None:
+    """Write (replace) the very-hidden state sheet."""
+    for name, value in (*state.ratings.items(), *state.sds.items()):
+        if not math.isfinite(value):
+            raise ValueError(f"published rating of {name!r} is not a finite number: {value!r}")
+    document = {
+        "format": FORMAT,
+        "updated_at": state.updated_at,
+        "reference_date": state.reference_date.isoformat(),
+        "settings": {f.name: getattr(state.settings, f.name) for f in fields(Settings)},
+        "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
+        "rows": [[identity, fp] for identity, fp in state.rows],
+    }
+    text = json.dumps(document, ensure_ascii=True, separators=(",", ":"))
+    ws = replace_sheet(wb, STATE_SHEET)
+    put(ws.cell(1, 1), _TITLE)
+    put(ws.cell(2, 1), "format")
+    ws.cell(2, 2).value = FORMAT
+    for i, start in enumerate(range(0, len(text), _CHUNK)):
+        put(ws.cell(3 + i, 1), "data")
+        put(ws.cell(3 + i, 2), text[start:start + _CHUNK])
+    ws.sheet_state = "veryHidden"
+
+
+def read_state(wb: Workbook) -> PublishedState | None:
+    """The state written by the previous update; None when absent or damaged (never raises)."""
+    if STATE_SHEET not in wb.sheetnames:
+        return None
+    try:
+        ws = wb[STATE_SHEET]
+        chunks = [
+            row[1]
+            for row in ws.iter_rows(min_row=3, max_col=2, values_only=True)
+            if row[0] == "data" and isinstance(row[1], str)
+        ]
+        return _parse(json.loads("".join(chunks)))
+    except Exception:  # a damaged or hand-edited sheet only costs the breakdown
+        return None
+
+
+def _parse(doc: dict) -> PublishedState | None:
+    if doc.get("format") != FORMAT:
+        return None
+    ratings, sds = {}, {}
+    for name, (rating, sd) in doc["ratings"].items():
+        ratings[str(name)], sds[str(name)] = _finite(rating), _finite(sd)
+    defaults = Settings()
+    stored = doc.get("settings", {})
+    settings = Settings(**{
+        f.name: _same_kind(stored.get(f.name), getattr(defaults, f.name)) for f in fields(Settings)
+    })
+    rows = tuple((str(identity), str(fp)) for identity, fp in doc["rows"])
+    return PublishedState(
+        updated_at=str(doc["updated_at"]),
+        reference_date=dt.date.fromisoformat(doc["reference_date"]),
+        ratings=ratings,
+        sds=sds,
+        rows=rows,
+        settings=settings,
+    )
+
+
+def _finite(value: object) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        raise ValueError("not a finite number")
+    return float(value)
+
+
+def _same_kind(value: object, default: object) -> object:
+    """A stored setting of the default's type, or the default when missing or of another type."""
+    if value is None or isinstance(value, bool):
+        return default
+    if isinstance(default, float) and isinstance(value, (int, float)):
+        return float(value)
+    return value if type(value) is type(default) else default

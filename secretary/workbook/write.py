@@ -1,0 +1,204 @@
+"""Writers of the tool's sheets: Ratings, Rating history (with its chart), Update log, Problems."""
+from __future__ import annotations
+
+import datetime as dt
+from typing import Sequence
+
+from openpyxl.chart import LineChart, Reference
+from openpyxl.chart.data_source import AxDataSource, StrRef
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.workbook import Workbook
+
+from secretary.model.records import PlayerRating, Problem, Settings, UpdateLog
+from secretary.workbook.schema import (
+    HISTORY_SHEET,
+    LOG_SHEET,
+    PROBLEMS_SHEET,
+    RATINGS_SHEET,
+    SETTINGS_TABLE,
+)
+from secretary.workbook.style import (
+    CHANGE_FORMAT,
+    DATE_FORMAT,
+    GAMES_FORMAT,
+    RATING_FORMAT,
+    SD_FORMAT,
+    TIME_FORMAT,
+    header_row,
+    remove_sheet,
+    replace_sheet,
+    write_table,
+)
+
+RATINGS_HEADERS = ("Rank", "Player", "Division", "Rating", "±", "Games", "Change", "Last played", "Note")
+LOG_HEADERS = (
+    "Time", "Version", "Reference date", "Rows read", "Rows rated",
+    "New rows", "Changed rows", "Removed rows", "Settings", "Warnings",
+)
+PROBLEM_HEADERS = ("Severity", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
+CHART_PLAYERS = 10
+NEW_NOTE = "new this update"
+FEW_GAMES_NOTE = "few games: rating still uncertain"
+
+
+def ranked(ratings: Sequence[PlayerRating]) -> list[tuple[int, PlayerRating]]:
+    """Players best first with their rank; players whose shown ratings are equal share a rank."""
+    order = sorted(ratings, key=lambda p: (-p.rating, p.name.casefold()))
+    out, rank, shown_before = [], 0, None
+    for position, player in enumerate(order, start=1):
+        shown = round(player.rating)
+        if shown != shown_before:
+            rank, shown_before = position, shown
+        out.append((rank, player))
+    return out
+
+
+def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Settings) -> None:
+    """Rewrite the Ratings sheet, best rating first."""
+    rows = []
+    for rank, p in ranked(ratings):
+        new = p.is_new or p.change is None
+        notes = [NEW_NOTE] if new else []
+        if p.games < settings.few_games:
+            notes.append(FEW_GAMES_NOTE)
+        rows.append((
+            rank, p.name, p.division, p.rating, p.sd, p.games,
+            None if new else p.change, p.last_played, "; ".join(notes),
+        ))
+    ws = replace_sheet(wb, RATINGS_SHEET)
+    write_table(
+        ws, RATINGS_HEADERS, rows, freeze="C2",
+        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Games": GAMES_FORMAT,
+                 "Change": CHANGE_FORMAT, "Last played": DATE_FORMAT},
+    )
+
+
+def write_history(wb: Workbook, date: dt.date, ratings: Sequence[PlayerRating]) -> None:
+    """Add (or overwrite) this reference date's column of Rating history and redraw its chart."""
+    names, history = _read_history(wb)
+    column = {}
+    for p in ratings:
+        key = p.name.casefold()
+        names[key] = p.name  # the newest spelling wins
+        column[key] = p.rating
+    history[date] = column
+    dates = sorted(history)
+    now_rated = [p.name.casefold() for _, p in ranked(ratings)]
+    others = sorted((k for k in names if k not in column), key=lambda k: names[k].casefold())
+    rows = [[names[k], *(history[d].get(k) for d in dates)] for k in now_rated + others]
+    headers = ["Player", *(d.isoformat() for d in dates)]
+    ws = replace_sheet(wb, HISTORY_SHEET)
+    write_table(ws, headers, rows, freeze="B2", formats={h: RATING_FORMAT for h in headers[1:]})
+    _add_chart(ws, len(headers), min(CHART_PLAYERS, len(now_rated)))
+
+
+def _read_history(wb: Workbook) -> tuple[dict[str, str], dict[dt.date, dict[str, float]]]:
+    """The existing history: names by folded key, and per date the ratings by folded key."""
+    names: dict[str, str] = {}
+    history: dict[dt.date, dict[str, float]] = {}
+    if HISTORY_SHEET not in wb.sheetnames:
+        return names, history
+    ws = wb[HISTORY_SHEET]
+    columns = {}
+    for col, text in enumerate(header_row(ws)[1:], start=1):
+        day = _as_date(text)
+        if day is not None:
+            columns[col] = day
+            history.setdefault(day, {})
+    for row in ws.iter_rows(min_row=2, values_only=True):
+        if not row or not isinstance(row[0], str) or not row[0].strip():
+            continue
+        key = row[0].casefold()
+        names[key] = row[0]
+        for col, day in columns.items():
+            value = row[col] if col < len(row) else None
+            if isinstance(value, (int, float)) and not isinstance(value, bool):
+                history[day][key] = float(value)
+    return names, history
+
+
+def _as_date(text: str) -> dt.date | None:
+    try:
+        return dt.date.fromisoformat(text[:10])
+    except ValueError:
+        return None
+
+
+def _add_chart(ws, n_columns: int, n_players: int) -> None:
+    """A line chart of the top players' ratings over the update dates (straight lines)."""
+    if n_players == 0:
+        return
+    chart = LineChart()
+    chart.title = f"Top {n_players} ratings over time"
+    chart.y_axis.title = "Rating"
+    chart.x_axis.title = "Update"
+    # openpyxl 3.1 marks axes as deleted unless told otherwise.
+    chart.x_axis.delete = False
+    chart.y_axis.delete = False
+    chart.height, chart.width = 9, 18  # cm
+    for row in range(2, 2 + n_players):
+        chart.add_data(Reference(ws, min_col=1, max_col=n_columns, min_row=row), from_rows=True,
+                       titles_from_data=True)
+    dates = AxDataSource(strRef=StrRef(f=str(Reference(ws, min_col=2, max_col=n_columns, min_row=1))))
+    for series in chart.series:
+        series.cat = dates  # the date headers are text, so a text reference (numRef would show 1, 2, 3)
+        series.smooth = False  # a rating moves in steps between updates; a curve would invent values
+    ws.add_chart(chart, f"{get_column_letter(n_columns + 2)}2")
+
+
+def write_log(wb: Workbook, entry: UpdateLog) -> None:
+    """Append one row to the Update log (earlier rows are kept)."""
+    old_rows = []
+    if LOG_SHEET in wb.sheetnames:
+        ws = wb[LOG_SHEET]
+        where = {h.casefold(): i for i, h in enumerate(header_row(ws))}
+        for row in ws.iter_rows(min_row=2, values_only=True):
+            if any(v is not None for v in row):
+                old_rows.append([_pick(row, where.get(h.casefold())) for h in LOG_HEADERS])
+    new_row = [
+        _as_time(entry.updated_at), entry.version, entry.reference_date, entry.rows_read,
+        entry.rows_rated, entry.new_rows, entry.changed_rows, entry.removed_rows,
+        settings_text(entry.settings), "; ".join(entry.warnings),
+    ]
+    ws = replace_sheet(wb, LOG_SHEET)
+    write_table(ws, LOG_HEADERS, [*old_rows, new_row],
+                formats={"Time": TIME_FORMAT, "Reference date": DATE_FORMAT})
+
+
+def _pick(row: tuple, index: int | None) -> object:
+    return row[index] if index is not None and index < len(row) else None
+
+
+def _as_time(text: str) -> object:
+    """An ISO timestamp as an Excel date-time (Excel has no time zones); the text if unreadable."""
+    try:
+        return dt.datetime.fromisoformat(text).replace(tzinfo=None, microsecond=0)
+    except ValueError:
+        return text
+
+
+def settings_text(settings: Settings) -> str:
+    """The settings in one short line, e.g. 'Centre 1500; Scale 400; ...'."""
+    parts = []
+    for spec in SETTINGS_TABLE:
+        value = getattr(settings, spec.field)
+        if value == "":
+            continue
+        if isinstance(value, float) and value.is_integer():
+            value = int(value)
+        parts.append(f"{spec.label} {value}")
+    return "; ".join(parts)
+
+
+def write_problems(wb: Workbook, problems: Sequence[Problem]) -> None:
+    """Rewrite the Problems sheet, errors first; remove it when there is nothing to report."""
+    if not problems:
+        remove_sheet(wb, PROBLEMS_SHEET)
+        return
+    ordered = sorted(problems, key=lambda p: not p.is_error)
+    rows = [
+        (p.severity.capitalize(), p.sheet, p.row, p.column, p.found, p.problem, p.fix)
+        for p in ordered
+    ]
+    ws = replace_sheet(wb, PROBLEMS_SHEET)
+    write_table(ws, PROBLEM_HEADERS, rows, widths={"Problem": 60, "What to do": 60})
