@@ -35,8 +35,8 @@ in the log file named on screen)."""
 class ProgressBar:
     """A progress bar on stderr that appears only once the work has taken more than a second."""
 
-    def __init__(self, stream=sys.stderr, delay: float = 1.0):
-        self.stream, self.delay, self.start = stream, delay, time.monotonic()
+    def __init__(self, stream=None, delay: float = 1.0):
+        self.stream, self.delay, self.start = stream or sys.stderr, delay, time.monotonic()
         self.shown = False
 
     def __call__(self, stage: str, fraction: float) -> None:
@@ -102,7 +102,8 @@ def summary(outcome) -> list[str]:
     return lines
 
 
-def _print_problems(problems, stream=sys.stdout) -> None:
+def _print_problems(problems, stream=None) -> None:
+    stream = stream or sys.stdout
     errors = [p for p in problems if p.is_error]
     warnings = [p for p in problems if not p.is_error]
     if errors:

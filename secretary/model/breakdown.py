@@ -15,6 +15,29 @@ opponents part is the remainder).  ``BR_i(x, D, t)`` is player i's best
 strength with every other player frozen at ``x``: a one-dimensional convex
 problem, solved for all players at once (``best_response``).
 
+Choices made here (the contract leaves them open):
+
+- Both fits share one player order (the current fit's), so ``R0`` gives a
+  player with no row in ``D0`` exactly their starting rating: a newcomer's
+  "previous" rating is their prior mean and their corrections part is 0.
+  ``R0``'s fit starts from ``P`` (warm start).
+- Groups are the current fit's divisions (Players sheet, else the division
+  played most); ``d_g`` averages over every player counted in the division.
+- The first update (or a missing record) runs the same arithmetic with
+  ``D0`` empty and ``P`` = the starting ratings; ``Breakdown.first_update``
+  tells writers to show first ratings only.
+- This week's games, games won and expected games count the new rows only;
+  "expected" is the sum over those games of the chance at the pre-week
+  strengths ``R0`` (last week's rows, today's settings), the point from which
+  the own part is measured.
+- Opponents: the linearisation ``dBR_i/dr_j`` integrated along the path from
+  ``R0 + d`` to ``R1`` (3-point Gauss-Legendre), so that each opponent's
+  share is exact up to the quadrature error and the shares add up to the
+  opponents part (measured: within 1e-6 points on a 500-player league).
+- ``ageing`` (part of ``own``): ``BR(R0, D0, t1) - R0``, what the older games
+  losing weight alone would do; for a player who did not play it *is* the
+  own part.
+
 Everything inside is in natural log-odds; ``PlayerChange`` carries points.
 """
 from __future__ import annotations
@@ -23,14 +46,14 @@ import datetime as dt
 import math
 from collections import Counter
 from dataclasses import dataclass, replace
-from typing import Iterable, Mapping, Sequence
+from typing import Mapping, Sequence
 
 import numpy as np
 from scipy.special import expit
 
 from secretary.model.changes import DataChanges, all_new, compare_rows
 from secretary.model.league import LeagueFit, fit_league
-from secretary.model.pairs import Pairs
+from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, PublishedState, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
 from secretary.model.sentences import Context, sentence
@@ -72,6 +95,7 @@ class PlayerChange:
     top_opponents: tuple[tuple[str, float], ...]
     sentence: str
     games: int = 0  # every rated game now, unweighted
+    ageing: float = 0.0  # points of ``own`` that the ageing of older games alone would give (no new games)
     days_away: int | None = None  # days since the previous game: before this week's first game, or to the reference date
 
     @property
@@ -160,7 +184,7 @@ def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 
     return y  # bisection halves the bracket every step: 200 steps leave it far below tol
 
 
-def _opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
+def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     """Each pair's share of ``BR(end) - BR(start)`` for both players, by integrating the linearisation.
 
     ``dBR_i/dx_j = n_ij p(1-p) / (sum_k n_ik p(1-p) + 1/sd^2)`` with
@@ -244,20 +268,23 @@ def _order_players(fit: LeagueFit, players: Sequence[Player]) -> list[Player]:
     return [Player(name, starting=starting.get(name)) for name in fit.names]
 
 
-def _week_games(rows: Iterable[Result], index: Mapping[str, int], r0, n: int):
-    """This update's new games per player: played, won, and expected at the strengths ``r0``."""
-    rows = [res for res in rows if not res.void]
+def _rows_pairs(rows: Sequence[Result], index: Mapping[str, int], reference_date=None, half_life_days: float = 0.0) -> Pairs:
+    """Games per pair for ``rows`` in a given player order; age-weighted from ``reference_date`` when a half-life is given."""
     a = np.array([index[res.player_a] for res in rows], dtype=np.int64)
     b = np.array([index[res.player_b] for res in rows], dtype=np.int64)
     ga = np.array([res.games_a for res in rows], dtype=float)
     gb = np.array([res.games_b for res in rows], dtype=float)
-    if not rows:
-        return np.zeros(n), np.zeros(n), np.zeros(n)
-    p = expit(r0[a] - r0[b])
-    played = np.bincount(a, ga + gb, n) + np.bincount(b, ga + gb, n)
-    won = np.bincount(a, ga, n) + np.bincount(b, gb, n)
-    expected = np.bincount(a, (ga + gb) * p, n) + np.bincount(b, (ga + gb) * (1 - p), n)
-    return played, won, expected
+    age = np.array([max((reference_date - res.date).days, 0) if half_life_days else 0 for res in rows], dtype=float)
+    return aggregate(a, b, ga, gb, len(index), age_weights(age, half_life_days))
+
+
+def _week_games(rows: Sequence[Result], index: Mapping[str, int], r0):
+    """This update's new games per player (unweighted): played, won, and expected at the strengths ``r0``."""
+    week = _rows_pairs(rows, index)
+    p = expit(r0[week.i] - r0[week.j])
+    n = week.n_players
+    expected = np.bincount(week.i, week.total * p, n) + np.bincount(week.j, week.total * (1 - p), n)
+    return week.games_per_player(), week.wins_per_player(), expected
 
 
 def _group_events(new_rows: Sequence[Result], home: Mapping[str, str]) -> tuple[dict[str, str], set[str]]:
@@ -307,6 +334,7 @@ def explain_changes(
     first = published is None
     if first:
         changes = all_new(results_now)
+        previous = ()
         r0 = mu.copy()
         p = mu.copy()
         was_published = np.zeros(n, dtype=bool)
@@ -343,18 +371,25 @@ def explain_changes(
     group_part = br_shift - br0
     opponents = r1 - r0 - own - group_part
 
-    to_i, to_j = _opponent_shares(pairs, shifted, r1, mu, sd)
+    # The ageing share of the own part: last update's rows weighed at today's reference date, no new games.
+    if not previous:
+        ageing = np.zeros(n)
+    else:
+        old_pairs = _rows_pairs(previous, index, fit1.reference_date, settings.half_life_days)
+        ageing = best_response(old_pairs, r0, mu, sd) - r0
+
+    to_i, to_j = opponent_shares(pairs, shifted, r1, mu, sd)
     top = _top_opponents(pairs, to_i * ppl, to_j * ppl, opponents, names)
 
     played_all = np.zeros(n)  # every rated game now, unweighted
     last_before: dict[str, dt.date] = {}  # each player's latest game among last update's rows
     first_new: dict[str, dt.date] = {}  # each player's first new game
-    for rows, book, pick in ((changes.previous_data, last_before, max), (changes.new, first_new, min)):
+    for rows, book, pick in ((previous, last_before, max), (changes.new, first_new, min)):
         for res in rows:
             for name in (res.player_a, res.player_b):
                 played_all[index[name]] += res.games_a + res.games_b
                 book[name] = pick(book.get(name, res.date), res.date)
-    new_played, new_won, new_expected = _week_games(changes.new, index, r0, n)
+    new_played, new_won, new_expected = _week_games(changes.new, index, r0)
 
     home = {name: fit1.group_names[group[k]] for k, name in enumerate(names)}
     events, crossed = _group_events(changes.new, home)
@@ -365,6 +400,7 @@ def explain_changes(
         settings_changed=changed,
         edited_rows=changes.edited_rows,
         removed_rows=changes.removed_rows,
+        dates_moved_back=bool(t0 and t1 and t1 < t0),
     )
 
     out = []
@@ -399,6 +435,7 @@ def explain_changes(
             sentence="",
             games=int(played_all[k]),
             days_away=away,
+            ageing=float(ageing[k] * ppl),
         )
         context = replace(
             context_base,

@@ -3,9 +3,9 @@
 One template per cause.  A part is *worth a word* when it moved the player by
 at least ``MIN_POINTS`` points, by at least ``MIN_SHARE`` of the largest part,
 and shows as a non-zero whole number; smaller parts are never named as a
-cause.  A player who played gets up to two clauses (largest parts first); a
-player who did not play gets "You did not play this week." and the largest
-part's clause.  Figures quoted are the shown whole points, and the games
+cause.  Never more than two sentences: the two largest parts' clauses, or,
+when a lead is needed ("You did not play this week.", "Back after 7
+months."), the lead and the largest part's clause.  Figures quoted are the shown whole points, and the games
 quoted are this update's new games with the number the player's pre-week
 rating expected them to win (the sum over those games of the pre-week chance).
 """
@@ -34,6 +34,7 @@ class Context:
     removed_rows: int = 0
     group_event: str = ""  # the usual event name of the division's games against other divisions
     group_played_others: bool = False  # the division had new games against other divisions
+    dates_moved_back: bool = False  # the newest result is older than last time's (the latest rows were removed)
 
 
 def signed(points: int) -> str:
@@ -72,7 +73,9 @@ def division_label(division: str) -> str:
     return f"the {division} division"
 
 
-def _own(pc: "PlayerChange", points: int) -> str:
+def _own(pc: "PlayerChange", points: int, context: Context) -> str:
+    if not pc.played and context.dates_moved_back:
+        return f"The newest results were taken out, so your older games count a little more again: {signed(points)}."
     if not pc.played:
         return f"Your older games now count a little less, which moves you back toward the starting rating: {signed(points)}."
     diff = pc.new_won - pc.new_expected
@@ -84,10 +87,13 @@ def _own(pc: "PlayerChange", points: int) -> str:
     else:
         phrase = "about as many as your rating expected"
     head = f"You won {pc.new_won} of {_games(pc.new_games)} this week, {phrase}"
-    if abs(diff) >= 0.05 and (diff > 0) == (points > 0):
+    ageing_counts = abs(pc.ageing) >= MIN_POINTS and abs(pc.ageing) >= MIN_SHARE * abs(pc.own)
+    if not ageing_counts:  # (games that disagree in sign can only come from very uneven age weights)
         return f"{head}: {signed(points)}."
-    # The new games did not pull this way: the ageing of older games did.
-    return f"{head}, but your older games now count a little less: {signed(points)} in all."
+    # Older games losing weight moved the player too (toward the starting rating).
+    joint = "but" if abs(diff) >= 0.05 and (diff > 0) != (pc.ageing > 0) else "and"
+    less = "more" if context.dates_moved_back else "less"
+    return f"{head}, {joint} your older games now count {less}: {signed(points)} in all."
 
 
 def _opponents(pc: "PlayerChange", points: int) -> str:
@@ -139,14 +145,14 @@ def sentence(pc: "PlayerChange", context: Context = Context()) -> str:
     lead = []
     if pc.played and away:
         lead.append(f"Back after {_months(pc.days_away)}.")
-    elif not pc.played and order:
+    elif not pc.played and order and order[0] != 3:  # a correction needs no "you did not play"
         lead.append(f"You have not played for {_months(pc.days_away)}." if away else "You did not play this week.")
     if not order:
         return " ".join(lead + ["No change." if change == 0 else f"Hardly any change: {signed(change)}."])
     clauses = []
-    for k in order[: 2 if pc.played else 1]:
+    for k in order[: 1 if lead else 2]:  # never more than two sentences
         if k == 0:
-            clauses.append(_own(pc, shown[0]))
+            clauses.append(_own(pc, shown[0], context))
         elif k == 1:
             clauses.append(_opponents(pc, shown[1]))
         elif k == 2:
