@@ -1,0 +1,1 @@
+"""Reading and writing the league's workbook: the only package that imports openpyxl."""
