@@ -8,7 +8,7 @@ from openpyxl import load_workbook
 
 from secretary.workbook.fidelity import unsupported_content
 
-import xlsx_samples as S
+from tests.workbook import xlsx_samples as S
 
 NOTES_PART = "xl/worksheets/sheet2.xml"  # the sample's second sheet, 'Club notes'
 R_NS = 'xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"'

@@ -15,8 +15,8 @@ from secretary.workbook.save import load_for_update, save_workbook
 from secretary.workbook.state import read_state
 from secretary.workbook.write import write_history, write_ratings
 
-import xlsx_samples as S
-from test_save import _write_outputs
+from tests.workbook import xlsx_samples as S
+from tests.workbook.test_save import _write_outputs
 
 pytestmark = [
     pytest.mark.slow,

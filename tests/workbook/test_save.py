@@ -28,7 +28,7 @@ from secretary.workbook.schema import HISTORY_SHEET, LOG_SHEET, RATINGS_SHEET, S
 from secretary.workbook.state import read_state, write_state
 from secretary.workbook.write import write_history, write_log, write_ratings
 
-import xlsx_samples as S
+from tests.workbook import xlsx_samples as S
 
 REPO = Path(__file__).resolve().parents[2]
 
@@ -152,7 +152,7 @@ CHILD = textwrap.dedent("""
     import sys
     sys.path.insert(0, sys.argv[2])
     sys.path.insert(0, sys.argv[3])
-    from test_save import _write_outputs
+    from tests.workbook.test_save import _write_outputs
     from secretary.workbook.save import load_for_update, save_workbook
     wb = load_for_update(sys.argv[1])
     _write_outputs(wb, 0, n=3000)

@@ -17,7 +17,7 @@ from secretary.workbook.style import (
     write_table,
 )
 
-from xlsx_samples import FORMULA_NAMES
+from tests.workbook.xlsx_samples import FORMULA_NAMES
 
 TRICKY = (*FORMULA_NAMES, "#N/A", "=", "  spaced  ")
 
