@@ -36,7 +36,10 @@ from secretary.model.fit import LaplacianPattern, pair_curvature
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
 
-FACTOR_LIMIT = 20000  # players: up to this many, solves use a sparse LU factor; above, Jacobi-CG
+# Players up to which solves use a sparse LU factor; above, Jacobi-preconditioned CG.  Leagues
+# whose divisions mix at random fill the factor in badly (10,000 players: 30 M entries, 40 s),
+# while CG stays near-linear (2 s); at 1,500 players both take a fraction of a second.
+FACTOR_LIMIT = 1500
 ACTIVE_DAYS = 60  # a player counts as active when they played this recently (before the reference date)
 CANDIDATES_PER_GROUP = 30  # most active players per division (or pool) considered for linking matches
 CANDIDATES_MAX = 300  # bound on all candidates: the greedy search costs O(candidates^2) per pick
@@ -393,8 +396,9 @@ def _suggest(fit, solver, targets, target_names, X, var) -> list[LinkingMatch]:
             target=target_names[t],
             sd_before=float(sd_before[t]),
             sd_after=float(sd_after[t]),
-            what_to_do=(f"Arrange {name_a} v {name_b}, race to {settings.usual_race}: the ± of "
-                        f"{target_names[t]}'s level would drop from {sd_before[t]:.0f} to {sd_after[t]:.0f} points."),
+            what_to_do=(f"Arrange {name_a} v {name_b}, race to {settings.usual_race}: the level of "
+                        f"{target_names[t]} would then be known to ±{sd_after[t]:.0f} points "
+                        f"instead of ±{sd_before[t]:.0f}."),
         ))
     return out
 
@@ -425,7 +429,8 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
     pool_sizes = np.bincount(pool, minlength=1) if n else np.zeros(0, dtype=np.int64)
     separate = [k for k in range(1, len(pool_sizes)) if pool_sizes[k] >= 2]
     pool_members = pool[:, None] == np.array(separate, dtype=np.int64)[None, :]
-    U = level_vectors(np.hstack([members, pool_members]))
+    M = np.hstack([members, pool_members])
+    U = level_vectors(M)
     var_post, X = level_variance(solver, U) if n else (np.zeros(U.shape[1]), U)
     var_prior = s2 * np.sum(U**2, axis=0)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -438,7 +443,7 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
     cross_games = np.bincount(gi[cross], pairs.total[cross], n_groups) + np.bincount(gj[cross], pairs.total[cross], n_groups)
     player_cross = np.bincount(pairs.i[cross], pairs.total[cross], n) + np.bincount(pairs.j[cross], pairs.total[cross], n)
     recent = _recent_cross_games(fit, results) if results is not None else None
-    ratings = fit.ratings
+    ratings, games = fit.ratings, fit.games
     mean_rating = float(ratings.mean()) if n else settings.centre
 
     divisions = []
@@ -446,7 +451,8 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
         inside = np.flatnonzero(members[:, g])
         linkers = inside[player_cross[inside] > 0]
         linkers = linkers[np.argsort(-player_cross[linkers], kind="stable")]
-        flagged = bool(n_groups > 1 and share[g] < settings.weakly_linked_below)
+        # A division nobody in it has played for yet has nothing to tie in: not flagged.
+        flagged = bool(n_groups > 1 and share[g] < settings.weakly_linked_below and games[inside].sum() > 0)
         label = _label(name)
         if not flagged:
             todo = ""
@@ -471,9 +477,11 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
             flagged=flagged,
             what_to_do=todo,
         ))
+    divisions_by_name = {d.division: d for d in divisions}
     divisions.sort(key=lambda d: (not d.flagged, d.linked_share, d.division))
 
-    held = _held_players(fit, h, share[:n_groups])
+    weak_group = np.array([divisions_by_name[name].flagged for name in fit.group_names], dtype=bool)
+    held = _held_players(fit, h, share[:n_groups], weak_group)
 
     pools = []
     for col, k in enumerate(separate):
@@ -491,17 +499,17 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
         ))
 
     # Targets for linking matches: weakly linked divisions and separate pools (once per set of players).
-    weak = [g for g in range(n_groups) if n_groups > 1 and share[g] < settings.weakly_linked_below]
+    weak = [int(g) for g in np.flatnonzero(weak_group)]
     cols, seen, names_t = [], set(), []
     for col in weak + [n_groups + c for c in range(len(separate))]:
-        key = tuple(np.flatnonzero(U[:, col] > 0))
+        key = tuple(np.flatnonzero(M[:, col]))
         if key in seen:
             continue
         seen.add(key)
         cols.append(col)
         names_t.append(_label(fit.group_names[col]) if col < n_groups else
-                       f"the pool of {fit.names[key[0]]} and {len(key) - 1} others")
-    targets = U[:, cols] > 0
+                       f"the pool of {fit.names[key[0]]} and {len(key) - 1} other{'s' if len(key) > 2 else ''}")
+    targets = M[:, cols]
     suggestions = _suggest(fit, solver, targets, names_t, X[:, cols], var_post[cols]) if n else []
 
     return WatchList(
@@ -513,7 +521,7 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
     )
 
 
-def _held_players(fit, h: np.ndarray, share: np.ndarray) -> list[HeldPlayer]:
+def _held_players(fit, h: np.ndarray, share: np.ndarray, weak_group: np.ndarray) -> list[HeldPlayer]:
     """Players whose surplus z-score reaches ``held_z``: flagged in weakly linked divisions."""
     settings = fit.settings
     pairs = fit.pairs
@@ -528,8 +536,7 @@ def _held_players(fit, h: np.ndarray, share: np.ndarray) -> list[HeldPlayer]:
         z = np.where(L > 0, pull / np.sqrt(L), 0.0)
         held_pts = np.where(L > 0, pull / L, 0.0) * ppl
     big = np.flatnonzero(z >= settings.held_z)
-    weak = share[fit.group[big]] < settings.weakly_linked_below
-    weak &= len(fit.group_names) > 1
+    weak = weak_group[fit.group[big]]
     flagged = big[weak]
     others = big[~weak]
     flagged = flagged[np.argsort(-z[flagged], kind="stable")]

@@ -1,0 +1,136 @@
+"""The Watch list sheet: separate pools, divisions, players held by the starting rating, linking matches."""
+from __future__ import annotations
+
+from typing import Sequence
+
+from openpyxl.styles import Alignment, Font
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
+
+from secretary.model.linkage import NO_DIVISION, WatchList
+from secretary.workbook.schema import WATCH_SHEET
+from secretary.workbook.style import DATE_FORMAT, GAMES_FORMAT, RATING_FORMAT, SD_FORMAT, put, replace_sheet
+
+SHARE_FORMAT = "0%"
+Z_FORMAT = "0.0"
+SIGNED_FORMAT = "+0;-0;0"
+YES = "yes"
+NOTHING = "Nothing to report."
+TODO = "What to do"
+
+POOL_HEADERS = ("Players", "Divisions", "Games among themselves", "± of their level", TODO)
+DIVISION_HEADERS = (
+    "Division", "Players", "Average rating", "Against the rest", "± of its level", "Linked share",
+    "Games against other divisions", "Recent games against other divisions", "Players who link it",
+    "Needs attention", TODO,
+)
+HELD_HEADERS = (
+    "Player", "Division", "Rating", "Games", "Won", "Expected at their rating", "Points held back",
+    "How surprising (z)", "Division's linked share", "Needs attention", TODO,
+)
+MATCH_HEADERS = (
+    "Player A", "Division A", "Rating A", "Player B", "Division B", "Rating B", "Race to",
+    "A's chance per game", "Expected games", "Ties in", "± now", "± after", TODO,
+)
+FORMATS = {
+    "Games among themselves": GAMES_FORMAT, "± of their level": SD_FORMAT,
+    "Average rating": RATING_FORMAT, "Against the rest": SIGNED_FORMAT, "± of its level": SD_FORMAT,
+    "Linked share": SHARE_FORMAT, "Games against other divisions": GAMES_FORMAT,
+    "Rating": RATING_FORMAT, "Games": GAMES_FORMAT, "Won": GAMES_FORMAT,
+    "Expected at their rating": GAMES_FORMAT, "Points held back": RATING_FORMAT,
+    "How surprising (z)": Z_FORMAT, "Division's linked share": SHARE_FORMAT,
+    "Rating A": RATING_FORMAT, "Rating B": RATING_FORMAT, "A's chance per game": SHARE_FORMAT,
+    "Expected games": GAMES_FORMAT, "± now": SD_FORMAT, "± after": SD_FORMAT,
+}
+SHOWN_NAMES = 12  # players listed by name in one cell before "and N more"
+WIDEST = 40  # characters for data columns; the what-to-do column gets TODO_WIDTH
+TODO_WIDTH = 90
+
+BOLD = Font(bold=True)
+HEADING = Font(bold=True, size=13)
+
+
+def _division(name: str) -> str:
+    return name or NO_DIVISION
+
+
+def _listing(names: Sequence[str]) -> str:
+    shown = ", ".join(names[:SHOWN_NAMES])
+    return shown + (f" and {len(names) - SHOWN_NAMES} more" if len(names) > SHOWN_NAMES else "")
+
+
+def _section(ws: Worksheet, row: int, title: str, note: str, headers: Sequence[str],
+             rows: Sequence[Sequence[object]], widths: dict[int, int]) -> int:
+    """Heading, one explanatory line, column headers and rows from ``row``; returns the next free row."""
+    put(ws.cell(row, 1), title)
+    ws.cell(row, 1).font = HEADING
+    put(ws.cell(row + 1, 1), note)
+    row += 2
+    for col, header in enumerate(headers, start=1):
+        cell = ws.cell(row, col)
+        put(cell, header)
+        cell.font = BOLD
+        cell.alignment = Alignment(wrap_text=True, vertical="top")
+        widths[col] = max(widths.get(col, 0), min(len(header), 16))
+    row += 1
+    if not rows:
+        put(ws.cell(row, 1), NOTHING)
+        return row + 2
+    for values in rows:
+        for col, (header, value) in enumerate(zip(headers, values), start=1):
+            if value is None or value == "":
+                continue
+            put(ws.cell(row, col), value, FORMATS.get(header))
+            if header != TODO:
+                widths[col] = max(widths.get(col, 0), min(len(str(value)) if isinstance(value, str) else 8, WIDEST))
+        row += 1
+    return row + 1
+
+
+def write_watch(wb: Workbook, watch: WatchList) -> None:
+    """Rewrite the Watch list sheet from a ``WatchList``."""
+    ws = replace_sheet(wb, WATCH_SHEET)
+    widths: dict[int, int] = {}
+    put(ws.cell(1, 1), "Watch list")
+    ws.cell(1, 1).font = Font(bold=True, size=15)
+    if watch.reference_date is not None:
+        put(ws.cell(2, 1), "Results up to")
+        put(ws.cell(2, 2), watch.reference_date, DATE_FORMAT)
+    row = 4
+    if watch.pools:
+        row = _section(
+            ws, row, "Separate pools",
+            "These players have played nobody outside their own group, so their ratings can be "
+            "compared only with each other.", POOL_HEADERS,
+            [(_listing(p.players), ", ".join(_division(d) for d in p.divisions), p.games, p.level_sd,
+              p.what_to_do) for p in watch.pools], widths)
+    row = _section(
+        ws, row, "Divisions",
+        "Linked share: how much of a division's level is pinned down by games against other "
+        "divisions (0% = only the starting assumption, 100% = fully tied in).", DIVISION_HEADERS,
+        [(_division(d.division), d.players, d.level, d.relative_level, d.level_sd, d.linked_share,
+          d.cross_games, d.recent_cross_games, d.linking_players, YES if d.flagged else "",
+          d.what_to_do) for d in watch.divisions], widths)
+    row = _section(
+        ws, row, "Players held by the starting rating",
+        "Players who keep winning more games than their rating expects: the starting assumption is "
+        "still holding their rating back.", HELD_HEADERS,
+        [(p.name, _division(p.division), p.rating, p.games, p.won, p.expected, p.held_points,
+          p.surplus_z, p.linked_share, YES if p.flagged else "", p.what_to_do) for p in watch.held], widths)
+    _section(
+        ws, row, "Suggested linking matches",
+        "Matches between divisions that would tie weakly linked divisions in fastest. Each line "
+        "assumes the lines above it were played.", MATCH_HEADERS,
+        [(m.player_a, _division(m.division_a), m.rating_a, m.player_b, _division(m.division_b), m.rating_b,
+          m.race, m.chance_a, m.expected_games, m.target, m.sd_before, m.sd_after, m.what_to_do)
+         for m in watch.suggestions], widths)
+    last = max(len(h) for h in (POOL_HEADERS, DIVISION_HEADERS, HELD_HEADERS, MATCH_HEADERS))
+    for col in range(1, last + 1):
+        ws.column_dimensions[get_column_letter(col)].width = widths.get(col, 10) + 2
+    # Printed, the sheet fits the page width (landscape); rows run on over as many pages as needed.
+    ws.page_setup.orientation = "landscape"
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.page_setup.fitToWidth, ws.page_setup.fitToHeight = 1, 0
+    # The what-to-do column sits at a different place in each section: widen the widest one only.
+    ws.column_dimensions[get_column_letter(len(MATCH_HEADERS))].width = TODO_WIDTH

@@ -1,0 +1,391 @@
+"""The watch list: division linkage, players held by the prior, suggested linking matches."""
+import datetime as dt
+import itertools
+import time
+
+import numpy as np
+import pytest
+from scipy.special import expit
+
+from secretary.model.fit import hessian
+from secretary.model.league import fit_league
+from secretary.model.linkage import (
+    HessianSolver,
+    expected_race_games,
+    level_variance,
+    level_vectors,
+    watch_list,
+)
+from secretary.model.records import Player, Result, Settings
+from secretary.model.scale import points_per_logodds
+from tests.bench.make_league import simulate_races
+
+START = dt.date(2025, 1, 6)
+# With the default skill spread (200 points) a surplus z of 2 needs hundreds of straight wins
+# (z ~ sqrt(r) / s for an unbeaten player); the synthetic leagues use a threshold of 1.
+HELD = Settings(held_z=1.0)
+
+
+def race(rng, p):
+    """One race to 5 games, simulated game by game."""
+    a, b = simulate_races(rng, np.array([p]))
+    return int(a[0]), int(b[0])
+
+
+def make_league(seed=1, size=8, levels=None, rounds=2, dominant=None, links=30):
+    """Invented divisions, each playing ``rounds`` round robins; Hill and Town play ``links`` cup matches.
+
+    Returns (results, players, strength, rng) so that callers can add cross-division matches.
+    """
+    rng = np.random.default_rng(seed)
+    levels = levels or {"Hill": 0.0, "Town": -0.3, "Valley": -0.8}
+    players, strength = [], {}
+    for division, level in levels.items():
+        for k in range(size):
+            name = f"{division} {k}"
+            players.append(Player(name, division))
+            strength[name] = level + rng.normal(0.0, 0.5)
+    if dominant:
+        strength[dominant] = 4.0
+    results = []
+
+    def play(a, b, division):
+        day = START + dt.timedelta(days=int(rng.integers(0, 300)))
+        results.append(Result(day, a, b, *race(rng, expit(strength[a] - strength[b])), division))
+
+    for division in levels:
+        names = [p.name for p in players if p.division == division]
+        for _ in range(rounds):
+            for a, b in itertools.combinations(names, 2):
+                play(a, b, division)
+    for _ in range(links):
+        play(f"Hill {rng.integers(size)}", f"Town {rng.integers(size)}", "Cup")
+    return results, players, strength, rng
+
+
+def cross_matches(rng, strength, count, division="Valley"):
+    """``count`` cup matches between a player of ``division`` and one from elsewhere."""
+    inside = sorted(n for n in strength if n.startswith(division))
+    outside = sorted(n for n in strength if not n.startswith(division))
+    out = []
+    for _ in range(count):
+        a, b = inside[rng.integers(len(inside))], outside[rng.integers(len(outside))]
+        day = START + dt.timedelta(days=int(rng.integers(0, 300)))
+        out.append(Result(day, a, b, *race(rng, expit(strength[a] - strength[b])), "Cup"))
+    return out
+
+
+def watch(results, players, settings=HELD):
+    return watch_list(fit_league(results, settings, players=players, with_uncertainty=False), results)
+
+
+# ------------------------------------------------------------------ races
+
+
+def test_expected_race_length_matches_enumeration():
+    # Computed by enumerating every way a race can end: first to 1 is one game; first to 2 at
+    # even chances ends 2-0 or 0-2 (half the time) or after 3 games: 2.5; best of seven at even
+    # chances: 4*1/8 + 5*1/4 + 6*5/16 + 7*5/16 = 5.8125.
+    assert expected_race_games(0.5, 1) == pytest.approx(1.0, abs=1e-12)
+    assert expected_race_games(0.5, 2) == pytest.approx(2.5, abs=1e-12)
+    assert expected_race_games(0.5, 4) == pytest.approx(5.8125, abs=1e-12)
+    # A race between very unequal players is close to its minimum length.
+    assert 5.0 < expected_race_games(0.999, 5) < 5.01
+    # Vectorised, symmetric in p <-> 1 - p, and longest at even chances.
+    p = np.array([0.2, 0.5, 0.8])
+    n = expected_race_games(p, 5)
+    assert n[0] == pytest.approx(n[2], rel=1e-12) and n[1] > n[0]
+
+
+# ------------------------------------------------------------------ flags
+
+
+def test_isolated_division_with_dominant_player_is_flagged():
+    results, players, _, _ = make_league(dominant="Valley 0")
+    wl = watch(results, players)
+    valley = wl.division("Valley")
+    assert valley.flagged and valley.cross_games == 0 and valley.linking_players == 0
+    assert valley.linked_share == pytest.approx(0.0, abs=1e-9)  # no games against others: prior only
+    assert valley.level_sd == pytest.approx(valley.prior_sd, rel=1e-9)
+    assert "Valley" in valley.what_to_do and "suggestions" in valley.what_to_do
+    assert [d.division for d in wl.flagged_divisions] == ["Valley"]
+    assert [p.name for p in wl.flagged_players] == ["Valley 0"]
+    held = wl.flagged_players[0]
+    assert held.surplus_z >= HELD.held_z and held.held_points > 0 and held.won > held.expected
+    assert "outside Valley" in held.what_to_do
+    assert len(wl.suggestions) == HELD.linking_matches
+    for s in wl.suggestions:
+        assert (s.division_a == "Valley") != (s.division_b == "Valley")
+        assert s.target == "Valley" and s.sd_after < s.sd_before
+
+
+def test_held_pull_equals_the_priors_pull_at_the_optimum():
+    # model.md section 4: at the optimum sum w (won - p) = (r_i - mu_i) / s^2 for every player.
+    results, players, _, _ = make_league(dominant="Valley 0")
+    players = [p if p.name != "Hill 1" else Player("Hill 1", "Hill", starting=1650.0) for p in players]
+    settings = HELD.replace(held_z=-10.0)  # list everyone: the identity holds for all
+    fit = fit_league(results, settings, players=players, with_uncertainty=False)
+    wl = watch_list(fit, results)
+    assert len(wl.held) == len(fit.names)
+    for p in wl.held:
+        k = fit.index(p.name)
+        prior_pull = (fit.r[k] - fit.prior_mean[k]) / fit.prior_sd**2
+        assert p.won - p.expected == pytest.approx(prior_pull, abs=1e-6)
+
+
+def test_divisions_nobody_has_played_for_are_not_flagged():
+    players = [Player("Ann Holt", "Hill"), Player("Bea Lusk", "Valley")]
+    wl = watch_list(fit_league([], players=players, with_uncertainty=False))
+    assert [d.linked_share for d in wl.divisions] == [0.0, 0.0]
+    assert wl.flagged_divisions == () and wl.suggestions == ()
+
+
+def test_a_handful_of_cross_division_results_clears_the_flag():
+    results, players, strength, rng = make_league(dominant="Valley 0")
+    before = watch(results, players).division("Valley")
+    more = results + cross_matches(rng, strength, 10)
+    after_list = watch(more, players)
+    after = after_list.division("Valley")
+    assert after.level_sd < 0.7 * before.level_sd
+    assert not after.flagged and after.linked_share >= HELD.weakly_linked_below
+    assert after.recent_cross_games > 0 and after.linking_players > 0
+    assert after_list.flagged_players == () and after_list.suggestions == ()
+
+
+def test_well_linked_league_flags_nothing():
+    results, players, strength, rng = make_league(seed=3)
+    results = results + cross_matches(rng, strength, 60)
+    wl = watch(results, players)
+    assert wl.flagged_divisions == () and wl.flagged_players == ()
+    assert wl.pools == () and wl.suggestions == ()
+    assert all(d.linked_share > 0.8 and d.what_to_do == "" for d in wl.divisions)
+
+
+def test_linked_share_rises_with_cross_division_games():
+    results, players, strength, rng = make_league(seed=5)
+    extra = cross_matches(rng, strength, 40)
+    shares = [watch(results + extra[:k], players).division("Valley").linked_share for k in range(0, 41, 4)]
+    assert shares[0] == pytest.approx(0.0, abs=1e-9)
+    assert np.all(np.diff(shares) > 0), shares
+    assert shares[-1] > 0.8
+
+
+def test_one_division_league_has_nothing_to_link():
+    results, players, _, _ = make_league(levels={"Hill": 0.0}, links=0)
+    wl = watch(results, players)
+    (hill,) = wl.divisions
+    assert hill.linked_share == 1.0 and not hill.flagged and wl.suggestions == ()
+
+
+def test_separate_pool_is_called_out_with_the_prior_as_its_only_anchor():
+    results, players, strength, rng = make_league(seed=7)
+    results = results + cross_matches(rng, strength, 20)
+    # Two newcomers who only ever play each other: their level rests on the starting assumption.
+    island = [Result(START + dt.timedelta(days=k), "Cara Quill", "Dov Reed", 5, 2 + k % 3, "Hill") for k in range(6)]
+    wl = watch(results + island, players + [Player("Cara Quill", "Hill"), Player("Dov Reed", "Hill")])
+    (pool,) = wl.pools
+    assert set(pool.players) == {"Cara Quill", "Dov Reed"} and pool.divisions == ("Hill",)
+    s = HELD.skill_spread
+    n = len(players) + 2
+    prior = s * np.sqrt(1 / 2 - 1 / n)  # s |u|: the pool's mean against everyone's, prior alone
+    assert pool.level_sd == pytest.approx(prior, rel=1e-9)
+    assert "Also known as" in pool.what_to_do
+    assert any(m.target.startswith("the pool of") for m in wl.suggestions)
+    assert all(("Cara Quill" in (m.player_a, m.player_b)) or ("Dov Reed" in (m.player_a, m.player_b))
+               for m in wl.suggestions if m.target.startswith("the pool of"))
+
+
+# ------------------------------------------------------------------ suggestions
+
+
+def _expected_outcome(fit, match, date):
+    """The suggested race entered at its expected outcome (fractional games are fine)."""
+    n, p = match.expected_games, match.chance_a
+    return Result(date, match.player_a, match.player_b, n * p, n * (1 - p), "Cup")
+
+
+def _targets_variance(results, players, settings, names):
+    wl = watch(results, players, settings)
+    ppl = points_per_logodds(settings.scale)
+    return sum((wl.division(d).level_sd / ppl) ** 2 for d in names)
+
+
+def test_suggestions_lower_the_uncertainty_by_what_they_claim_and_beat_random_matches():
+    results, players, strength, rng = make_league(seed=11, dominant="Valley 0", levels={
+        "Hill": 0.0, "Town": -0.3, "Valley": -0.8, "Marsh": -0.5})
+    results = results + cross_matches(rng, strength, 2, "Marsh")
+    settings = HELD
+    fit = fit_league(results, settings, players=players, with_uncertainty=False)
+    wl = watch_list(fit, results)
+    targets = [d.division for d in wl.flagged_divisions]
+    assert set(targets) == {"Valley", "Marsh"}
+    rows = wl.suggestions
+    assert len(rows) == settings.linking_matches
+    # Each row assumes the rows above it were played: refit with them added one by one.
+    added = list(results)
+    for k, row in enumerate(rows):
+        if k:
+            assert row.sd_before == pytest.approx(
+                watch(added, players).division(row.target).level_sd, rel=1e-6)
+        added.append(_expected_outcome(fit, row, fit.reference_date))
+        now = watch(added, players).division(row.target)
+        claimed = row.sd_drop
+        actual = row.sd_before - now.level_sd
+        assert claimed > 0
+        assert actual == pytest.approx(claimed, rel=0.05)
+    # Against the same number of random cross-division races, entered the same way.
+    gain = _targets_variance(results, players, settings, targets) - _targets_variance(added, players, settings, targets)
+    weak = [p.name for p in players if p.division in targets]
+    for seed in range(5):
+        pick = np.random.default_rng(seed)
+        randoms = list(results)
+        for _ in range(len(rows)):
+            a = weak[pick.integers(len(weak))]
+            others = [p.name for p in players if p.division != fit.division(a)]
+            b = others[pick.integers(len(others))]
+            p = float(expit(fit.r[fit.index(a)] - fit.r[fit.index(b)]))
+            n = float(expected_race_games(p, settings.usual_race))
+            randoms.append(Result(fit.reference_date, a, b, n * p, n * (1 - p), "Cup"))
+        random_gain = _targets_variance(results, players, settings, targets) - _targets_variance(
+            randoms, players, settings, targets)
+        assert gain > random_gain
+
+
+def test_no_suggestions_when_asked_for_none():
+    results, players, _, _ = make_league(dominant="Valley 0")
+    wl = watch(results, players, HELD.replace(linking_matches=0))
+    assert wl.suggestions == () and wl.division("Valley").flagged
+
+
+# ------------------------------------------------------------------ sparse against dense
+
+
+def mid_size_fit(seed=0, n_div=6, size=80, matches=6000, cross=0.03):
+    """About 500 players in divisions, ~6000 races, a few per cent between divisions."""
+    rng = np.random.default_rng(seed)
+    n = n_div * size
+    division = np.repeat(np.arange(n_div), size)
+    true = rng.normal(0, 0.6, n) - 0.4 * division
+    a = rng.integers(0, n, matches)
+    b = np.where(rng.random(matches) < cross, rng.integers(0, n, matches),
+                 division[a] * size + rng.integers(0, size, matches))
+    keep = a != b
+    results = []
+    for i, j in zip(a[keep], b[keep]):
+        ga = int(rng.binomial(5, expit(true[i] - true[j])))
+        day = START + dt.timedelta(days=int(rng.integers(0, 400)))
+        results.append(Result(day, f"P{i}", f"P{j}", ga, 5 - ga, f"D{division[i]}"))
+    players = [Player(f"P{k}", f"D{division[k]}") for k in range(n)]
+    return fit_league(results, Settings(), players=players, with_uncertainty=False)
+
+
+@pytest.mark.parametrize("method", ["factor", "cg"])
+def test_sparse_level_variances_agree_with_a_dense_inverse(method):
+    fit = mid_size_fit()
+    H = hessian(fit.pairs, fit.r, fit.prior_sd)
+    # The dense Hessian built here from its definition (model.md 1): n p (1 - p) per pair, I / s^2.
+    pairs, n = fit.pairs, len(fit.names)
+    p = expit(fit.r[pairs.i] - fit.r[pairs.j])
+    h = pairs.total * p * (1 - p)
+    full = np.eye(n) / fit.prior_sd**2
+    np.add.at(full, (pairs.i, pairs.i), h)
+    np.add.at(full, (pairs.j, pairs.j), h)
+    np.add.at(full, (pairs.i, pairs.j), -h)
+    np.add.at(full, (pairs.j, pairs.i), -h)
+    members = np.column_stack([fit.group == g for g in range(len(fit.group_names))])
+    rng = np.random.default_rng(1)
+    members = np.hstack([members, rng.random((len(fit.names), 3)) < 0.1])  # arbitrary sets too
+    U = level_vectors(members)
+    dense = np.einsum("ij,ij->j", U, np.linalg.inv(full) @ U)
+    sparse, X = level_variance(HessianSolver(H, method), U)
+    assert np.max(np.abs(sparse / dense - 1)) <= 1e-6
+    assert np.allclose(full @ X, U, rtol=0, atol=1e-8)
+    assert np.allclose(H.toarray(), full, rtol=0, atol=1e-12)
+
+
+def test_watch_list_is_the_same_by_factor_and_by_cg():
+    fit = mid_size_fit(seed=2, cross=0.002)
+    by_factor, by_cg = watch_list(fit, method="factor"), watch_list(fit, method="cg")
+    assert by_factor.flagged_divisions, "the league should have weakly linked divisions"
+    for x, y in zip(by_factor.divisions, by_cg.divisions):
+        assert x.division == y.division
+        assert x.level_sd == pytest.approx(y.level_sd, rel=1e-6)
+    assert [(m.player_a, m.player_b) for m in by_factor.suggestions] == [
+        (m.player_a, m.player_b) for m in by_cg.suggestions]
+
+
+def test_watch_list_leaves_the_fit_untouched():
+    results, players, _, _ = make_league(dominant="Valley 0")
+    fit = fit_league(results, HELD, players=players, with_uncertainty=False)
+    r, group = fit.r.copy(), fit.group.copy()
+    watch_list(fit, results)
+    assert np.array_equal(fit.r, r) and np.array_equal(fit.group, group)
+
+
+# ------------------------------------------------------------------ real data
+
+from tests import realdata  # noqa: E402  (kept beside the tests that use it)
+
+CAPITALISED = {"Kento MOMOTA", "Sameer VERMA", "Yuqi SHI", "Wan Ho SON", "Tien Chen CHOU",
+               "Anthony Sinisuka GINTING", "Tommy SUGIARTO", "Kantaphon WANGCHAROEN"}
+
+
+@pytest.mark.realdata
+def test_badminton_finals_spelt_in_capitals_form_a_pool_held_by_the_prior():
+    # Source: ../shared/data/README.md (badminton): one season-ending event writes surnames in
+    # capitals; taken literally its eight players form an island that plays nobody else.
+    results = realdata.badminton(fold_case=False)
+    wl = watch_list(fit_league(results, with_uncertainty=False), results)
+    (pool,) = wl.pools
+    assert set(pool.players) == CAPITALISED and pool.divisions == ("Finals",)
+    finals = wl.division("Finals")
+    assert finals.flagged and finals.cross_games == 0 and finals.linking_players == 0
+    assert finals.linked_share == pytest.approx(0.0, abs=1e-9)  # only the prior sets their level
+    assert pool.level_sd == pytest.approx(finals.prior_sd, rel=1e-9)
+    assert wl.divisions[0].division == "Finals"  # the emptiest link is listed first
+    assert wl.suggestions and all(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
+
+    merged = realdata.badminton(fold_case=True)
+    fit = fit_league(merged, with_uncertainty=False)
+    wl = watch_list(fit, merged)
+    assert wl.pools == ()
+    assert "Finals" not in fit.group_names  # the eight are counted in the divisions they mostly play
+    folded = {name.casefold() for name in CAPITALISED}
+    names = [n for n in fit.names if n.casefold() in folded]
+    assert len(names) == 8
+    for name in names:
+        division = wl.division(fit.division(name))
+        assert name in division.linkers and division.cross_games > 0
+    assert not {h.name for h in wl.flagged_players} & set(names)
+    assert not any(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
+
+
+@pytest.fixture(scope="module")
+def tennis():
+    return realdata.tennis()
+
+
+@pytest.mark.realdata
+def test_tennis_tiers_are_ordered_and_unlink_without_their_crossing_players(tennis):
+    # Source: ../shared/data/README.md (tennis): the fitted levels come out ordered
+    # top > second > third, linked by the players who play in more than one tier.
+    t0 = time.perf_counter()
+    fit = fit_league(tennis, with_uncertainty=False)
+    wl = watch_list(fit, tennis)
+    level = {d.division: d.level for d in wl.divisions}
+    assert level["Top"] > level["Second"] > level["Third"]
+    assert all(d.cross_games > 0 and d.linking_players > 100 for d in wl.divisions)
+
+    tiers: dict[str, set] = {}
+    for res in tennis:
+        for name in (res.player_a, res.player_b):
+            tiers.setdefault(name, set()).add(res.division)
+    crossing = {name for name, t in tiers.items() if len(t) > 1}
+    assert 500 < len(crossing) < 1500  # README: about 950 players play in more than one tier
+    apart = [res for res in tennis if res.player_a not in crossing and res.player_b not in crossing]
+    wl = watch_list(fit_league(apart, with_uncertainty=False), apart)
+    assert {d.division for d in wl.flagged_divisions} == {"Top", "Second", "Third"}
+    for d in wl.divisions:
+        assert d.cross_games == 0 and d.linking_players == 0
+        assert d.linked_share == pytest.approx(0.0, abs=1e-9)
+    assert time.perf_counter() - t0 < 60

@@ -1,0 +1,103 @@
+"""Small, quick loaders for the real result sets in ``../shared/data`` (test material only).
+
+Badminton: world-tour men's singles 2018-2021 (mirror of a public dataset by
+SanderP99, CC0); tennis: professional men's singles 2019 (JeffSackmann/tennis_atp,
+CC BY-NC-SA 4.0).  Nothing derived from them is shipped.
+"""
+from __future__ import annotations
+
+import csv
+import datetime as dt
+import re
+from functools import lru_cache
+from pathlib import Path
+
+import pytest
+
+from secretary.model.records import Result
+
+DATA = Path(__file__).resolve().parents[1] / ".." / "shared" / "data"
+BADMINTON = DATA / "badminton" / "ms.csv"
+TENNIS = DATA / "tennis"
+TENNIS_FILES = ("atp_matches_2019.csv", "atp_matches_qual_chall_2019.csv", "atp_matches_futures_2019.csv")
+# Tiers as divisions, as the data's README lists them (qualifying rows carry their event's level).
+TENNIS_TIERS = {"G": "Top", "M": "Top", "A": "Top", "F": "Top", "D": "Top", "C": "Second", "S": "Third"}
+
+
+def need(path: Path) -> Path:
+    """Skip the calling test when a shared data file is absent."""
+    if not path.exists():
+        pytest.skip(f"real data not found at {path} (the shared data folder sits beside the repository)")
+    return path
+
+
+def _tier(tournament_type: str) -> str:
+    """'HSBC BWF World Tour Super 300' -> 'Super 300'; 'HSBC BWF World Tour Finals' -> 'Finals'."""
+    return re.sub(r"^(HSBC )?BWF (World )?Tour ", "", tournament_type).strip()
+
+
+@lru_cache(maxsize=2)
+def badminton(fold_case: bool = False) -> tuple[Result, ...]:
+    """Men's singles: games won = games each side took; division = the event's tier.
+
+    With ``fold_case`` two spellings that differ only in capitals count as one
+    player (the first spelling met is kept).
+    """
+    spelling: dict[str, str] = {}
+
+    def name(text: str) -> str:
+        text = " ".join(text.split())
+        return spelling.setdefault(text.casefold(), text) if fold_case else text
+
+    out = []
+    with open(need(BADMINTON), newline="", encoding="utf-8") as fh:
+        for row in csv.DictReader(fh):
+            won = [0, 0]
+            for key in ("game_1_score", "game_2_score", "game_3_score"):
+                if not row[key]:
+                    continue
+                x, y = (int(v) for v in row[key].split("-"))
+                # Retired matches end with an unfinished game: only games someone reached 21 in count.
+                if max(x, y) >= 21 and x != y:
+                    won[x < y] += 1
+            if sum(won) == 0:
+                continue
+            day, month, year = (int(v) for v in row["date"].split("-"))
+            out.append(Result(dt.date(year, month, day), name(row["team_one_players"]),
+                              name(row["team_two_players"]), won[0], won[1], _tier(row["tournament_type"])))
+    return tuple(out)
+
+
+_SET = re.compile(r"^(\d+)-(\d+)(\(\d+\))?$")
+
+
+def sets_won(score: str) -> tuple[int, int] | None:
+    """Sets won by winner and loser from a score like '7-6(4) 3-6 6-2'; None for unfinished matches."""
+    if any(mark in score for mark in ("RET", "W/O", "Def", "DEF", "ABD", "unfinished")):
+        return None
+    won = [0, 0]
+    for token in score.split():
+        m = _SET.match(token)
+        if not m:
+            return None
+        x, y = int(m.group(1)), int(m.group(2))
+        if x == y:
+            return None
+        won[x < y] += 1
+    return (won[0], won[1]) if won[0] > won[1] else None
+
+
+@lru_cache(maxsize=1)
+def tennis() -> tuple[Result, ...]:
+    """Men's singles 2019, three tiers as divisions; games won = sets won."""
+    out = []
+    for file in TENNIS_FILES:
+        with open(need(TENNIS / file), newline="", encoding="utf-8") as fh:
+            for row in csv.DictReader(fh):
+                sets = sets_won(row["score"])
+                if sets is None:
+                    continue
+                d = row["tourney_date"]
+                out.append(Result(dt.date(int(d[:4]), int(d[4:6]), int(d[6:])), row["winner_name"],
+                                  row["loser_name"], sets[0], sets[1], TENNIS_TIERS[row["tourney_level"]]))
+    return tuple(out)
