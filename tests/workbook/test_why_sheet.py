@@ -7,11 +7,13 @@ import subprocess
 import pytest
 from openpyxl import Workbook, load_workbook
 
-from secretary.model.breakdown import shown_round
-from secretary.model.notice import division_order
+from dataclasses import replace
+
+from secretary.model.breakdown import explain_changes, shown_round
+from secretary.model.notice import build_notice, division_order
 from secretary.workbook.schema import WHY_SHEET
 from secretary.workbook.why_sheet import WHY_HEADERS, write_why
-from tests.invented_league import SETTINGS, two_updates
+from tests.invented_league import SETTINGS, players, two_updates
 
 PARTS = slice(5, 9)  # Own results .. Corrections
 
@@ -83,6 +85,18 @@ def test_first_update_explains_instead_of_an_empty_table(tmp_path, updates):
     assert "first ratings" in text
     assert "Own results" in text and "Corrections" in text
     assert not ws.tables
+
+
+def test_players_no_longer_rated_are_listed_below(tmp_path, updates):
+    first, second = updates
+    gone = "Søren Øby"
+    rows = [replace(r, void=True) if gone in (r.player_a, r.player_b) else r for r in second.results]
+    breakdown = explain_changes(rows, first.published, SETTINGS, players())
+    assert [name for name, _ in breakdown.removed_players] == [gone]
+    ws = load_workbook(saved(tmp_path, breakdown))[WHY_SHEET]
+    below = [ws.cell(r, 1).value for r in range(len(breakdown.players) + 2, ws.max_row + 1)]
+    assert any(isinstance(v, str) and v.startswith("No longer rated") and gone in v for v in below)
+    assert gone in build_notice(breakdown, second.ratings, SETTINGS).removed
 
 
 @pytest.mark.slow

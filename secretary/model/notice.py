@@ -1,0 +1,166 @@
+"""What the notice board says: per division, the ranked players with their change and its reason.
+
+Pure (no files, no spreadsheet or PDF library): the `Notice board` sheet and
+the PDF notice board both print a ``Notice`` built here, so the two always
+agree.  Figures are the breakdown's shown whole points (``PlayerChange.shown``),
+whose four parts add up to the shown change.
+"""
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+from itertools import groupby
+from typing import TYPE_CHECKING, Iterable, Sequence
+
+from secretary.model.records import PlayerRating, Settings
+
+if TYPE_CHECKING:  # pragma: no cover - typing only
+    from secretary.model.breakdown import Breakdown, PlayerChange
+    from secretary.model.fixtures import FixtureForecast
+
+PART_NAMES = ("Own results", "Opponents re-rated", "Group shift", "Corrections")
+NO_DIVISION = "(no division)"
+MONTHS = ("January", "February", "March", "April", "May", "June", "July", "August",
+          "September", "October", "November", "December")
+CHART_PLAYERS = 6  # biggest changes drawn per division
+
+UNCERTAIN = "uncertain: few games"
+NOT_RATED = "not yet rated: {}"
+
+CLOSING = (
+    "Ratings are estimates worked out from the results so far. The ± after a rating is its "
+    "uncertainty: the fewer games a player has, the larger it is.",
+    "The league committee makes the decisions (handicaps, seeding, prizes); the ratings are "
+    "only there to help.",
+    "Names are published following the local data-protection rules: anyone who would rather "
+    "not be listed can ask the secretary.",
+)
+
+
+@dataclass(frozen=True)
+class NoticeLine:
+    """One player's line: rank in the division, rating, ± and the shown change with its parts (points)."""
+
+    rank: int
+    name: str
+    rating: float
+    sd: float
+    change: int | None  # shown whole points; None for a first or new rating
+    parts: tuple[int, int, int, int] | None  # shown own, opponents, group, corrections
+    sentence: str
+
+
+@dataclass(frozen=True)
+class NoticeDivision:
+    """One division's block of the notice board."""
+
+    division: str  # printable label
+    lines: tuple[NoticeLine, ...]
+
+    def biggest_changes(self, most: int = CHART_PLAYERS) -> tuple[NoticeLine, ...]:
+        """Up to ``most`` lines with a change, the largest absolute change first."""
+        moved = [line for line in self.lines if line.change is not None and line.parts is not None]
+        return tuple(sorted(moved, key=lambda line: (-abs(line.change), line.name.casefold()))[:most])
+
+
+@dataclass(frozen=True)
+class Notice:
+    """Everything the printed notice board shows."""
+
+    title: str
+    dates: str  # the period covered, in words
+    note: str  # one sentence about the whole update, or ""
+    first_update: bool
+    divisions: tuple[NoticeDivision, ...]
+    removed: str  # a closing line about players no longer rated, or ""
+    closing: tuple[str, ...] = CLOSING
+
+
+def long_date(day: dt.date | None) -> str:
+    """``10 March 2026`` (English month names whatever the computer's language)."""
+    return "" if day is None else f"{day.day} {MONTHS[day.month - 1]} {day.year}"
+
+
+def division_label(division: str) -> str:
+    """A division's printable name; players without one are grouped under a plain label."""
+    return division or NO_DIVISION
+
+
+def division_order(ratings: Iterable[tuple[str, float]]) -> dict[str, int]:
+    """Position of each division: strongest first (by its players' average rating), no division last.
+
+    ``ratings`` holds ``(division, rating)`` per player; a league's top
+    division usually comes first on a notice board, so strength is the order.
+    """
+    sums: dict[str, list[float]] = {}
+    for division, rating in ratings:
+        sums.setdefault(division, []).append(rating)
+    order = sorted(sums, key=lambda d: (not d, -sum(sums[d]) / len(sums[d]), d.casefold()))
+    return {d: k for k, d in enumerate(order)}
+
+
+def league_title(settings: Settings, what: str) -> str:
+    """``Riverside League: ratings`` or just ``Ratings`` when the league has no name."""
+    name = settings.league_name.strip()
+    return f"{name}: {what}" if name else what[:1].upper() + what[1:]
+
+
+def period(breakdown: "Breakdown") -> str:
+    """The dates the update covers, in words."""
+    now = long_date(breakdown.reference_date)
+    if breakdown.first_update or breakdown.previous_reference_date is None:
+        return f"First ratings, from results up to {now}"
+    before = long_date(breakdown.previous_reference_date)
+    return f"Changes since the previous update: results up to {before}, now up to {now}"
+
+
+def _ranked_lines(ratings: Sequence[PlayerRating], changes: dict[str, "PlayerChange"],
+                  first_update: bool) -> tuple[NoticeLine, ...]:
+    """The division's players best first; players with the same shown rating share a rank."""
+    order = sorted(ratings, key=lambda p: (-round(p.rating), p.name.casefold()))
+    lines, position = [], 0
+    for _, tied in groupby(order, key=lambda p: round(p.rating)):
+        tied = list(tied)
+        rank = position + 1
+        for p in tied:
+            pc = changes.get(p.name)
+            known = pc is not None and not first_update and not pc.is_new
+            lines.append(NoticeLine(
+                rank=rank, name=p.name, rating=p.rating, sd=p.sd,
+                change=pc.shown[2] if known else None,
+                parts=tuple(pc.shown[3:7]) if known else None,
+                sentence=pc.sentence if pc is not None else "",
+            ))
+        position += len(tied)
+    return tuple(lines)
+
+
+def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settings: Settings) -> Notice:
+    """The notice board's content: one block per division (strongest first), players ranked within it."""
+    changes = {pc.name: pc for pc in breakdown.players}
+    by_division: dict[str, list[PlayerRating]] = {}
+    for p in ratings:
+        by_division.setdefault(p.division, []).append(p)
+    divisions = tuple(
+        NoticeDivision(division_label(d), _ranked_lines(by_division[d], changes, breakdown.first_update))
+        for d in division_order((p.division, p.rating) for p in ratings)
+    )
+    removed = ""
+    if breakdown.removed_players:
+        names = ", ".join(name for name, _ in breakdown.removed_players)
+        removed = f"No longer listed (no rated games left): {names}."
+    return Notice(
+        title=league_title(settings, "ratings notice board"),
+        dates=period(breakdown),
+        note=breakdown.note,
+        first_update=breakdown.first_update,
+        divisions=divisions,
+        removed=removed,
+    )
+
+
+def forecast_note(fc: "FixtureForecast") -> str:
+    """A fixture forecast's flags in a few words ('' when there is nothing to say)."""
+    if fc.not_rated:
+        return NOT_RATED.format(" and ".join(fc.not_rated))
+    return UNCERTAIN if fc.uncertain else ""

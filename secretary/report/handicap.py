@@ -1,0 +1,82 @@
+"""The handicap card (PDF): the fair race for each coming fixture, in plain words."""
+from __future__ import annotations
+
+import datetime as dt
+from itertools import groupby
+from pathlib import Path
+from typing import Sequence
+
+from reportlab.platypus import KeepTogether
+
+from secretary.model.fixtures import FixtureForecast
+from secretary.model.notice import CLOSING, forecast_note, league_title, long_date
+from secretary.model.records import PlayerRating, Settings
+from secretary.report import layout
+
+COLUMNS = ("Match", "Fair race", "Chance at the set race", "Take care")
+COLUMN_SHARES = (0.30, 0.28, 0.25, 0.17)  # of the page width
+NO_DATE = "date not set"
+NOT_RATED = "not yet rated"
+
+
+def fair_race_text(fc: FixtureForecast) -> str:
+    """``Ann races to 5, Bob races to 3``."""
+    a, b = fc.fixture.player_a, fc.fixture.player_b
+    return f"{a} races to {fc.fair_race_a}, {b} races to {fc.fair_race_b}"
+
+
+def chance_text(fc: FixtureForecast, settings: Settings) -> str:
+    """``Races to 5 (the usual race): Ann wins 71%`` or ``Ann to 5, Bob to 4: Ann wins 16%``."""
+    a, b = fc.fixture.player_a, fc.fixture.player_b
+    if fc.race_a != fc.race_b:
+        race = f"{a} to {fc.race_a}, {b} to {fc.race_b}"
+    elif fc.fixture.race_a is None and fc.race_a == settings.usual_race:
+        race = f"Races to {fc.race_a} (the usual race)"
+    else:
+        race = f"Races to {fc.race_a}"
+    return f"{race}: {a} wins {fc.race_chance:.0%}"
+
+
+def _match_cell(fc: FixtureForecast, ratings: dict[str, PlayerRating]) -> list:
+    """The two players, one per line, each with their rating when known."""
+    lines = []
+    for lead, name in (("", fc.fixture.player_a), ("v ", fc.fixture.player_b)):
+        p = ratings.get(name)
+        known = f"{p.rating:.0f} ± {p.sd:.0f}" if p is not None else NOT_RATED
+        lines.append(layout.rich([(lead + name, True), (f"  {known}" if ratings else "", False)], "cell"))
+    return lines
+
+
+def _order(forecasts: Sequence[FixtureForecast]) -> list[FixtureForecast]:
+    """By date (undated last), otherwise as given."""
+    return sorted(forecasts, key=lambda fc: (fc.fixture.date is None, fc.fixture.date or dt.date.min))
+
+
+def write_handicap_pdf(path: str | Path, forecasts: Sequence[FixtureForecast], settings: Settings, *,
+                       ratings: Sequence[PlayerRating] = ()) -> Path:
+    """Write the handicap card for the coming fixtures, one table per date; ``ratings`` adds each player's rating ±."""
+    by_name = {p.name: p for p in ratings}
+    ordered = _order(forecasts)
+    dated = [fc.fixture.date for fc in ordered if fc.fixture.date is not None]
+    when = f"{long_date(dated[0])} to {long_date(dated[-1])}" if dated else "the coming matches"
+    title = league_title(settings, "handicap card")
+    width = layout.frame_width(settings)
+    story = layout.title_block(title, f"Fair races for the fixtures from {when}")
+    story.append(layout.para(
+        "A fair race gives both players about an even chance: each player races to the number shown. "
+        "The chance is for the race the fixture is set at (the usual race when none is set)."))
+    if not ordered:
+        story.append(layout.para("There are no fixtures in the Fixtures sheet yet."))
+    for day, group in groupby(ordered, key=lambda fc: fc.fixture.date):
+        rows = [
+            (_match_cell(fc, by_name), layout.para(fair_race_text(fc), "cellbold"),
+             chance_text(fc, settings), forecast_note(fc))
+            for fc in group
+        ]
+        story.append(KeepTogether([
+            layout.para(long_date(day) if day else NO_DATE.capitalize(), "heading"),
+            layout.table(COLUMNS, rows, [width * s for s in COLUMN_SHARES]),
+        ]))
+    story.append(layout.closing(CLOSING))
+    footer = f"{title} · fair races are suggestions; the committee decides"
+    return layout.build(path, story, settings, title, footer)

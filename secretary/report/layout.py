@@ -1,0 +1,193 @@
+"""Layout shared by the printed reports: fonts, text styles, title, boxes, tables, page footer."""
+from __future__ import annotations
+
+import os
+import unicodedata
+from functools import lru_cache
+from pathlib import Path
+from typing import Sequence
+from xml.sax.saxutils import escape
+
+from reportlab.lib import colors
+from reportlab.lib.pagesizes import A4, LETTER
+from reportlab.lib.styles import ParagraphStyle
+from reportlab.lib.units import mm
+from reportlab.pdfbase import pdfmetrics
+from reportlab.pdfbase.ttfonts import TTFont
+from reportlab.platypus import KeepTogether, Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
+
+from secretary.model.records import Settings
+
+# Fonts with accents and most European letters (Linux, Windows, macOS); the first one found is used.
+_WINDOWS_FONTS = Path(os.environ.get("WINDIR", "C:/Windows")) / "Fonts"
+_MAC_FONTS = Path("/System/Library/Fonts/Supplemental")
+FONT_FILES = (
+    ("DejaVuSans", Path("/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf"),
+     Path("/usr/share/fonts/truetype/dejavu/DejaVuSans-Bold.ttf")),
+    ("Arial", _WINDOWS_FONTS / "arial.ttf", _WINDOWS_FONTS / "arialbd.ttf"),
+    ("Arial", _MAC_FONTS / "Arial.ttf", _MAC_FONTS / "Arial Bold.ttf"),
+)
+FALLBACK = ("Helvetica", "Helvetica-Bold")  # built into every PDF reader, Western European letters only
+MARGIN = 16 * mm
+INK = colors.HexColor("#222222")
+MUTED = colors.HexColor("#555555")
+RULE = colors.HexColor("#9AA5B1")
+BOX = colors.HexColor("#EEF3F8")
+HEADER_FILL = colors.HexColor("#DCE6F0")
+STRIPE = colors.HexColor("#F6F8FA")
+
+
+@lru_cache(maxsize=1)
+def fonts() -> tuple[str, str]:
+    """(regular, bold) font names: DejaVu Sans when installed, else Helvetica."""
+    for name, regular, bold in FONT_FILES:
+        if regular.is_file() and bold.is_file():
+            try:
+                pdfmetrics.registerFont(TTFont(name, str(regular)))
+                pdfmetrics.registerFont(TTFont(name + "-Bold", str(bold)))
+            except Exception:  # a damaged font file: fall back rather than fail the report
+                continue
+            return name, name + "-Bold"
+    return FALLBACK
+
+
+def _has_glyph(font: str, ch: str) -> bool:
+    face = getattr(pdfmetrics.getFont(font), "face", None)
+    if hasattr(face, "charToGlyph"):
+        return ord(ch) in face.charToGlyph
+    try:  # the standard fonts use the Windows Western encoding
+        ch.encode("cp1252")
+    except UnicodeEncodeError:
+        return False
+    return True
+
+
+def printable(text: str, font: str | None = None) -> str:
+    """The text with letters the font lacks replaced: by the letter without its accent, else '?'."""
+    font = font or fonts()[0]
+    out = []
+    for ch in text:
+        if ch in "\n\t" or _has_glyph(font, ch):
+            out.append(ch)
+            continue
+        base = "".join(c for c in unicodedata.normalize("NFKD", ch) if not unicodedata.combining(c))
+        out.append(base if base and all(_has_glyph(font, c) for c in base) else "?")
+    return "".join(out)
+
+
+def page_size(settings: Settings) -> tuple[float, float]:
+    """The paper the settings ask for (A4 unless Letter)."""
+    return LETTER if settings.paper == "Letter" else A4
+
+
+@lru_cache(maxsize=1)
+def styles() -> dict[str, ParagraphStyle]:
+    """The text styles: title, subtitle, heading, body, small, cell, cell-right."""
+    regular, bold = fonts()
+    body = ParagraphStyle("body", fontName=regular, fontSize=9.5, leading=12.5, textColor=INK, spaceAfter=3)
+    return {
+        "title": ParagraphStyle("title", parent=body, fontName=bold, fontSize=18, leading=22, spaceAfter=2),
+        "subtitle": ParagraphStyle("subtitle", parent=body, fontSize=10.5, leading=14, textColor=MUTED, spaceAfter=8),
+        "heading": ParagraphStyle("heading", parent=body, fontName=bold, fontSize=13, leading=16,
+                                  spaceBefore=10, spaceAfter=5),
+        "boxhead": ParagraphStyle("boxhead", parent=body, fontName=bold, fontSize=10.5, leading=14),
+        "body": body,
+        "small": ParagraphStyle("small", parent=body, fontSize=8.5, leading=11, textColor=MUTED),
+        "cell": ParagraphStyle("cell", parent=body, spaceAfter=0),
+        "cellbold": ParagraphStyle("cellbold", parent=body, fontName=bold, spaceAfter=0),
+        "right": ParagraphStyle("right", parent=body, spaceAfter=0, alignment=2),
+        "boldright": ParagraphStyle("boldright", parent=body, fontName=bold, spaceAfter=0, alignment=2),
+    }
+
+
+def para(text: str, style: str = "body") -> Paragraph:
+    """A paragraph of plain text (never read as markup)."""
+    st = styles()[style]
+    return Paragraph(escape(printable(text, st.fontName)), st)
+
+
+def rich(parts: Sequence[tuple[str, bool]], style: str = "body") -> Paragraph:
+    """A paragraph of plain-text pieces, each bold or not."""
+    st = styles()[style]
+    bold = fonts()[1]
+    pieces = []
+    for text, strong in parts:
+        shown = escape(printable(text, bold if strong else st.fontName))
+        pieces.append(f'<font name="{bold}">{shown}</font>' if strong else shown)
+    return Paragraph("".join(pieces), st)
+
+
+def title_block(title: str, subtitle: str) -> list:
+    """The report's title and the line under it."""
+    return [para(title, "title"), para(subtitle, "subtitle")]
+
+
+def boxed(heading: str, lines: Sequence[str], width: float) -> Table:
+    """A shaded box with a bold heading and a few plain lines."""
+    cells = [[para(heading, "boxhead")], *([para(line, "cell")] for line in lines)]
+    box = Table(cells, colWidths=[width])
+    box.setStyle(TableStyle([
+        ("BACKGROUND", (0, 0), (-1, -1), BOX),
+        ("BOX", (0, 0), (-1, -1), 0.6, RULE),
+        ("LEFTPADDING", (0, 0), (-1, -1), 8), ("RIGHTPADDING", (0, 0), (-1, -1), 8),
+        ("TOPPADDING", (0, 0), (-1, -1), 2), ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+        ("TOPPADDING", (0, 0), (-1, 0), 6), ("BOTTOMPADDING", (0, -1), (-1, -1), 7),
+    ]))
+    return box
+
+
+def table(headers: Sequence[str], rows: Sequence[Sequence[object]], widths: Sequence[float],
+          right: Sequence[int] = ()) -> Table:
+    """A striped table with a shaded header row repeated on each page; ``right`` columns align right."""
+    def cell(value, col, header=False):
+        if not isinstance(value, str):
+            return value  # a flowable made by the caller
+        style = {(True, True): "boldright", (True, False): "cellbold",
+                 (False, True): "right", (False, False): "cell"}[(header, col in right)]
+        return para(value, style)
+
+    data = [[cell(h, c, True) for c, h in enumerate(headers)]]
+    data += [[cell(v, c) for c, v in enumerate(row)] for row in rows]
+    t = Table(data, colWidths=list(widths), repeatRows=1)
+    commands = [
+        ("BACKGROUND", (0, 0), (-1, 0), HEADER_FILL),
+        ("LINEBELOW", (0, 0), (-1, 0), 0.6, RULE),
+        ("LINEBELOW", (0, -1), (-1, -1), 0.6, RULE),
+        ("VALIGN", (0, 0), (-1, -1), "TOP"),
+        ("TOPPADDING", (0, 0), (-1, -1), 2.5), ("BOTTOMPADDING", (0, 0), (-1, -1), 2.5),
+    ]
+    commands += [("BACKGROUND", (0, r), (-1, r), STRIPE) for r in range(2, len(data), 2)]
+    t.setStyle(TableStyle(commands))
+    return t
+
+
+def closing(lines: Sequence[str]) -> KeepTogether:
+    """The closing lines every report ends with, kept on one page."""
+    return KeepTogether([Spacer(1, 8), *(para(line, "small") for line in lines)])
+
+
+def frame_width(settings: Settings) -> float:
+    """The width between the margins, points."""
+    return page_size(settings)[0] - 2 * MARGIN
+
+
+def build(path: str | Path, story: list, settings: Settings, title: str, footer: str) -> Path:
+    """Write the PDF with a footer line and page numbers on every page; returns the path."""
+    path = Path(path)
+    regular = fonts()[0]
+    footer = printable(footer, regular)
+
+    def on_page(canvas, doc):
+        canvas.saveState()
+        canvas.setFont(regular, 7.5)
+        canvas.setFillColor(MUTED)
+        canvas.drawString(MARGIN, 9 * mm, footer)
+        canvas.drawRightString(doc.pagesize[0] - MARGIN, 9 * mm, f"Page {doc.page}")
+        canvas.restoreState()
+
+    doc = SimpleDocTemplate(
+        str(path), pagesize=page_size(settings), leftMargin=MARGIN, rightMargin=MARGIN,
+        topMargin=MARGIN, bottomMargin=MARGIN + 4 * mm, title=printable(title, regular), author="secretary",
+    )
+    doc.build(story, onFirstPage=on_page, onLaterPages=on_page)
+    return path

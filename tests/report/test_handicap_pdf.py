@@ -1,0 +1,75 @@
+"""The handicap card, read back with poppler: every fixture's players, fair race, chance and flags."""
+import pytest
+from PIL import Image
+from scipy.stats import nbinom
+
+from secretary.model.notice import CLOSING
+from secretary.report.handicap import chance_text, fair_race_text, write_handicap_pdf
+from tests.invented_league import SETTINGS, forecasts, two_updates
+from tests.report.poppler import A4_POINTS, LETTER_POINTS, needs_poppler, page_points, pdf_text, render_page, squeeze
+
+pytestmark = needs_poppler
+
+
+@pytest.fixture(scope="module")
+def league():
+    update = two_updates()[1]
+    return update, forecasts(update.results)
+
+
+@pytest.fixture(scope="module")
+def card(league, tmp_path_factory):
+    update, fcs = league
+    path = tmp_path_factory.mktemp("card") / "handicap.pdf"
+    assert write_handicap_pdf(path, fcs, SETTINGS, ratings=update.ratings) == path
+    return path
+
+
+def test_every_fixture_in_plain_words(league, card):
+    update, fcs = league
+    text = squeeze(pdf_text(card))
+    rated = {p.name: p for p in update.ratings}
+    for fc in fcs:
+        a, b = fc.fixture.player_a, fc.fixture.player_b
+        assert squeeze(fair_race_text(fc)) in text
+        assert squeeze(f"{a} races to {fc.fair_race_a}, {b} races to {fc.fair_race_b}") in text
+        assert squeeze(chance_text(fc, SETTINGS)) in text
+        for name in (a, b):
+            shown = f"{rated[name].rating:.0f} ± {rated[name].sd:.0f}" if name in rated else "not yet rated"
+            assert squeeze(f"{name} {shown}") in text
+    assert squeeze("not yet rated: Otto Newman") in text
+    assert squeeze("uncertain: few games") in text
+    assert squeeze("17 March 2026") in text and squeeze("18 March 2026") in text
+    for line in CLOSING:
+        assert squeeze(line) in text
+
+
+def test_chance_printed_matches_an_independent_race_formula(league, card):
+    """A's chance at the set race, from the per-game chance: first to a before the other gets b.
+
+    Source: checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p).
+    """
+    _, fcs = league
+    text = squeeze(pdf_text(card))
+    for fc in fcs:
+        chance = nbinom.cdf(fc.race_b - 1, fc.race_a, fc.game_chance)
+        assert chance == pytest.approx(fc.race_chance, abs=1e-9)
+        assert squeeze(f"{fc.fixture.player_a} wins {chance:.0%}") in text
+    handicap = [fc for fc in fcs if fc.fixture.race_a is not None]
+    assert squeeze("=Dev Pike to 5, Kit Ellis to 4: =Dev Pike wins") in text and handicap
+
+
+def test_paper_and_rendered_card(league, card, tmp_path):
+    update, fcs = league
+    assert page_points(card) == pytest.approx(A4_POINTS, abs=0.5)
+    letter = write_handicap_pdf(tmp_path / "letter.pdf", fcs, SETTINGS.replace(paper="Letter"))
+    assert page_points(letter) == pytest.approx(LETTER_POINTS, abs=0.5)
+    # Without ratings the card still names both players of each match.
+    assert squeeze("Zoë Ångström v Finn Yarrow") in squeeze(pdf_text(letter))
+    with Image.open(render_page(card, "handicap-card-page1")) as image:
+        assert sum(image.convert("L").histogram()[:100]) > 1000  # text was drawn
+
+
+def test_no_fixtures_says_so(tmp_path):
+    path = write_handicap_pdf(tmp_path / "none.pdf", (), SETTINGS)
+    assert "There are no fixtures" in pdf_text(path)
