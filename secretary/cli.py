@@ -99,6 +99,8 @@ def summary(outcome) -> list[str]:
             lines.append(f"  Previous version kept in: {outcome.backup}")
         if outcome.notice_pdf:
             lines.append(f"  Notice board (PDF): {outcome.notice_pdf}")
+        if outcome.handicap_pdf:
+            lines.append(f"  Handicap card for the coming fixtures (PDF): {outcome.handicap_pdf}")
     return lines
 
 
@@ -163,6 +165,35 @@ def cmd_demo(args) -> int:
     return EXIT_DONE
 
 
+def cmd_notice(args) -> int:
+    from secretary.pipeline import make_notice
+
+    path = make_notice(args.workbook, args.out)
+    print(f"Notice board of the last update written to: {path}")
+    return EXIT_DONE
+
+
+def cmd_fixtures(args) -> int:
+    from secretary.pipeline import run_fixtures
+
+    forecasts, written, card = run_fixtures(args.workbook)
+    if not forecasts:
+        print("The Fixtures sheet lists no coming matches; nothing to forecast.")
+        return EXIT_DONE
+    for fc in forecasts:
+        f = fc.fixture
+        flags = (" (uncertain: few games)" if fc.uncertain else "") + (
+            f" (not yet rated: {', '.join(fc.not_rated)})" if fc.not_rated else "")
+        print(f"  {f.player_a} v {f.player_b}: {f.player_a} {fc.race_chance:.0%} to win a race "
+              f"{fc.race_a}-{fc.race_b}; fair race {fc.fair_race_a}-{fc.fair_race_b}{flags}")
+    if written:
+        print(f"Forecast columns written to the Fixtures sheet of {written}")
+    else:
+        print("The workbook holds content this tool cannot save unchanged, so the Fixtures sheet was not written.")
+    print(f"Handicap card (PDF): {card}")
+    return EXIT_DONE
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="secretary", description=DESCRIPTION, epilog=EPILOG,
                                      formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -186,6 +217,19 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("restore", help="bring back the previous version of the workbook from its backups folder")
     p.add_argument("workbook", help="the league workbook")
     p.set_defaults(run=cmd_restore)
+
+    p = sub.add_parser("open", help="open the window (with the workbook, if given)")
+    p.add_argument("workbook", nargs="?", help="the league workbook to open")
+    p.set_defaults(run=cmd_open)
+
+    p = sub.add_parser("notice", help="print the notice board (PDF) of the last update again")
+    p.add_argument("workbook", help="the league workbook")
+    p.add_argument("--out", metavar="FILE.pdf", help="where to write the PDF (default: beside the workbook)")
+    p.set_defaults(run=cmd_notice)
+
+    p = sub.add_parser("fixtures", help="forecast the coming fixtures and suggest fair races, without a full update")
+    p.add_argument("workbook", help="the league workbook (its ratings must be current)")
+    p.set_defaults(run=cmd_fixtures)
 
     p = sub.add_parser("demo", help="copy the invented demo league to FOLDER and update it twice")
     p.add_argument("folder", nargs="?", default="secretary-demo", help="where to put it (default: ./secretary-demo)")
@@ -223,10 +267,18 @@ def main(argv=None) -> int:
 
 
 def open_window(workbook) -> int:
-    """Open the desktop window (once it is available)."""
-    print("The window is not available yet; use the commands below.", file=sys.stderr)
-    build_parser().print_help()
-    return EXIT_USAGE
+    """Open the desktop window, with the workbook if one is named."""
+    try:
+        from secretary.gui.app import run
+    except ImportError as exc:  # Python built without Tk
+        print(f"The window is not available here ({exc}); use the commands below.", file=sys.stderr)
+        build_parser().print_help()
+        return EXIT_USAGE
+    return run(workbook)
+
+
+def cmd_open(args) -> int:
+    return open_window(args.workbook)
 
 
 if __name__ == "__main__":

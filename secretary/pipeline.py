@@ -10,18 +10,20 @@ from __future__ import annotations
 import csv
 import datetime as dt
 import shutil
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Callable, Protocol
 
 from secretary import __version__
-from secretary.errors import Cancelled, FileRefused, WorkbookProblems
+from secretary.errors import Cancelled, FileRefused, SecretaryError, WorkbookProblems
 from secretary.model.breakdown import Breakdown, explain_changes
 from secretary.model.diagnose import describe
 from secretary.model.fixtures import FixtureForecast, forecast_fixtures
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.linkage import WatchList, watch_list
 from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
+from secretary.model.changes import compare_rows
+from secretary.report.handicap import write_handicap_pdf
 from secretary.report.notice import write_notice_pdf
 from secretary.workbook import fidelity, save, schema, state
 from secretary.workbook.fixtures_sheet import write_fixture_columns
@@ -50,6 +52,7 @@ class UpdateOutcome:
     reason: str  # plain words about the save
     backup: Path | None
     notice_pdf: Path | None
+    handicap_pdf: Path | None
     book: LeagueBook
     fit: LeagueFit
     ratings: tuple[PlayerRating, ...]
@@ -79,6 +82,12 @@ def notice_pdf_path(path: str | Path) -> Path:
     """Where the PDF notice board of a workbook goes: beside it."""
     path = Path(path)
     return path.with_name(f"{path.stem} - notice board.pdf")
+
+
+def handicap_pdf_path(path: str | Path) -> Path:
+    """Where the handicap card for the coming fixtures goes: beside the workbook."""
+    path = Path(path)
+    return path.with_name(f"{path.stem} - handicap card.pdf")
 
 
 def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRating, ...]:
@@ -160,7 +169,8 @@ def run_update(
     new_state = PublishedState(
         updated_at=stamp, reference_date=log.reference_date,
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
-        rows=tuple((identity(r), fingerprint(r)) for r in rated), settings=settings)
+        rows=tuple((identity(r), fingerprint(r)) for r in rated), settings=settings,
+        previous=replace(published, previous=None) if published else None)
 
     _step(progress, cancel, "Writing the sheets", 0.75)
     write_ratings(wb, ratings, settings)
@@ -175,7 +185,7 @@ def run_update(
         write_fixture_columns(wb, forecasts, settings)
     state.write_state(wb, new_state)
 
-    written = backup = pdf = None
+    written = backup = pdf = card = None
     reason = "Dry run: nothing was written."
     if not dry_run:
         _step(progress, cancel, "Saving the workbook safely", 0.9)
@@ -186,9 +196,12 @@ def run_update(
             reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
         pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
+        if forecasts:
+            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
+        handicap_pdf=card,
         book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch, forecasts=forecasts,
         log=log, notes=tuple(describe(fit.diagnosis, fit.names)))
 
@@ -196,6 +209,56 @@ def run_update(
 def _was_updated_before(book: LeagueBook) -> bool:
     """The tool's Ratings sheet is there, so a missing record means it was deleted."""
     return schema.RATINGS_SHEET in book.sheet_names
+
+
+@dataclass(frozen=True)
+class Published:
+    """The ratings as the last update published them, rebuilt from the workbook without writing it."""
+
+    book: LeagueBook
+    fit: LeagueFit
+    ratings: tuple[PlayerRating, ...]
+    breakdown: Breakdown
+
+
+def _published(path: str | Path, what: str) -> Published:
+    """The last update's ratings and breakdown; refuses when results or settings changed since."""
+    book = read_workbook(path)
+    if book.has_errors:
+        raise WorkbookProblems(book.problems)
+    if book.state is None:
+        raise SecretaryError(f"{Path(path).name} has not been updated yet: run the update first, then the {what}.")
+    changes = compare_rows(book.results, book.state.rows)
+    if changes.new or changes.edited or changes.removed or book.state.settings != book.settings:
+        raise SecretaryError(
+            f"The results or settings in {Path(path).name} changed since the last update, so the published "
+            f"ratings are not current. Run the update first, then the {what}.")
+    fit = fit_league(book.results, book.settings, players=book.players)
+    breakdown = explain_changes(book.results, book.state.previous, book.settings, book.players, current=fit)
+    return Published(book, fit, _published_ratings(fit, breakdown), breakdown)
+
+
+def make_notice(path: str | Path, out: str | Path | None = None) -> Path:
+    """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy)."""
+    pub = _published(path, "notice board")
+    return write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
+                            pub.book.settings, watch_list(pub.fit, pub.book.results))
+
+
+def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None]:
+    """Fill the Fixtures sheet's forecast columns and print the handicap card, without a full update."""
+    pub = _published(path, "fixtures")
+    forecasts = forecast_fixtures(pub.book.fixtures, pub.fit)
+    if not forecasts:
+        return forecasts, None, None
+    path = Path(path)
+    written = None
+    if not fidelity.unsupported_content(path):
+        wb = save.load_for_update(path)
+        write_fixture_columns(wb, forecasts, pub.book.settings)
+        written = save.save_workbook(wb, path).path
+    card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings)
+    return forecasts, written, card
 
 
 def new_league(path: str | Path) -> Path:
@@ -230,3 +293,22 @@ def run_demo(folder: str | Path = "secretary-demo", progress: Progress | None = 
     append_results_csv(workbook, folder / "new-week.csv")
     second = run_update(workbook, progress=progress)
     return first, second
+
+
+def rating_history(path: str | Path) -> dict[str, list[tuple[dt.date, float]]]:
+    """Each player's published ratings by update date, from the Rating history sheet (or its companion's)."""
+    from secretary.workbook.history import read_rating_history
+
+    path = Path(path)
+    history = read_rating_history(path)
+    companion = save.companion_path(path)
+    if not history and companion.exists():
+        history = read_rating_history(companion)
+    return history
+
+
+def save_settings(path: str | Path, values: dict[str, object]) -> Path:
+    """Write the Settings sheet (field or label -> value; blank = default) and save the workbook safely."""
+    from secretary.workbook.settings_write import write_settings
+
+    return write_settings(path, values)

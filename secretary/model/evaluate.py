@@ -262,7 +262,7 @@ def evaluate(
     players : Players-sheet records (starting ratings set prior means)
     step_days : step length in days (7 = week by week)
     cancel : optional flag with ``is_set()``, checked once per step
-    gtol : the fit's relative gradient tolerance (looser than an update's; the scores move < 1e-9)
+    gtol : the fit's relative gradient tolerance (looser than an update's; scores move by about 1e-9)
 
     Raises
     ------

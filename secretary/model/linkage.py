@@ -522,7 +522,8 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
 
 
 def _held_players(fit, h: np.ndarray, share: np.ndarray, weak_group: np.ndarray) -> list[HeldPlayer]:
-    """Players whose surplus z-score reaches ``held_z``: flagged in weakly linked divisions."""
+    """Players whose surplus z-score reaches ``held_z``, or who win at least ``dominant_share`` of
+    their games in a weakly linked division: flagged when their division is weakly linked."""
     settings = fit.settings
     pairs = fit.pairs
     n = pairs.n_players
@@ -535,13 +536,18 @@ def _held_players(fit, h: np.ndarray, share: np.ndarray, weak_group: np.ndarray)
     with np.errstate(invalid="ignore", divide="ignore"):
         z = np.where(L > 0, pull / np.sqrt(L), 0.0)
         held_pts = np.where(L > 0, pull / L, 0.0) * ppl
-    big = np.flatnonzero(z >= settings.held_z)
+    games = fit.games
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share_won = np.where(games > 0, won / games, 0.0)
+    # Dominant in a weakly linked division: the division's level is set by the starting assumption,
+    # so however clearly they win, their rating is measured against a level nobody has checked.
+    dominant = (share_won >= settings.dominant_share) & (games >= settings.few_games) & weak_group[fit.group]
+    big = np.flatnonzero((z >= settings.held_z) | dominant)
     weak = weak_group[fit.group[big]]
     flagged = big[weak]
     others = big[~weak]
     flagged = flagged[np.argsort(-z[flagged], kind="stable")]
     others = others[np.argsort(-z[others], kind="stable")][:UNFLAGGED_HELD_MAX]
-    games = fit.games
     out = []
     for k, is_flagged in [(k, True) for k in flagged] + [(k, False) for k in others]:
         division = fit.group_names[fit.group[k]]

@@ -70,8 +70,9 @@ class Settings:
     league_name: str = ""
     paper: str = "A4"  # or "Letter"
     weakly_linked_below: float = 0.5  # linked share under which a division is flagged
-    held_z: float = 2.0  # surplus z-score at which a player counts as held
+    held_z: float = 1.0  # surplus z-score at which a player counts as held (one SD: rule of thumb)
     linking_matches: int = 6  # suggested linking matches to list
+    dominant_share: float = 0.75  # share of games won that marks a dominant player in a weak division
     few_games: float = 10.0  # weighted games under which a prediction is uncertain
 
     def replace(self, **changes) -> "Settings":
@@ -117,6 +118,7 @@ class PublishedState:
     sds: Mapping[str, float]  # published ± (points) per player
     rows: tuple[tuple[str, str], ...]  # (identity, fingerprint) of each result included
     settings: Settings = field(default_factory=Settings)
+    previous: "PublishedState | None" = None  # the update before, so its breakdown can be rebuilt
 
 
 def _digest(*parts: object) -> str:

@@ -179,10 +179,18 @@ def build(path: str | Path, story: list, settings: Settings, title: str, footer:
 
     def on_page(canvas, doc):
         canvas.saveState()
-        canvas.setFont(regular, 7.5)
         canvas.setFillColor(MUTED)
-        canvas.drawString(MARGIN, 9 * mm, footer)
-        canvas.drawRightString(doc.pagesize[0] - MARGIN, 9 * mm, f"Page {doc.page}")
+        label = f"Page {doc.page}"
+        room = doc.pagesize[0] - 2 * MARGIN - canvas.stringWidth(label, regular, 7.5) - 6 * mm
+        size, text = 7.5, footer
+        while size > 5.5 and canvas.stringWidth(text, regular, size) > room:
+            size -= 0.25  # a smaller footer, so it never runs into the page number
+        while canvas.stringWidth(text, regular, size) > room and len(text) > 3:
+            text = text[:-4] + "..."
+        canvas.setFont(regular, size)
+        canvas.drawString(MARGIN, 9 * mm, text)
+        canvas.setFont(regular, 7.5)
+        canvas.drawRightString(doc.pagesize[0] - MARGIN, 9 * mm, label)
         canvas.restoreState()
 
     doc = SimpleDocTemplate(

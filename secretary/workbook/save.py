@@ -328,10 +328,13 @@ def _backup(path: Path) -> Path:
     except OSError as exc:
         raise _plain_os_error(exc, path) from exc
     stamp = dt.datetime.now().strftime("%Y%m%d-%H%M%S")
-    dest, n = folder / f"{path.stem}-{stamp}{path.suffix}", 1
-    while dest.exists():
-        n += 1
-        dest = folder / f"{path.stem}-{stamp}-{n}{path.suffix}"
+    # Within one second, number on from the newest backup of that second (never reuse a pruned name).
+    same_second = [b for b in backups_of(path) if b.name.startswith(f"{path.stem}-{stamp}")]
+    if not same_second:
+        dest = folder / f"{path.stem}-{stamp}{path.suffix}"
+    else:
+        last = re.search(r"-(\d+)$", same_second[0].stem[len(path.stem) + 1 + len(stamp):])
+        dest = folder / f"{path.stem}-{stamp}-{int(last.group(1)) + 1 if last else 2}{path.suffix}"
     try:
         shutil.copy2(path, dest)
     except OSError as exc:

@@ -189,9 +189,12 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
                 "level is pinned down by games against other divisions.", 0, 1),
     SettingSpec("held_z", "Held by the prior at z", "number",
                 "How surprising (in standard deviations) a player's results must be before "
-                "the watch list says the starting assumption is holding them back.", 0.5, 10),
+                "the watch list says the starting assumption is holding them back.", 0.1, 10),
     SettingSpec("linking_matches", "Linking matches to suggest", "whole",
                 "How many matches between divisions the watch list suggests.", 0, 50),
+    SettingSpec("dominant_share", "Dominant win share", "number",
+                "A player in a weakly linked division who wins at least this share of their games "
+                "goes on the watch list: their true level cannot show until they play outside.", 0.5, 1.0),
     SettingSpec("few_games", "Few games", "number",
                 "Players with fewer (age-weighted) games than this are marked as uncertain.",
                 0, 1000),

@@ -28,14 +28,9 @@ def write_state(wb: Workbook, state: PublishedState) -> None:
     for name, value in (*state.ratings.items(), *state.sds.items()):
         if not math.isfinite(value):
             raise ValueError(f"published rating of {name!r} is not a finite number: {value!r}")
-    document = {
-        "format": FORMAT,
-        "updated_at": state.updated_at,
-        "reference_date": state.reference_date.isoformat(),
-        "settings": {f.name: getattr(state.settings, f.name) for f in fields(Settings)},
-        "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
-        "rows": [[identity, fp] for identity, fp in state.rows],
-    }
+    document = _document(state)
+    if state.previous is not None:  # one update back only: enough to rebuild this update's breakdown
+        document["previous"] = _document(state.previous)
     text = json.dumps(document, ensure_ascii=True, separators=(",", ":"))
     ws = replace_sheet(wb, STATE_SHEET)
     put(ws.cell(1, 1), _TITLE)
@@ -45,6 +40,17 @@ def write_state(wb: Workbook, state: PublishedState) -> None:
         put(ws.cell(3 + i, 1), "data")
         put(ws.cell(3 + i, 2), text[start:start + _CHUNK])
     ws.sheet_state = "veryHidden"
+
+
+def _document(state: PublishedState) -> dict:
+    return {
+        "format": FORMAT,
+        "updated_at": state.updated_at,
+        "reference_date": state.reference_date.isoformat(),
+        "settings": {f.name: getattr(state.settings, f.name) for f in fields(Settings)},
+        "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
+        "rows": [[identity, fp] for identity, fp in state.rows],
+    }
 
 
 def read_state(wb: Workbook) -> PublishedState | None:
@@ -75,7 +81,9 @@ def _parse(doc: dict) -> PublishedState | None:
         f.name: _same_kind(stored.get(f.name), getattr(defaults, f.name)) for f in fields(Settings)
     })
     rows = tuple((str(identity), str(fp)) for identity, fp in doc["rows"])
+    previous = doc.get("previous")
     return PublishedState(
+        previous=_parse(previous) if isinstance(previous, dict) else None,
         updated_at=str(doc["updated_at"]),
         reference_date=dt.date.fromisoformat(doc["reference_date"]),
         ratings=ratings,

@@ -1,0 +1,1 @@
+"""One module per tab of the main window."""

@@ -1,0 +1,32 @@
+"""The Fixtures tab: chances and fair races for the matches still to be played."""
+from __future__ import annotations
+
+from tkinter import ttk
+
+from secretary.gui import views
+from secretary.gui.widgets import Table
+
+
+class FixturesTab:
+    def __init__(self, parent, scheduler):
+        self.frame = ttk.Frame(parent, padding=8)
+        self.summary = ttk.Label(self.frame, text="Update the ratings to see the chances for the fixtures.")
+        self.summary.pack(fill="x", pady=(0, 6))
+        self.table = Table(self.frame, views.FIXTURE_COLUMNS, scheduler,
+                           "Matches from the Fixtures sheet with each side's chances and the fair race.",
+                           height=16)
+        self.table.frame.pack(fill="both", expand=True)
+
+    def clear(self) -> None:
+        self.summary.configure(text="Update the ratings to see the chances for the fixtures.")
+        self.table.show([])
+
+    def show(self, forecasts) -> None:
+        rows = views.fixture_rows(forecasts)
+        if not rows:
+            text = "The workbook has no fixtures: add matches to a Fixtures sheet to see their chances here."
+        else:
+            text = (f"{len(rows)} fixture(s). A fair race is the handicap that makes the match closest to even; "
+                    "chances are estimates, not promises.")
+        self.summary.configure(text=text)
+        self.table.show(rows)

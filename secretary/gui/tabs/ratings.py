@@ -1,0 +1,117 @@
+"""The Ratings tab: the league table, searchable and sortable, with one player's history and change."""
+from __future__ import annotations
+
+import tkinter as tk
+from tkinter import ttk
+
+from secretary.gui import charts, views
+from secretary.gui.tooltips import tip
+from secretary.gui.widgets import Table
+
+HISTORY_HEIGHT = 150
+CHANGE_HEIGHT = 190
+SIDE_WIDTH = 340  # pixels for the chosen player's panel
+
+
+class RatingsTab:
+    def __init__(self, parent, scheduler):
+        self.frame = ttk.Frame(parent, padding=8)
+        bar = ttk.Frame(self.frame)
+        bar.pack(fill="x", pady=(0, 6))
+        ttk.Label(bar, text="Find a player:").pack(side="left")
+        self.search = tk.StringVar()
+        entry = tip(ttk.Entry(bar, textvariable=self.search, width=24),
+                    "Type part of a name: the table shows only the players it finds.")
+        entry.pack(side="left", padx=(4, 12))
+        ttk.Label(bar, text="Division:").pack(side="left")
+        self.division = tk.StringVar(value=views.ALL_DIVISIONS)
+        self.divisions = tip(ttk.Combobox(bar, textvariable=self.division, state="readonly", width=18,
+                                          values=[views.ALL_DIVISIONS]),
+                             "Show one division's players, or all of them.")
+        self.divisions.pack(side="left", padx=4)
+        self.count = ttk.Label(bar, text="", style="Muted.TLabel")
+        self.count.pack(side="right")
+        self.search.trace_add("write", lambda *a: self.refilter())
+        self.division.trace_add("write", lambda *a: self.refilter())
+
+        panes = ttk.PanedWindow(self.frame, orient="horizontal")
+        panes.pack(fill="both", expand=True)
+        self.table = Table(panes, views.RATING_COLUMNS, scheduler,
+                           "Choose a player to see their rating history and why their rating changed.",
+                           height=18, on_select=self.chosen)
+        panes.add(self.table.frame, weight=3)
+        side = ttk.Frame(panes, padding=(10, 0, 0, 0))
+        panes.add(side, weight=1)
+        self.panes = panes
+        panes.bind("<Configure>", self._place_sash, add="+")
+        self.name = ttk.Label(side, text="Update the ratings to see them here.", font="SecretaryBig",
+                              wraplength=300, justify="left")
+        self.name.pack(anchor="w")
+        self.detail = ttk.Label(side, text="", justify="left", wraplength=300)
+        self.detail.pack(anchor="w", pady=(2, 6))
+        ttk.Label(side, text="Rating history", font="SecretaryBold").pack(anchor="w")
+        self.history_canvas = tk.Canvas(side, height=HISTORY_HEIGHT, width=300, background="white",
+                                        highlightthickness=0)
+        self.history_canvas.pack(fill="x", pady=(2, 8))
+        ttk.Label(side, text="Why it changed", font="SecretaryBold").pack(anchor="w")
+        self.change_canvas = tk.Canvas(side, height=CHANGE_HEIGHT, width=300, background="white",
+                                       highlightthickness=0)
+        self.change_canvas.pack(fill="both", expand=True, pady=(2, 0))
+        self.change_canvas.bind("<Configure>", lambda e: self._redraw())
+        self.rows: list[views.Row] = []
+        self.ratings = {}
+        self.history = {}
+        self.changes = {}
+        self.player: str | None = None
+
+    def _place_sash(self, event) -> None:
+        """Once, when first shown: the player panel gets about a third of the width."""
+        if event.width > 100:
+            self.panes.sashpos(0, max(event.width - SIDE_WIDTH, event.width * 2 // 3 - 40))
+            self.panes.unbind("<Configure>")
+
+    def show(self, outcome, history) -> None:
+        self.ratings = {p.name: p for p in outcome.ratings}
+        self.changes = {c.name: c for c in outcome.breakdown.players}
+        self.history = history
+        self.rows = views.rating_rows(outcome.ratings, outcome.book.settings.few_games)
+        self.divisions.configure(values=views.divisions_of(self.rows))
+        if self.division.get() not in self.divisions.cget("values"):
+            self.division.set(views.ALL_DIVISIONS)
+        self.refilter()
+        self.player = None
+        if self.rows:
+            self.chosen(self.rows[0].iid)
+
+    def clear(self) -> None:
+        self.rows, self.ratings, self.changes, self.history, self.player = [], {}, {}, {}, None
+        self.refilter()
+        self.name.configure(text="Update the ratings to see them here.")
+        self.detail.configure(text="")
+        self.history_canvas.delete("all")
+        self.change_canvas.delete("all")
+
+    def refilter(self) -> None:
+        shown = views.filter_rows(self.rows, self.search.get(), self.division.get())
+        self.count.configure(text=f"{len(shown)} of {len(self.rows)} players" if self.rows else "")
+        self.table.show(shown)
+
+    def chosen(self, name: str) -> None:
+        self.player = name
+        self._redraw()
+
+    def _redraw(self) -> None:
+        p = self.ratings.get(self.player)
+        if p is None:
+            return
+        width = max(200, self.history_canvas.winfo_width())
+        self.name.configure(text=p.name, wraplength=width)
+        new = "new this update; " if p.is_new or p.change is None else ""
+        self.detail.configure(wraplength=width, text=(
+            f"{p.division or 'no division'}: rating {p.rating:.0f} \u00b1 {p.sd:.0f} "
+            f"(likely {views.band(p.rating, p.sd)}); {new}{p.games:.1f} games, last played {views.day(p.last_played)}."))
+        charts.draw_history(self.history_canvas, self.history.get(p.name, []), width, HISTORY_HEIGHT)
+        self.change_canvas.delete("all")
+        change = self.changes.get(p.name)
+        if change is not None:
+            charts.draw_change(self.change_canvas, 4, 4, max(200, self.change_canvas.winfo_width()) - 8, change)

@@ -1,0 +1,484 @@
+"""What the window shows, worked out on plain objects: no tkinter here, so it is testable without a display."""
+from __future__ import annotations
+
+import datetime as dt
+import re
+from dataclasses import dataclass, replace
+from typing import Iterable, Mapping, Sequence
+
+from secretary.workbook import schema
+
+# ------------------------------------------------------------------ the routine
+
+STEPS = ("Check the results", "Update the ratings", "Review what changed", "Print the notice board")
+DONE, ATTENTION, WAITING = "done", "needs attention", "waiting"
+STATE_WORDS = {DONE: "\u2713 Done", ATTENTION: "! Needs attention", WAITING: "Waiting"}
+
+
+@dataclass(frozen=True)
+class Session:
+    """How far the secretary has got with the open workbook this time."""
+
+    opened: bool = False
+    checked: bool = False  # a check (or an update) has read the workbook
+    errors: int = 0  # errors found by the last check
+    updated: bool = False
+    update_failed: bool = False
+    reviewed: bool = False
+    printed: bool = False
+    notice_exists: bool = False  # a PDF notice board is already beside the workbook
+
+    def but(self, **changes) -> "Session":
+        """A copy with some fields changed."""
+        return replace(self, **changes)
+
+
+def step_states(s: Session) -> tuple[str, ...]:
+    """The state of each of the four steps."""
+    check = ATTENTION if s.errors else (DONE if s.checked else WAITING)
+    update = DONE if s.updated else (ATTENTION if s.update_failed else WAITING)
+    review = DONE if s.reviewed else WAITING
+    printed = DONE if s.printed else WAITING
+    return check, update, review, printed
+
+
+def steps_enabled(s: Session) -> tuple[bool, ...]:
+    """Which steps can be started now."""
+    ready = s.opened and s.checked and not s.errors
+    return s.opened, ready, s.updated, s.updated or (s.opened and s.notice_exists)
+
+
+def next_step(s: Session) -> int | None:
+    """The index of the step to do next (the highlighted one), None when there is nothing to do."""
+    if not s.opened:
+        return None
+    for i, (state, enabled) in enumerate(zip(step_states(s), steps_enabled(s))):
+        if state != DONE:
+            return i if enabled else None
+    return None
+
+
+# ------------------------------------------------------------------ tables
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of a table in the window: its id, heading, tooltip and width in characters."""
+
+    key: str
+    heading: str
+    tip: str
+    width: int = 10
+    numeric: bool = False
+    stretch: bool = False
+
+
+@dataclass(frozen=True)
+class Row:
+    """One table row: ``values`` for sorting, ``shown`` for display, ``tags`` for colour."""
+
+    iid: str
+    values: tuple
+    shown: tuple[str, ...]
+    tags: tuple[str, ...] = ()
+
+
+def sort_key(value: object) -> tuple:
+    """Numbers by size, text alphabetically without regard to capitals, blanks last."""
+    if value is None or value == "":
+        return (2, 0, "")
+    if isinstance(value, bool):
+        return (1, 0, str(value))
+    if isinstance(value, (int, float)):
+        return (0, float(value), "")
+    if isinstance(value, dt.date):
+        return (0, float(value.toordinal()), "")
+    return (1, 0, str(value).casefold())
+
+
+def sort_rows(rows: Sequence[Row], index: int, descending: bool = False) -> list[Row]:
+    """Rows ordered by one column; blanks stay at the end either way."""
+    filled = [r for r in rows if sort_key(r.values[index])[0] < 2]
+    blank = [r for r in rows if sort_key(r.values[index])[0] == 2]
+    return sorted(filled, key=lambda r: sort_key(r.values[index]), reverse=descending) + blank
+
+
+def matches(text: str, search: str) -> bool:
+    """Whether a search (words in any order, capitals ignored) finds this text."""
+    folded = text.casefold()
+    return all(word in folded for word in search.casefold().split())
+
+
+ALL_DIVISIONS = "All divisions"
+
+
+def filter_rows(rows: Sequence[Row], search: str = "", division: str = ALL_DIVISIONS,
+                name_index: int = 1, division_index: int = 5) -> list[Row]:
+    """Rows whose player matches the search and who are in the chosen division."""
+    return [r for r in rows
+            if matches(str(r.values[name_index]), search)
+            and (division in ("", ALL_DIVISIONS) or r.values[division_index] == division)]
+
+
+def divisions_of(rows: Iterable[Row], division_index: int = 5) -> list[str]:
+    """The division filter's choices."""
+    return [ALL_DIVISIONS] + sorted({str(r.values[division_index]) for r in rows if r.values[division_index]},
+                                    key=str.casefold)
+
+
+def points(x: float | None) -> str:
+    return "" if x is None else f"{x:.0f}"
+
+
+def signed(x: float | None) -> str:
+    """Whole points with their sign ("+12", "-3", "0")."""
+    if x is None:
+        return ""
+    n = round(x)
+    return f"{n:+d}" if n else "0"
+
+
+def percent(p: float) -> str:
+    return f"{100 * p:.0f}%"
+
+
+def band(rating: float, sd: float) -> str:
+    """The rating's likely range, one ± either side, e.g. "1480 - 1560"."""
+    return f"{rating - sd:.0f} \u2013 {rating + sd:.0f}"
+
+
+def day(d: dt.date | None) -> str:
+    return "" if d is None else d.strftime("%d %b %Y")
+
+
+RATING_COLUMNS = (
+    Column("rank", "Rank", "Place in the league, best rating first; equal shown ratings share a place.", 3, True),
+    Column("player", "Player", "The player's name as the Results sheet writes it.", 16, stretch=True),
+    Column("rating", "Rating", "The player's estimated strength in points: higher is stronger.", 5, True),
+    Column("band", "Likely range", "The rating give or take one \u00b1: the true level is probably in here.", 10, True),
+    Column("change", "Change", "Points gained or lost since the previous update (blank for a new player).", 5, True),
+    Column("division", "Division", "The division the player is counted in.", 10),
+    Column("sd", "\u00b1", "How uncertain the rating is, in points: fewer or older games mean a bigger \u00b1.", 3, True),
+    Column("games", "Games", "Games played, with old games counting less (see Half-life in Settings).", 5, True),
+    Column("last", "Last played", "The date of the player's most recent result.", 10, True),
+    Column("note", "Note", "New players and ratings that rest on few games are marked here.", 12),
+)
+
+
+def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
+    """The Ratings table: best first, with shared places for equal shown ratings."""
+    order = sorted(ratings, key=lambda p: (-round(p.rating), p.name.casefold()))
+    rows, place = [], 0
+    for position, p in enumerate(order, start=1):
+        if position == 1 or round(p.rating) != round(order[position - 2].rating):
+            place = position
+        new = p.is_new or p.change is None
+        notes = (["new"] if new else []) + (["few games"] if p.games < few_games else [])
+        values = (place, p.name, p.rating, p.rating, None if new else p.change, p.division, p.sd, p.games,
+                  p.last_played, ", ".join(notes))
+        shown = (str(place), p.name, points(p.rating), band(p.rating, p.sd), "" if new else signed(p.change),
+                 p.division, points(p.sd), f"{p.games:.1f}", day(p.last_played), values[-1])
+        rows.append(Row(p.name, values, shown, ("new",) if new else ()))
+    return rows
+
+
+# ------------------------------------------------------------------ problems
+
+PROBLEM_COLUMNS = (
+    Column("severity", "Severity", "Errors stop the update until fixed; warnings do not.", 8),
+    Column("sheet", "Sheet", "The sheet of the workbook where the problem is.", 9),
+    Column("row", "Row", "The row number in that sheet.", 5, True),
+    Column("column", "Column", "The column heading in that sheet.", 9),
+    Column("found", "Found", "What the cell holds now.", 12),
+    Column("problem", "Problem", "What is wrong, in plain words.", 30, stretch=True),
+    Column("fix", "What to do", "How to put it right.", 30, stretch=True),
+)
+
+
+def problem_rows(problems: Sequence) -> list[Row]:
+    """The Problems table: errors first, then warnings, each in sheet order."""
+    order = sorted(enumerate(problems), key=lambda ip: (not ip[1].is_error, ip[0]))
+    rows = []
+    for i, p in order:
+        word = "Error" if p.is_error else "Warning"
+        values = (word, p.sheet, p.row, p.column or "", p.found, p.problem, p.fix)
+        shown = tuple("" if v is None else str(v) for v in values)
+        rows.append(Row(str(i), values, shown, ("error" if p.is_error else "warning",)))
+    return rows
+
+
+def column_letter(number: int) -> str:
+    """Spreadsheet column letters for a 1-based column number (1 -> A, 28 -> AB)."""
+    letters = ""
+    while number > 0:
+        number, rest = divmod(number - 1, 26)
+        letters = chr(65 + rest) + letters
+    return letters
+
+
+def cell_reference(problem, layouts: Mapping | None = None) -> str:
+    """Where to look, as the spreadsheet names it: "Results!E12", or the sheet alone."""
+    layout = (layouts or {}).get(problem.sheet)
+    title = layout.title if layout is not None else problem.sheet
+    sheet = f"'{title}'" if re.search(r"[^A-Za-z0-9_]", title) else title
+    letter = ""
+    if problem.column:
+        if layout is not None:
+            for key, header in layout.headers.items():
+                if schema.header_key(header) == schema.header_key(problem.column):
+                    letter = column_letter(layout.columns[key])
+        if not letter and re.fullmatch(r"[A-Z]{1,3}", problem.column):
+            letter = problem.column
+    if problem.row is None:
+        return f"{sheet}!{letter}:{letter}" if letter else f"the {title} sheet"
+    return f"{sheet}!{letter}{problem.row}" if letter else f"{sheet} row {problem.row}"
+
+
+def fix_line(problem, layouts: Mapping | None = None) -> str:
+    """The prominent line under the Problems table for the chosen problem."""
+    return f"Fix cell {cell_reference(problem, layouts)}: {problem.fix}"
+
+
+def problems_summary(problems: Sequence) -> str:
+    errors = sum(1 for p in problems if p.is_error)
+    warnings = len(problems) - errors
+    if not problems:
+        return "No problems found: the results are ready for the update."
+    if errors:
+        return (f"{errors} error(s) to fix before the ratings can be updated"
+                + (f", and {warnings} warning(s)." if warnings else "."))
+    return f"{warnings} warning(s); the update can go ahead."
+
+
+# ------------------------------------------------------------------ what changed
+
+PARTS = ("Own results", "Opponents re-rated", "Group shift", "Corrections")
+PART_TIPS = (
+    "Own results: the player's own new games, and their older games counting a little less.",
+    "Opponents re-rated: players they met moved, which changes what their own results are worth.",
+    "Group shift: whole divisions moved against each other.",
+    "Corrections: old results edited or removed, or rating settings changed.",
+)
+MIN_SCALE = 10.0  # points: a bar chart's half-width never stands for less, so tiny changes look tiny
+
+
+def movers(changes: Sequence, did_not_play: bool = False, search: str = "") -> list:
+    """Players biggest change first (new players last); optionally only those who did not play."""
+    chosen = [c for c in changes if matches(c.name, search) and (not did_not_play or not c.played)]
+    return sorted(chosen, key=lambda c: (c.is_new, -abs(c.shown[2]), c.name.casefold()))
+
+
+@dataclass(frozen=True)
+class Bar:
+    """One bar of a breakdown chart, in pixels from the chart's left edge."""
+
+    label: str
+    value: int
+    x0: float
+    x1: float
+
+
+def bar_geometry(shown_parts: Sequence[int], width: float) -> tuple[float, tuple[Bar, ...]]:
+    """Bars for the four parts around a zero line in the middle; returns (zero x, bars).
+
+    The half-width stands for the largest part (at least ``MIN_SCALE`` points).
+    """
+    zero = width / 2
+    scale = max([MIN_SCALE] + [abs(v) for v in shown_parts])
+    k = zero / scale
+    bars = tuple(Bar(label, int(v), zero + min(0, v) * k, zero + max(0, v) * k)
+                 for label, v in zip(PARTS, shown_parts))
+    return zero, bars
+
+
+def change_headline(c) -> str:
+    """"Ada Finch: 1512 -> 1530 (+18)", or the first rating of a new player."""
+    before, after, change = c.shown[:3]
+    if c.is_new:
+        return f"{c.name}: first rating {after}"
+    return f"{c.name}: {before} \u2192 {after} ({signed(change)})"
+
+
+def changes_summary(breakdown) -> str:
+    if breakdown is None:
+        return "Update the ratings to see what changed and why."
+    if breakdown.first_update:
+        return breakdown.note or "These are the first ratings: the next update will explain every change."
+    c = breakdown.changes
+    text = (f"Since the last update: {len(c.new)} new, {len(c.edited)} edited and {len(c.removed)} removed "
+            "result rows. Biggest changes first.")
+    return text + (f" {breakdown.note}" if breakdown.note else "")
+
+
+# ------------------------------------------------------------------ rating history chart
+
+
+def line_points(history: Sequence[tuple[dt.date, float]], width: float, height: float,
+                pad: float = 8.0) -> tuple[list[tuple[float, float]], float, float]:
+    """Pixel points for a rating history; returns (points, lowest, highest) of the vertical axis."""
+    if not history:
+        return [], 0.0, 0.0
+    ratings = [r for _, r in history]
+    low, high = min(ratings), max(ratings)
+    if high - low < 50:  # a flat line should look flat, not zoomed into noise
+        mid = (high + low) / 2
+        low, high = mid - 25, mid + 25
+    first, last = history[0][0].toordinal(), history[-1][0].toordinal()
+    span = max(last - first, 1)
+    out = []
+    for d, r in history:
+        x = width / 2 if last == first else pad + (width - 2 * pad) * (d.toordinal() - first) / span
+        y = pad + (height - 2 * pad) * (high - r) / (high - low)
+        out.append((x, y))
+    return out, low, high
+
+
+# ------------------------------------------------------------------ watch list and fixtures
+
+FIXTURE_COLUMNS = (
+    Column("date", "Date", "When the match is to be played.", 10, True),
+    Column("a", "Player A", "The first player named in the Fixtures sheet.", 16, stretch=True),
+    Column("b", "Player B", "The second player.", 16, stretch=True),
+    Column("race", "Race", "Games each needs to win (the fixture's race, else the usual race).", 6),
+    Column("chance", "A wins", "Player A's chance of winning the match at that race.", 7, True),
+    Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
+    Column("fair_chance", "A wins (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
+    Column("note", "What to know", "Warnings: a player new to the ratings, or too few games to be sure.", 24,
+           stretch=True),
+)
+
+
+def fixture_rows(forecasts: Sequence) -> list[Row]:
+    rows = []
+    for i, f in enumerate(forecasts):
+        fx = f.fixture
+        note = []
+        if f.not_rated:
+            note.append("not rated yet: " + ", ".join(f.not_rated))
+        elif f.uncertain:
+            note.append("few games: treat the chances as rough")
+        values = (fx.date, fx.player_a, fx.player_b, f"{f.race_a}-{f.race_b}", f.race_chance,
+                  f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, "; ".join(note))
+        shown = (day(fx.date), fx.player_a, fx.player_b, values[3], percent(f.race_chance), values[5],
+                 percent(f.fair_chance), values[7])
+        rows.append(Row(str(i), values, shown, ("uncertain",) if note else ()))
+    return rows
+
+
+DIVISION_COLUMNS = (
+    Column("division", "Division", "The division (the group whose level is compared with the others).", 14),
+    Column("players", "Players", "Players counted in the division.", 6, True),
+    Column("level", "Level", "The division's average rating minus the league's, in points.", 6, True),
+    Column("linked", "Linked share", "How much of the division's level games against other divisions pin "
+           "down: 100% is fully tied in, low values mean its level is a guess.", 9, True),
+    Column("cross", "Games vs others", "Games (older ones counting less) against other divisions.", 9, True),
+    Column("linkers", "Linking players", "How many of its players met someone from another division.", 9, True),
+    Column("todo", "What to do", "What would tie this division in better.", 40, stretch=True),
+)
+
+HELD_COLUMNS = (
+    Column("player", "Player", "A player whose results run ahead of their rating.", 16),
+    Column("division", "Division", "The division they are counted in.", 12),
+    Column("rating", "Rating", "Their rating now, in points.", 6, True),
+    Column("games", "Games", "Games played (older ones counting less).", 6, True),
+    Column("won", "Won", "Games won (older ones counting less).", 6, True),
+    Column("expected", "Expected", "Games their rating says they should have won.", 7, True),
+    Column("held", "Points held", "How much further their results alone would move them.", 8, True),
+    Column("todo", "What to do", "What would settle their rating.", 40, stretch=True),
+)
+
+SUGGESTION_COLUMNS = (
+    Column("a", "Player A", "First player of the suggested match.", 16),
+    Column("b", "Player B", "Second player.", 16),
+    Column("divisions", "Divisions", "Their divisions: a match across divisions ties their levels together.", 18),
+    Column("race", "Race", "The league's usual race.", 5),
+    Column("chance", "A wins a game", "Player A's chance of winning one game.", 9, True),
+    Column("target", "Ties in", "The division whose level this match pins down most.", 12),
+    Column("sd", "\u00b1 of its level", "How uncertain that division's level is now, and after this match "
+           "(with the ones above it).", 11),
+    Column("todo", "What to do", "The suggestion in plain words.", 36, stretch=True),
+)
+
+
+def division_rows(watch) -> list[Row]:
+    rows = []
+    for d in watch.divisions:
+        values = (d.division or "(none)", d.players, d.relative_level, d.linked_share, d.cross_games,
+                  d.linking_players, d.what_to_do or "nothing: well linked")
+        shown = (values[0], str(d.players), signed(d.relative_level), percent(d.linked_share),
+                 f"{d.cross_games:.0f}", str(d.linking_players), values[6])
+        rows.append(Row(d.division or "(none)", values, shown, ("flagged",) if d.flagged else ()))
+    return rows
+
+
+def held_rows(watch) -> list[Row]:
+    rows = []
+    for h in watch.held:
+        values = (h.name, h.division, h.rating, h.games, h.won, h.expected, h.held_points, h.what_to_do)
+        shown = (h.name, h.division, points(h.rating), f"{h.games:.1f}", f"{h.won:.1f}", f"{h.expected:.1f}",
+                 signed(h.held_points), h.what_to_do)
+        rows.append(Row(h.name, values, shown, ("flagged",) if h.flagged else ()))
+    return rows
+
+
+def suggestion_rows(watch) -> list[Row]:
+    rows = []
+    for i, s in enumerate(watch.suggestions):
+        values = (s.player_a, s.player_b, f"{s.division_a} v {s.division_b}", s.race, s.chance_a, s.target,
+                  s.sd_before, s.what_to_do)
+        shown = (*values[:3], f"{s.race}-{s.race}", percent(s.chance_a), s.target,
+                 f"{s.sd_before:.0f} \u2192 {s.sd_after:.0f}", s.what_to_do)
+        rows.append(Row(str(i), values, shown))
+    return rows
+
+
+def watch_lines(watch) -> list[str]:
+    """The watch list's to-do lines, most important first."""
+    lines = [p.what_to_do for p in watch.pools]
+    lines += [f"{d.division}: {d.what_to_do}" for d in watch.flagged_divisions]
+    lines += [f"{h.name}: {h.what_to_do}" for h in watch.flagged_players]
+    if watch.suggestions and (watch.pools or watch.flagged_divisions):
+        lines.append(f"{len(watch.suggestions)} linking match(es) are suggested below.")
+    return lines or ["Nothing to act on: every division is tied in well enough and no rating is held back."]
+
+
+# ------------------------------------------------------------------ settings
+
+
+def setting_text(spec, value) -> str:
+    """A setting's value as the dialog's field shows it; blank when it is the default."""
+    if value is None or value == spec.default:
+        return ""
+    return plain(value)
+
+
+def default_text(spec) -> str:
+    """The default as the secretary would type it."""
+    return "blank" if spec.default == "" else plain(spec.default)
+
+
+def plain(value) -> str:
+    """A number without a pointless ".0"."""
+    return str(int(value)) if isinstance(value, float) and value.is_integer() else str(value)
+
+
+def setting_tip(spec) -> str:
+    default = default_text(spec)
+    return f"{spec.explanation}\nAllowed: {spec.allowed}. Leave it blank for the default ({default})."
+
+
+def settings_messages(texts: Mapping[str, str]) -> dict[str, str]:
+    """Per setting field, the message to show beside it ("" when the value is fine)."""
+    messages, values = {}, {}
+    for spec in schema.SETTINGS_TABLE:
+        value, error = schema.validate_setting(spec.field, texts.get(spec.field, ""))
+        messages[spec.field] = error or ""
+        values[spec.field] = value
+    if not messages["usual_race"] and not messages["longest_race"] \
+            and values["usual_race"] > values["longest_race"]:
+        messages["usual_race"] = f"must not be longer than the longest race ({values['longest_race']})"
+    return messages
+
+
+def can_save(messages: Mapping[str, str]) -> bool:
+    return not any(messages.values())

@@ -1,0 +1,130 @@
+"""Building blocks for the window: a scheduler that can cancel everything, and a sortable table."""
+from __future__ import annotations
+
+import tkinter as tk
+from tkinter import font as tkfont
+from tkinter import ttk
+from typing import Callable, Sequence
+
+from secretary.gui import views
+from secretary.gui.tooltips import heading_tips
+
+BATCH_ROWS = 200  # rows inserted per event-loop turn: a big table fills without freezing the window
+TAG_COLOURS = {
+    "error": {"foreground": "#8b0000", "background": "#fde2e1"},
+    "warning": {"foreground": "#5c4300", "background": "#fff4cc"},
+    "new": {"foreground": "#0b5d1e"},
+    "flagged": {"background": "#fff4cc"},
+    "uncertain": {"foreground": "#5f5f5f"},
+}
+
+
+class Scheduler:
+    """``after()`` callbacks that are remembered, so that closing the window can cancel every one."""
+
+    def __init__(self, root: tk.Misc):
+        self.root = root
+        self.ids: set[str] = set()
+
+    def later(self, ms: int, fn: Callable[[], None]) -> str:
+        def run() -> None:
+            self.ids.discard(ident)
+            fn()
+
+        ident = self.root.after(ms, run)
+        self.ids.add(ident)
+        return ident
+
+    def cancel(self, ident: str | None) -> None:
+        if ident is not None and ident in self.ids:
+            self.ids.discard(ident)
+            self.root.after_cancel(ident)
+
+    def cancel_all(self) -> None:
+        for ident in list(self.ids):
+            self.cancel(ident)
+
+
+def button(parent, text: str, command, tip: str, **options) -> ttk.Button:
+    """A button with its tooltip (every button has one)."""
+    from secretary.gui.tooltips import tip as give_tip
+
+    return give_tip(ttk.Button(parent, text=text, command=command, **options), tip)
+
+
+class Table:
+    """A table with scrollbars, sortable headings (click), a tooltip per heading, filled in batches."""
+
+    def __init__(self, parent, columns: Sequence[views.Column], scheduler: Scheduler, body_tip: str,
+                 height: int = 10, on_select: Callable[[str], None] | None = None):
+        self.columns, self.scheduler = tuple(columns), scheduler
+        self.frame = ttk.Frame(parent)
+        self.tree = ttk.Treeview(self.frame, columns=[c.key for c in columns], show="headings",
+                                 height=height, selectmode="browse")
+        digit = tkfont.nametofont("TkDefaultFont").measure("0")
+        heading_font = tkfont.nametofont("SecretaryBold")
+        for i, c in enumerate(self.columns):
+            self.tree.heading(c.key, text=c.heading, anchor="w", command=lambda i=i: self.sort_by(i))
+            width = max(c.width * digit, heading_font.measure(c.heading + " \u25b2")) + 12
+            self.tree.column(c.key, width=width, minwidth=3 * digit,
+                             stretch=c.stretch, anchor="e" if c.numeric else "w")
+        for tag, colours in TAG_COLOURS.items():
+            self.tree.tag_configure(tag, **colours)
+        down = ttk.Scrollbar(self.frame, orient="vertical", command=self.tree.yview)
+        across = ttk.Scrollbar(self.frame, orient="horizontal", command=self.tree.xview)
+        self.tree.configure(yscrollcommand=down.set, xscrollcommand=across.set)
+        self.tree.grid(row=0, column=0, sticky="nsew")
+        down.grid(row=0, column=1, sticky="ns")
+        across.grid(row=1, column=0, sticky="ew")
+        self.frame.rowconfigure(0, weight=1)
+        self.frame.columnconfigure(0, weight=1)
+        heading_tips(self.tree, {c.key: c.tip + " Click to sort." for c in self.columns}, body_tip)
+        if on_select is not None:
+            self.tree.bind("<<TreeviewSelect>>", lambda e: self._selected(on_select), add="+")
+        self.rows: list[views.Row] = []
+        self.order: tuple[int, bool] | None = None
+        self._pending: str | None = None
+
+    def _selected(self, on_select) -> None:
+        chosen = self.tree.selection()
+        if chosen:
+            on_select(chosen[0])
+
+    @property
+    def filling(self) -> bool:
+        return self._pending is not None
+
+    def show(self, rows: Sequence[views.Row]) -> None:
+        """Show these rows (in the chosen sort order, if any)."""
+        self.rows = list(rows)
+        self._refill()
+
+    def sort_by(self, index: int) -> None:
+        """Sort by a column; a second click on the same heading reverses the order."""
+        descending = self.order is not None and self.order[0] == index and not self.order[1]
+        self.order = (index, descending)
+        for i, c in enumerate(self.columns):
+            arrow = (" \u25bc" if descending else " \u25b2") if i == index else ""
+            self.tree.heading(c.key, text=c.heading + arrow)
+        self._refill()
+
+    def _refill(self) -> None:
+        rows = self.rows if self.order is None else views.sort_rows(self.rows, *self.order)
+        self.scheduler.cancel(self._pending)
+        self._pending = None
+        children = self.tree.get_children()
+        if children:
+            self.tree.delete(*children)
+        self._insert(rows, 0)
+
+    def _insert(self, rows: list[views.Row], start: int) -> None:
+        for row in rows[start:start + BATCH_ROWS]:
+            self.tree.insert("", "end", iid=row.iid, values=row.shown, tags=row.tags)
+        if start + BATCH_ROWS < len(rows):
+            self._pending = self.scheduler.later(1, lambda: self._insert(rows, start + BATCH_ROWS))
+        else:
+            self._pending = None
+
+    def shown_values(self) -> list[tuple[str, ...]]:
+        """The texts of every row now in the table, top to bottom."""
+        return [tuple(str(v) for v in self.tree.item(i, "values")) for i in self.tree.get_children()]

@@ -1,0 +1,132 @@
+"""Choosing the half-life and the skill spread by walk-forward log-loss.
+
+A coarse grid over (half-life, skill spread), then a compass search around
+the best point in log space (each axis stepped by a factor, the factor
+square-rooted whenever no neighbour improves).  A half-life of 0 (games never
+age) is one of the candidates; the search does not step away from it along
+the half-life axis.  The starting settings are scored first and kept unless
+something scores better, so the answer is never worse than what was given.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Callable, Sequence
+
+from secretary.errors import Cancelled
+from secretary.model.evaluate import Walk, evaluate, prepare
+from secretary.model.records import Player, Result, Settings
+
+HALF_LIVES = (0.0, 30.0, 60.0, 120.0, 240.0, 480.0, 960.0)  # days; 0 = no ageing
+SPREADS = (50.0, 75.0, 110.0, 160.0, 240.0, 360.0)  # points
+REFINE_EVALUATIONS = 16  # walks spent on the local search after the grid
+
+
+@dataclass(frozen=True)
+class Tuning:
+    """What tuning found.
+
+    Attributes
+    ----------
+    old_settings, settings : the settings given, and the chosen ones (only half-life and spread differ)
+    old_score, new_score : walk-forward log-loss per game (nats) of each
+    tried : every (half-life days, skill spread points, log-loss) scored, in order
+    """
+
+    old_settings: Settings
+    settings: Settings
+    old_score: float
+    new_score: float
+    tried: tuple[tuple[float, float, float], ...]
+
+    @property
+    def improved(self) -> bool:
+        """True when the chosen settings score strictly better than the old ones."""
+        return self.new_score < self.old_score
+
+
+def tune(
+    data: Walk | Sequence[Result],
+    settings: Settings = Settings(),
+    *,
+    players: Sequence[Player] = (),
+    step_days: int = 7,
+    half_lives: Sequence[float] = HALF_LIVES,
+    spreads: Sequence[float] = SPREADS,
+    refine: int = REFINE_EVALUATIONS,
+    progress: Callable[[int, int], None] | None = None,
+    cancel=None,
+) -> Tuning:
+    """The half-life (days) and skill spread (points) with the lowest walk-forward log-loss.
+
+    Parameters
+    ----------
+    data : results, or a ``Walk`` from ``evaluate.prepare``
+    settings : the current settings (scored first; every other field is kept)
+    players : Players-sheet records (starting ratings)
+    step_days : walk step in days
+    half_lives, spreads : the coarse grid (half-life 0 = no ageing)
+    refine : most walks spent refining around the grid's best point
+    progress : called as ``progress(done, total)`` after every walk (and once at the end)
+    cancel : optional flag with ``is_set()``; when set, ``Cancelled`` is raised
+
+    Raises
+    ------
+    Cancelled
+        when ``cancel`` is set; nothing is chosen.
+    """
+    walk = data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days)
+    total = 1 + len(half_lives) * len(spreads) + max(0, int(refine))
+    scores: dict[tuple[float, float], float] = {}
+    tried: list[tuple[float, float, float]] = []
+
+    def score(half_life: float, spread: float) -> float:
+        key = (round(float(half_life)), round(float(spread)))
+        if key not in scores:
+            if cancel is not None and cancel.is_set():
+                raise Cancelled("Tuning was cancelled; the settings were not changed.")
+            trial = settings.replace(half_life_days=float(key[0]), skill_spread=float(key[1]))
+            scores[key] = evaluate(walk, trial, cancel=cancel).log_loss
+            tried.append((float(key[0]), float(key[1]), scores[key]))
+            if progress is not None:
+                progress(min(len(tried), total), total)
+        return scores[key]
+
+    old = score(settings.half_life_days, settings.skill_spread)
+    for h in half_lives:
+        for s in spreads:
+            score(h, s)
+    budget = len(tried) + max(0, int(refine))
+    (h, s), best = min(scores.items(), key=lambda kv: kv[1])
+    # Steps halve the grid's log spacing first (factor = sqrt of the typical neighbour ratio).
+    step_h = math.sqrt(_ratio([x for x in half_lives if x > 0]))
+    step_s = math.sqrt(_ratio(spreads))
+    while len(tried) < budget and (step_h > 1.02 or step_s > 1.02):
+        moved = False
+        along_h = ((h * step_h, s), (h / step_h, s)) if h > 0 else ()  # "never ages" has no neighbour
+        for cand in (*along_h, (h, s * step_s), (h, s / step_s)):
+            if len(tried) >= budget:
+                break
+            if (h > 0 and cand[0] < 1) or cand[1] < 1:
+                continue
+            value = score(*cand)
+            if value < best:
+                (h, s), best, moved = (round(cand[0]), round(cand[1])), value, True
+                break
+        if not moved:
+            step_h, step_s = math.sqrt(step_h), math.sqrt(step_s)
+    if progress is not None:
+        progress(total, total)
+    key = min(scores, key=scores.get)
+    if scores[key] >= old:
+        return Tuning(settings, settings, old, old, tuple(tried))
+    chosen = settings.replace(half_life_days=float(key[0]), skill_spread=float(key[1]))
+    return Tuning(settings, chosen, old, scores[key], tuple(tried))
+
+
+def _ratio(values: Sequence[float]) -> float:
+    """Geometric mean ratio between neighbouring grid values (2 when there are fewer than two)."""
+    v = sorted(set(float(x) for x in values if x > 0))
+    if len(v) < 2:
+        return 2.0
+    return (v[-1] / v[0]) ** (1.0 / (len(v) - 1))
