@@ -63,7 +63,7 @@ def gradient(pairs: Pairs, r, prior_mean, prior_sd: float) -> np.ndarray:
 
 def pair_curvature(pairs: Pairs, r) -> np.ndarray:
     """``n_ij p (1 - p)`` per pair: the pair's weight in the Hessian's Laplacian."""
-    p = expit(r[pairs.i] - r[pairs.j])
+    p = pair_chance(pairs, r)
     return pairs.total * p * (1.0 - p)
 
 
@@ -112,14 +112,29 @@ def hessian(pairs: Pairs, r, prior_sd: float) -> sp.csr_matrix:
     return LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
 
 
+def pair_chance(pairs: Pairs, r) -> np.ndarray:
+    """``p = sigmoid(r_i - r_j)`` per pair, as ``(1 + tanh(d / 2)) / 2`` in place (several times faster than expit)."""
+    p = np.take(r, pairs.i)
+    p -= np.take(r, pairs.j)
+    p *= 0.5
+    np.tanh(p, out=p)
+    p += 1.0
+    p *= 0.5
+    return p
+
+
 def _gradient_and_curvature(pairs: Pairs, r, mu, prior_sd: float):
     """``dF/dr`` and the pair weights ``n p (1 - p)`` from one pass over the pairs."""
-    p = expit(r[pairs.i] - r[pairs.j])
+    p = pair_chance(pairs, r)
     total = pairs.total
-    g = total * p - pairs.won_i
+    g = total * p
+    g -= pairs.won_i
     n = pairs.n_players
     grad = np.bincount(pairs.i, g, n) - np.bincount(pairs.j, g, n) + (r - mu) / prior_sd**2
-    return grad, total * p * (1.0 - p)
+    np.subtract(1.0, p, out=g)
+    g *= p
+    g *= total
+    return grad, g
 
 
 def _newton_step(pattern: LaplacianPattern, h, prior_sd: float, g: np.ndarray, gmax: float) -> np.ndarray:
@@ -181,16 +196,25 @@ def fit_map(
         if it == max_iter:
             break
         step = _newton_step(pattern, h, prior_sd, g, gmax)
-        # Safeguard: F is convex along the step, so dF/dt at t = 1 being <= 0 proves a decrease.
-        # Otherwise the line minimum lies in (0, 1): find it by bisection on dF/dt (exact line search).
-        lo, hi, t = 0.0, 1.0, 1.0
+        # Safeguard: F is convex along the step, so dF/dt <= 0 at the accepted t proves a decrease.
+        # The full step is taken when dF/dt(1) <= 0; otherwise the line minimum lies in (0, 1) and
+        # is bracketed by regula falsi on dF/dt until it has lost half of its initial size.
+        slope0 = float(g @ step)
+        lo, hi, s_lo, s_hi, t = 0.0, 1.0, slope0, None, 1.0
         for _ in range(60):
             g_new, h_new = _gradient_and_curvature(pairs, r + t * step, mu, prior_sd)
             slope = float(g_new @ step)
-            if slope <= 0.0 and (t == hi or slope >= -1e-3 * abs(float(g @ step))):
+            if slope <= 0.0 and (t == 1.0 or slope >= 0.5 * slope0):
                 break
-            lo, hi = (t, hi) if slope < 0 else (lo, t)
-            t = 0.5 * (lo + hi)
+            if slope < 0.0:
+                lo, s_lo = t, slope
+                if s_hi is not None:
+                    s_hi *= 0.5  # Illinois: stop one end from sticking
+            else:
+                hi, s_hi = t, slope
+                s_lo *= 0.5 if lo > 0 else 1.0
+            t = lo + (hi - lo) * s_lo / (s_lo - s_hi) if s_hi is not None else 0.5 * (lo + hi)
+            t = min(max(t, lo + 1e-3 * (hi - lo)), hi - 1e-3 * (hi - lo))
         r = r + t * step
         g, h = g_new, h_new
         gmax = float(np.max(np.abs(g)))

@@ -9,6 +9,7 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Mapping
 
 
@@ -126,12 +127,14 @@ def _digest(*parts: object) -> str:
     return hashlib.blake2b(text.encode("utf-8"), digest_size=8).hexdigest()
 
 
+@lru_cache(maxsize=1 << 18)  # the update and its breakdown both need every row's digests
 def identity(result: Result) -> str:
     """Which match a row is (date and the two players), whatever its score says."""
     a, b = sorted((result.player_a.casefold(), result.player_b.casefold()))
     return _digest(result.date.isoformat(), a, b)
 
 
+@lru_cache(maxsize=1 << 18)
 def fingerprint(result: Result) -> str:
     """Everything about a row that the rating uses; changes when the row is edited."""
     return _digest(
