@@ -67,11 +67,12 @@ LEAGUE_NIGHT = "League night"
 VOID_NOTE = f"{schema.VOID_PREFIX} - player taken ill"
 
 # Division: (mean strength, spread within the division, race to), strengths in log-odds.
+# The spreads give the league a rating SD of about 150 points, as real leagues show.
 LEVELS = {
-    PREMIER: (0.60, 0.30, 5),
-    ONE: (0.10, 0.30, 5),
-    TWO: (-0.45, 0.30, 4),
-    VALLEY: (0.20, 0.25, 4),  # stronger than the prior assumes: only its link can tell
+    PREMIER: (0.90, 0.55, 5),
+    ONE: (0.15, 0.55, 5),
+    TWO: (-0.70, 0.55, 4),
+    VALLEY: (0.25, 0.45, 4),  # stronger than the prior assumes: only its link can tell
 }
 DOMINANT_LEAD = 2.3  # log-odds above the Valley's mean: about 9 games in 10 won
 TRANSFER_STRENGTH = 0.55  # a strong player for Division One

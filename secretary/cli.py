@@ -50,7 +50,11 @@ class ProgressBar:
         line = f"[{'#' * filled}{'.' * (width - filled)}] {fraction:4.0%} {stage}"
         if self.stream.isatty():
             self.stream.write("\r" + line.ljust(72) + ("\n" if fraction >= 1.0 else ""))
-        else:
+        else:  # a log file gets a line per stage and per tenth, not per step
+            mark = (stage, int(fraction * 10))
+            if mark == getattr(self, "last", None):
+                return
+            self.last = mark
             self.stream.write(line + "\n")
         self.stream.flush()
 
@@ -194,6 +198,42 @@ def cmd_fixtures(args) -> int:
     return EXIT_DONE
 
 
+def cmd_evaluate(args) -> int:
+    from secretary.pipeline import evaluate_workbook
+
+    ev = evaluate_workbook(args.workbook)
+    print(f"Walk-forward check of {Path(args.workbook).name}: each week predicted from the weeks before it.")
+    print(f"  {ev.games:,.0f} games in {ev.matches:,} matches predicted over {ev.steps} weeks.")
+    print(f"  Mean log-loss per game {ev.log_loss:.4f} (a coin toss scores 0.6931; lower is better); "
+          f"Brier score {ev.brier:.4f} (a coin toss scores 0.2500).")
+    if ev.few_games:
+        print(f"  Games involving a player with few games: {ev.few_games:,.0f}, log-loss {ev.few_log_loss:.4f}.")
+    print("  Calibration: when the ratings gave a chance in each band, how often it happened:")
+    print(f"    {'band':>9} {'games':>8} {'predicted':>10} {'happened':>9}")
+    for band in ev.calibration:
+        if band.games:
+            print(f"    {band.low:>4.0%}-{band.high:<4.0%} {band.games:>8,.0f} {band.predicted:>10.1%} {band.observed:>9.1%}")
+    return EXIT_DONE
+
+
+def cmd_tune(args) -> int:
+    from secretary.pipeline import tune_workbook
+
+    t = tune_workbook(args.workbook, apply=args.apply, progress=ProgressBar())
+    old, new = t.old_settings, t.settings
+    print(f"Current settings: half-life {old.half_life_days:g} days, skill spread {old.skill_spread:g} points: "
+          f"log-loss {t.old_score:.4f} per game.")
+    print(f"Best found:       half-life {new.half_life_days:g} days, skill spread {new.skill_spread:g} points: "
+          f"log-loss {t.new_score:.4f} per game.")
+    if not t.improved:
+        print("The current settings are already the best found; nothing to change.")
+    elif args.apply:
+        print("Written to the Settings sheet; the next update uses them.")
+    else:
+        print("Nothing was written. Run again with --apply to write these to the Settings sheet.")
+    return EXIT_DONE
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="secretary", description=DESCRIPTION, epilog=EPILOG,
                                      formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -230,6 +270,15 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("fixtures", help="forecast the coming fixtures and suggest fair races, without a full update")
     p.add_argument("workbook", help="the league workbook (its ratings must be current)")
     p.set_defaults(run=cmd_fixtures)
+
+    p = sub.add_parser("evaluate", help="how well the ratings predict the league's own history, week by week")
+    p.add_argument("workbook", help="the league workbook")
+    p.set_defaults(run=cmd_evaluate)
+
+    p = sub.add_parser("tune", help="choose half-life and skill spread from the league's own history")
+    p.add_argument("workbook", help="the league workbook")
+    p.add_argument("--apply", action="store_true", help="write the chosen settings to the Settings sheet")
+    p.set_defaults(run=cmd_tune)
 
     p = sub.add_parser("demo", help="copy the invented demo league to FOLDER and update it twice")
     p.add_argument("folder", nargs="?", default="secretary-demo", help="where to put it (default: ./secretary-demo)")

@@ -18,9 +18,11 @@ from secretary import __version__
 from secretary.errors import Cancelled, FileRefused, SecretaryError, WorkbookProblems
 from secretary.model.breakdown import Breakdown, explain_changes
 from secretary.model.diagnose import describe
+from secretary.model.evaluate import Evaluation, evaluate
 from secretary.model.fixtures import FixtureForecast, forecast_fixtures
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.linkage import WatchList, watch_list
+from secretary.model.tune import Tuning, tune
 from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
@@ -259,6 +261,31 @@ def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | 
         written = save.save_workbook(wb, path).path
     card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings)
     return forecasts, written, card
+
+
+def _checked_book(path: str | Path) -> LeagueBook:
+    book = read_workbook(path)
+    if book.has_errors:
+        raise WorkbookProblems(book.problems)
+    return book
+
+
+def evaluate_workbook(path: str | Path, *, cancel: CancelFlag | None = None) -> Evaluation:
+    """How well the ratings would have predicted the league's own history, week by week."""
+    book = _checked_book(path)
+    return evaluate(book.results, book.settings, players=book.players, cancel=cancel)
+
+
+def tune_workbook(path: str | Path, *, apply: bool = False, progress: Progress | None = None,
+                  cancel: CancelFlag | None = None) -> Tuning:
+    """Choose half-life and skill spread by walk-forward log-loss; write them only when ``apply``."""
+    book = _checked_book(path)
+    report = (lambda done, total: progress("Trying settings", done / max(total, 1))) if progress else None
+    tuning = tune(book.results, book.settings, players=book.players, progress=report, cancel=cancel)
+    if apply and tuning.improved:
+        save_settings(path, {"half_life_days": tuning.settings.half_life_days,
+                             "skill_spread": tuning.settings.skill_spread})
+    return tuning
 
 
 def new_league(path: str | Path) -> Path:

@@ -91,7 +91,7 @@ def test_void_results_are_not_rated():
 
 def test_display_scale_is_applied_only_at_the_edges():
     results, _ = synthetic_results(5, n=8, weeks=4)
-    base = fit_league(results, Settings())
+    base = fit_league(results, Settings(skill_spread=200))
     wide = fit_league(results, Settings(centre=1000, scale=200, skill_spread=100))
     # Same prior in log-odds (200/400 = 100/200), so the same strengths; only the points differ.
     assert np.allclose(base.r, wide.r, atol=1e-12)

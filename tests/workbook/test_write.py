@@ -118,7 +118,7 @@ def test_update_log_appends_across_saves(tmp_path):
 
 
 def test_settings_text_is_short_and_names_every_setting_in_use():
-    text = settings_text(Settings(league_name="Millbrook"))
+    text = settings_text(Settings(league_name="Millbrook", skill_spread=200, half_life_days=365))
     assert text.startswith("Centre 1500; Scale 400; Skill spread 200; Half-life (days) 365")
     assert "League name Millbrook" in text
     assert "League name" not in settings_text(Settings())
