@@ -5,7 +5,6 @@ A thin controller over the pipeline: long work runs on the worker thread, and
 """
 from __future__ import annotations
 
-import shutil
 import sys
 import tkinter as tk
 from pathlib import Path
@@ -54,8 +53,8 @@ class App:
         self.scheduler = Scheduler(root)
         self.worker = Worker()
         self.path: Path | None = None
-        self.book = None
-        self.outcome = None
+        self.checked = None  # jobs.Checked: the last check's findings
+        self.updated = None  # jobs.Updated: the last update's results
         self.session = views.Session()
         self.closed = False
         style_window(root)
@@ -71,6 +70,7 @@ class App:
         self.refresh_steps()
         self.say("Open a league workbook (Ctrl+O), or try the demo league from the File menu.")
         self.scheduler.later(POLL_MS, self._poll)
+        self.worker.child.ensure()  # start the background process now, so that the first job starts at once
 
     # ------------------------------------------------------------ building
 
@@ -208,7 +208,7 @@ class App:
             self.refresh_steps()
 
     def _clear(self) -> None:
-        self.book = self.outcome = None
+        self.checked = self.updated = None
         self.problems.show(())
         self.ratings.clear()
         self.changes.show(None)
@@ -250,7 +250,7 @@ class App:
         if job == "check":
             self._checked(value)
         elif job == "update":
-            self._updated(*value)
+            self._updated(value)
         elif job in ("new", "demo"):
             self.open_workbook(value)
         elif job == "restore":
@@ -267,7 +267,7 @@ class App:
         self.cancel_button.state(["disabled"])
         self.say(failure.message)
         if failure.kind == "problems":
-            self.problems.show(failure.problems, self.book.layouts if self.book is not None else None)
+            self.problems.show(failure.problems, self.checked.layouts if self.checked is not None else None)
             errors = sum(1 for p in failure.problems if p.is_error)
             self.session = self.session.but(checked=True, errors=errors, update_failed=job == "update")
             self.notebook.select(self.problems.frame)
@@ -283,18 +283,16 @@ class App:
         """Step 1: read the workbook and list its problems."""
         if self.path is None:
             return self.choose_workbook()
-        path = self.path
-        self._start("check", lambda progress, cancel: pipeline.check_workbook(path),
-                    f"Checking {path.name}\u2026")
+        self._start("check", self.worker.child.call("check", self.path), f"Checking {self.path.name}\u2026")
 
-    def _checked(self, book) -> None:
-        self.book = book
-        self.problems.show(book.problems, book.layouts)
+    def _checked(self, checked) -> None:
+        self.checked = checked
+        self.problems.show(checked.problems, checked.layouts)
         notice = pipeline.notice_pdf_path(self.path).exists()
-        self.session = self.session.but(checked=True, errors=len(book.errors), update_failed=False,
+        self.session = self.session.but(checked=True, errors=len(checked.errors), update_failed=False,
                                         notice_exists=notice)
-        self.say(f"{self.path.name}: {len(book.results)} result rows. " + views.problems_summary(book.problems))
-        if book.problems:
+        self.say(f"{self.path.name}: {checked.result_rows} result rows. " + views.problems_summary(checked.problems))
+        if checked.problems:
             self.notebook.select(self.problems.frame)
 
     def update(self) -> None:
@@ -302,27 +300,20 @@ class App:
         if self.path is None or not views.steps_enabled(self.session)[1]:
             self.say("Check the results first: the update needs a workbook without errors.")
             return
-        path = self.path
+        self._start("update", self.worker.child.call("update", self.path), "Updating the ratings\u2026")
 
-        def job(progress, cancel):
-            outcome = pipeline.run_update(path, progress=progress, cancel=cancel)
-            history = pipeline.rating_history(outcome.written) if outcome.written else {}
-            return outcome, history
-
-        self._start("update", job, "Updating the ratings\u2026")
-
-    def _updated(self, outcome, history) -> None:
-        self.outcome, self.book = outcome, outcome.book
-        self.problems.show(outcome.book.problems, outcome.book.layouts)
-        self.ratings.show(outcome, history)
-        self.changes.show(outcome.breakdown)
-        self.watch.show(outcome.watch)
-        self.fixtures.show(outcome.forecasts)
+    def _updated(self, updated) -> None:
+        self.updated, self.checked = updated, updated.checked
+        self.problems.show(updated.checked.problems, updated.checked.layouts)
+        self.ratings.show(updated)
+        self.changes.show(updated)
+        self.watch.show(updated.watch)
+        self.fixtures.show(updated.forecasts)
         self.session = self.session.but(checked=True, errors=0, updated=True, update_failed=False,
-                                        reviewed=False, printed=False, notice_exists=outcome.notice_pdf is not None)
+                                        reviewed=False, printed=False, notice_exists=updated.notice_pdf is not None)
         self.notebook.select(self.ratings.frame)
-        notes = " ".join(outcome.notes)
-        self.say(f"Ratings updated for {len(outcome.ratings)} players. {outcome.reason} {notes}".strip())
+        notes = " ".join(updated.notes)
+        self.say(f"Ratings updated for {len(updated.ratings)} players. {updated.reason} {notes}".strip())
 
     def review(self) -> None:
         """Step 3: look at what changed."""
@@ -333,7 +324,7 @@ class App:
         """Step 4: open the PDF notice board in the system's viewer."""
         if self.path is None:
             return
-        pdf = self.outcome.notice_pdf if self.outcome is not None else pipeline.notice_pdf_path(self.path)
+        pdf = self.updated.notice_pdf if self.updated is not None else pipeline.notice_pdf_path(self.path)
         if pdf is None or not Path(pdf).exists():
             self.dialogs.info("Notice board", "There is no notice board yet: update the ratings first.")
             return
@@ -376,7 +367,7 @@ class App:
     def new_workbook(self) -> None:
         path = self.dialogs.ask_new_workbook(self.path.parent if self.path else None)
         if path is not None:
-            self._start("new", lambda progress, cancel: pipeline.new_league(path), "Making a blank workbook\u2026")
+            self._start("new", self.worker.child.call("new", path), "Making a blank workbook\u2026")
 
     def open_demo(self, choose: bool) -> None:
         """Copy the invented demo league into the user folder (or a chosen one) and open it."""
@@ -385,7 +376,7 @@ class App:
             folder = self.dialogs.ask_folder("Where should the demo league go?", user_folder())
             if folder is None:
                 return
-        self._start("demo", lambda progress, cancel: copy_demo(folder), "Copying the demo league\u2026")
+        self._start("demo", self.worker.child.call("demo", folder), "Copying the demo league\u2026")
 
     def restore_previous(self) -> None:
         if self.path is None:
@@ -395,16 +386,14 @@ class App:
                 f"Put back the previous version of {self.path.name} from its backups folder?\n"
                 "The version it replaces is kept as a backup too, so this can be undone.")):
             return
-        path = self.path
-        self._start("restore", lambda progress, cancel: pipeline.restore(path), "Restoring\u2026")
+        self._start("restore", self.worker.child.call("restore", self.path), "Restoring\u2026")
 
     def open_settings(self) -> SettingsDialog | None:
-        if self.book is None:
+        if self.checked is None:
             self.dialogs.info("Settings", "Open a workbook (and let its check finish) first.")
             return None
-        path = self.path
-        return SettingsDialog(self.root, self.book.settings, lambda values: self._start(
-            "settings", lambda progress, cancel: pipeline.save_settings(path, values), "Saving the settings\u2026"))
+        return SettingsDialog(self.root, self.checked.settings, lambda values: self._start(
+            "settings", self.worker.child.call("settings", self.path, values), "Saving the settings\u2026"))
 
     def close(self) -> None:
         """Close the window; running work is cancelled and every pending callback dropped."""
@@ -416,23 +405,14 @@ class App:
         self.worker.cancel.set()
         self.closed = True
         self.scheduler.cancel_all()
+        for ident in self.root.tk.splitlist(self.root.tk.call("after", "info")):
+            self.root.after_cancel(ident)  # the tooltips' own timers too: none may fire after the window is gone
         self.root.destroy()
+        self.worker.child.close(timeout=3)  # a long job is stopped rather than waited for
 
 
 def shorten(text: str, most: int) -> str:
     return text if len(text) <= most else text[:most - 1] + "\u2026"
-
-
-def copy_demo(folder: Path) -> Path:
-    """A fresh copy of the invented demo league in ``folder`` (never over an existing file)."""
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
-    target, n = folder / "Demo league.xlsx", 1
-    while target.exists():
-        n += 1
-        target = folder / f"Demo league ({n}).xlsx"
-    shutil.copyfile(pipeline.DATA / "demo-league.xlsx", target)
-    return target
 
 
 def run(workbook: str | Path | None = None) -> int:

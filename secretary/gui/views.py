@@ -167,7 +167,7 @@ RATING_COLUMNS = (
 
 def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
     """The Ratings table: best first, with shared places for equal shown ratings."""
-    order = sorted(ratings, key=lambda p: (-round(p.rating), p.name.casefold()))
+    order = sorted(ratings, key=lambda p: (-p.rating, p.name.casefold()))  # the Ratings sheet's order
     rows, place = [], 0
     for position, p in enumerate(order, start=1):
         if position == 1 or round(p.rating) != round(order[position - 2].rating):
@@ -179,6 +179,8 @@ def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
         shown = (str(place), p.name, points(p.rating), band(p.rating, p.sd), "" if new else signed(p.change),
                  p.division, points(p.sd), f"{p.games:.1f}", day(p.last_played), values[-1])
         rows.append(Row(p.name, values, shown, ("new",) if new else ()))
+    if all(row.tags for row in rows):  # first ratings: everyone is new, so colour marks nobody out
+        rows = [replace(row, tags=()) for row in rows]
     return rows
 
 
@@ -299,15 +301,15 @@ def change_headline(c) -> str:
     return f"{c.name}: {before} \u2192 {after} ({signed(change)})"
 
 
-def changes_summary(breakdown) -> str:
-    if breakdown is None:
+def changes_summary(updated) -> str:
+    """The line above the What changed charts, from an update's results (None before any)."""
+    if updated is None:
         return "Update the ratings to see what changed and why."
-    if breakdown.first_update:
-        return breakdown.note or "These are the first ratings: the next update will explain every change."
-    c = breakdown.changes
-    text = (f"Since the last update: {len(c.new)} new, {len(c.edited)} edited and {len(c.removed)} removed "
-            "result rows. Biggest changes first.")
-    return text + (f" {breakdown.note}" if breakdown.note else "")
+    if updated.first_update:
+        return updated.note or "These are the first ratings: the next update will explain every change."
+    text = (f"Since the last update: {updated.new_rows} new, {updated.edited_rows} edited and "
+            f"{updated.removed_rows} removed result rows. Biggest changes first.")
+    return text + (f" {updated.note}" if updated.note else "")
 
 
 # ------------------------------------------------------------------ rating history chart

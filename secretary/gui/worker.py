@@ -6,13 +6,22 @@ chatty job cannot flood the window.
 """
 from __future__ import annotations
 
+import os
+import pickle
 import queue
+import struct
+import subprocess
+import sys
 import threading
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any, Callable
 
 from secretary.errors import Cancelled, SecretaryError, WorkbookProblems
 from secretary.userdirs import log_exception
+
+HEADER = struct.Struct("!I")
+CANCEL_POLL = 0.05  # seconds between looks at the cancel flag while the background process works
 
 Job = Callable[[Callable[[str, float], None], threading.Event], Any]
 
@@ -35,8 +44,18 @@ class Message:
     value: Any
 
 
+class JobFailed(Exception):
+    """A job in the background process failed; carries its failure, already in plain words."""
+
+    def __init__(self, failure: Failure):
+        super().__init__(failure.message)
+        self.failure = failure
+
+
 def failure_of(exc: BaseException, context: str) -> Failure:
     """Turn an exception from a job into plain words; a bug goes to the log file with its traceback."""
+    if isinstance(exc, JobFailed):
+        return exc.failure
     if isinstance(exc, WorkbookProblems):
         return Failure(str(exc), "problems", exc.problems)
     if isinstance(exc, Cancelled):
@@ -48,9 +67,10 @@ def failure_of(exc: BaseException, context: str) -> Failure:
 
 
 class Worker:
-    """Runs one job at a time on a background thread."""
+    """Runs one job at a time on a background thread (which may hand it on to the background process)."""
 
     def __init__(self):
+        self.child = Child()
         self._queue: queue.Queue[Message] = queue.Queue()
         self._lock = threading.Lock()
         self._latest: tuple[str, str, float] | None = None
@@ -107,3 +127,86 @@ class Worker:
     def join(self, timeout: float | None = None) -> None:
         if self._thread is not None:
             self._thread.join(timeout)
+
+
+def send(stream, message) -> None:
+    """Write one message: its pickled length, then the pickle."""
+    data = pickle.dumps(message, protocol=pickle.HIGHEST_PROTOCOL)
+    stream.write(HEADER.pack(len(data)) + data)
+    stream.flush()
+
+
+def receive(stream):
+    """Read one message; None at the end of the stream."""
+    head = stream.read(HEADER.size)
+    if len(head) < HEADER.size:
+        return None
+    size = HEADER.unpack(head)[0]
+    data = stream.read(size)
+    return pickle.loads(data) if len(data) == size else None
+
+
+class Child:
+    """The background process (``secretary.gui.child``): started ahead of need, reused for every job."""
+
+    def __init__(self):
+        self.proc: subprocess.Popen | None = None
+
+    def ensure(self) -> subprocess.Popen:
+        """The running process, started now if there is none."""
+        if self.proc is None or self.proc.poll() is not None:
+            package_root = str(Path(__file__).resolve().parents[2])
+            env = dict(os.environ, PYTHONPATH=os.pathsep.join(
+                p for p in (package_root, os.environ.get("PYTHONPATH", "")) if p))
+            flags = getattr(subprocess, "CREATE_NO_WINDOW", 0)  # no console window on Windows
+            self.proc = subprocess.Popen([sys.executable, "-m", "secretary.gui.child"], stdin=subprocess.PIPE,
+                                         stdout=subprocess.PIPE, env=env, creationflags=flags)
+        return self.proc
+
+    def call(self, name: str, *args) -> Job:
+        """A job for ``Worker.start`` that runs ``jobs.JOBS[name](*args, ...)`` in the background process."""
+        def job(progress, cancel):
+            proc = self.ensure()
+            send(proc.stdin, ("job", name, args))
+            finished = threading.Event()
+
+            def forward_cancel() -> None:
+                while not finished.is_set():
+                    if cancel.wait(CANCEL_POLL):
+                        try:
+                            send(proc.stdin, ("cancel",))
+                        except (OSError, ValueError):
+                            pass  # the process has ended (or is being ended) anyway
+                        return
+
+            forwarder = threading.Thread(target=forward_cancel, name="secretary-cancel", daemon=True)
+            forwarder.start()
+            try:
+                while True:
+                    message = receive(proc.stdout)
+                    if message is None:
+                        if cancel.is_set():  # ended on purpose: the window is closing
+                            raise Cancelled("The work was stopped; the workbook was left as it was.")
+                        raise RuntimeError(f"the background process stopped (exit code {proc.wait()})")
+                    if message[0] == "progress":
+                        progress(message[1], message[2])
+                    elif message[0] == "done":
+                        return message[1]
+                    else:
+                        raise JobFailed(message[1])
+            finally:
+                finished.set()
+                forwarder.join()
+        return job
+
+    def close(self, timeout: float = 10.0) -> None:
+        """End the process: it finishes (or cancels) its job, then stops at the end of its input."""
+        proc, self.proc = self.proc, None
+        if proc is None:
+            return
+        try:
+            proc.stdin.close()
+            proc.wait(timeout)
+        except (OSError, subprocess.TimeoutExpired):
+            proc.kill()
+            proc.wait()

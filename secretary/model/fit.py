@@ -143,13 +143,45 @@ def _newton_step(pattern: LaplacianPattern, h, prior_sd: float, g: np.ndarray, g
         H = pattern.matrix(h, prior_sd).toarray()
         return -sla.cho_solve(sla.cho_factor(H, check_finite=False), g, check_finite=False)
     # Inexact Newton: Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
-    n = pattern.n
-    precond = spla.LinearOperator((n, n), matvec=lambda v: v / diag, dtype=float)
     rtol = min(0.1, np.sqrt(gmax)) * 0.1
-    step, info = spla.cg(pattern.operator(h, diag), -g, rtol=rtol, atol=0.0, maxiter=10 * n, M=precond)
-    if info < 0:
-        raise FitFailed("the rating fit hit a numerical breakdown; please report this with the workbook")
-    return step
+    return -conjugate_gradient(pattern.operator(h, diag).matvec, g, 1.0 / diag, rtol, 10 * pattern.n)
+
+
+def _dot(a: np.ndarray, b: np.ndarray) -> float:
+    # einsum runs in this thread: BLAS would wake its thread pool for every short vector.
+    return float(np.einsum("i,i->", a, b))
+
+
+def conjugate_gradient(matvec, b: np.ndarray, inv_diag: np.ndarray, rtol: float, maxiter: int) -> np.ndarray:
+    """Solve ``H x = b`` (``H`` SPD, given as ``matvec``) by CG preconditioned with ``diag(H)^-1``.
+
+    Stops when ``|b - H x| <= rtol |b|``; raises ``FitFailed`` if ``H`` is not
+    positive definite along a search direction or ``maxiter`` is exhausted.
+    """
+    x = np.zeros_like(b)
+    r = b.copy()
+    z = r * inv_diag
+    p = z.copy()
+    rz = _dot(r, z)
+    stop = rtol * np.sqrt(_dot(b, b))
+    for _ in range(maxiter):
+        if np.sqrt(_dot(r, r)) <= stop:
+            return x
+        q = matvec(p)
+        curvature = _dot(p, q)
+        if not curvature > 0.0:
+            break
+        alpha = rz / curvature
+        x += alpha * p
+        r -= alpha * q
+        np.multiply(r, inv_diag, out=z)
+        rz, rz_old = _dot(r, z), rz
+        p *= rz / rz_old
+        p += z
+    else:
+        if np.sqrt(_dot(r, r)) <= stop:
+            return x
+    raise FitFailed("the rating fit hit a numerical breakdown; please report this with the workbook")
 
 
 def fit_map(

@@ -45,7 +45,7 @@ class ChangesTab:
         self.search.trace_add("write", lambda *a: self.redraw_soon())
         self.only_idle.trace_add("write", lambda *a: self.redraw_soon())
         self.frame.bind("<Configure>", lambda e: self._wrap(e.width))
-        self.breakdown = None
+        self.updated = None
         self.shown: list = []
         self._pending: str | None = None
 
@@ -56,9 +56,10 @@ class ChangesTab:
     def _wheel(self, event) -> None:
         self.canvas.yview_scroll(-1 if event.delta > 0 else 1, "units")
 
-    def show(self, breakdown) -> None:
-        self.breakdown = breakdown
-        self.summary.configure(text=views.changes_summary(breakdown))
+    def show(self, updated) -> None:
+        """Show an update's changes (None: nothing updated yet)."""
+        self.updated = updated
+        self.summary.configure(text=views.changes_summary(updated))
         self.redraw_soon()
 
     def redraw_soon(self) -> None:
@@ -69,9 +70,9 @@ class ChangesTab:
     def redraw(self) -> None:
         self._pending = None
         self.canvas.delete("all")
-        if self.breakdown is None:
+        if self.updated is None:
             return
-        chosen = views.movers(self.breakdown.players, self.only_idle.get(), self.search.get())
+        chosen = views.movers(self.updated.changes, self.only_idle.get(), self.search.get())
         self.shown = chosen[:MAX_CARDS]
         width = max(320, self.canvas.winfo_width()) - 24
         card_w = min(width, 720)

@@ -2,15 +2,15 @@
 from __future__ import annotations
 
 import tkinter as tk
+from tkinter import font as tkfont
 from tkinter import ttk
 
 from secretary.gui import charts, views
 from secretary.gui.tooltips import tip
 from secretary.gui.widgets import Table
 
-HISTORY_HEIGHT = 150
-CHANGE_HEIGHT = 190
-SIDE_WIDTH = 340  # pixels for the chosen player's panel
+# Sizes in lines and average characters of the default font, so that they follow the screen's text size.
+HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
 
 
 class RatingsTab:
@@ -34,6 +34,9 @@ class RatingsTab:
         self.search.trace_add("write", lambda *a: self.refilter())
         self.division.trace_add("write", lambda *a: self.refilter())
 
+        font = tkfont.nametofont("TkDefaultFont")
+        line, self.side_width = font.metrics("linespace"), SIDE_CHARACTERS * font.measure("n")
+        self.history_height = HISTORY_LINES * line
         panes = ttk.PanedWindow(self.frame, orient="horizontal")
         panes.pack(fill="both", expand=True)
         self.table = Table(panes, views.RATING_COLUMNS, scheduler,
@@ -50,11 +53,11 @@ class RatingsTab:
         self.detail = ttk.Label(side, text="", justify="left", wraplength=300)
         self.detail.pack(anchor="w", pady=(2, 6))
         ttk.Label(side, text="Rating history", font="SecretaryBold").pack(anchor="w")
-        self.history_canvas = tk.Canvas(side, height=HISTORY_HEIGHT, width=300, background="white",
+        self.history_canvas = tk.Canvas(side, height=self.history_height, width=300, background="white",
                                         highlightthickness=0)
         self.history_canvas.pack(fill="x", pady=(2, 8))
         ttk.Label(side, text="Why it changed", font="SecretaryBold").pack(anchor="w")
-        self.change_canvas = tk.Canvas(side, height=CHANGE_HEIGHT, width=300, background="white",
+        self.change_canvas = tk.Canvas(side, height=CHANGE_LINES * line, width=300, background="white",
                                        highlightthickness=0)
         self.change_canvas.pack(fill="both", expand=True, pady=(2, 0))
         self.change_canvas.bind("<Configure>", lambda e: self._redraw())
@@ -67,14 +70,14 @@ class RatingsTab:
     def _place_sash(self, event) -> None:
         """Once, when first shown: the player panel gets about a third of the width."""
         if event.width > 100:
-            self.panes.sashpos(0, max(event.width - SIDE_WIDTH, event.width * 2 // 3 - 40))
+            self.panes.sashpos(0, max(event.width - self.side_width, event.width * 2 // 3 - 40))
             self.panes.unbind("<Configure>")
 
-    def show(self, outcome, history) -> None:
-        self.ratings = {p.name: p for p in outcome.ratings}
-        self.changes = {c.name: c for c in outcome.breakdown.players}
-        self.history = history
-        self.rows = views.rating_rows(outcome.ratings, outcome.book.settings.few_games)
+    def show(self, updated) -> None:
+        self.ratings = {p.name: p for p in updated.ratings}
+        self.changes = {c.name: c for c in updated.changes}
+        self.history = updated.history
+        self.rows = views.rating_rows(updated.ratings, updated.checked.settings.few_games)
         self.divisions.configure(values=views.divisions_of(self.rows))
         if self.division.get() not in self.divisions.cget("values"):
             self.division.set(views.ALL_DIVISIONS)
@@ -110,7 +113,7 @@ class RatingsTab:
         self.detail.configure(wraplength=width, text=(
             f"{p.division or 'no division'}: rating {p.rating:.0f} \u00b1 {p.sd:.0f} "
             f"(likely {views.band(p.rating, p.sd)}); {new}{p.games:.1f} games, last played {views.day(p.last_played)}."))
-        charts.draw_history(self.history_canvas, self.history.get(p.name, []), width, HISTORY_HEIGHT)
+        charts.draw_history(self.history_canvas, self.history.get(p.name, []), width, self.history_height)
         self.change_canvas.delete("all")
         change = self.changes.get(p.name)
         if change is not None:

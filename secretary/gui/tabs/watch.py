@@ -17,14 +17,14 @@ class WatchTab:
         self.tables = []
         for title, columns, tip, height in (
                 ("Divisions", views.DIVISION_COLUMNS,
-                 "How well each division's level is tied to the rest by games between divisions.", 5),
+                 "How well each division's level is tied to the rest by games between divisions.", 4),
                 ("Players whose results run ahead of their rating", views.HELD_COLUMNS,
-                 "Players the starting assumption may be holding back.", 4),
+                 "Players the starting assumption may be holding back.", 3),
                 ("Suggested linking matches", views.SUGGESTION_COLUMNS,
-                 "Matches across divisions that would pin the weakest-tied levels down best.", 5)):
+                 "Matches across divisions that would pin the weakest-tied levels down best.", 6)):
             ttk.Label(self.frame, text=title, font="SecretaryBold").pack(anchor="w", pady=(4, 0))
             table = Table(self.frame, columns, scheduler, tip, height=height)
-            table.frame.pack(fill="both", expand=True)
+            table.frame.pack(fill="both", expand=not self.tables)  # the first table takes any spare room
             self.tables.append(table)
 
     def clear(self) -> None:

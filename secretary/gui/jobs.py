@@ -1,0 +1,106 @@
+"""The window's long jobs, and the small records they hand back.
+
+UI-free: these run in the background process (see ``child``), so each record
+holds only what the window shows; the league's result rows stay behind, and a
+100,000-row league crosses back in a few milliseconds.
+"""
+from __future__ import annotations
+
+import datetime as dt
+import shutil
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Mapping
+
+from secretary import pipeline
+from secretary.model.breakdown import PlayerChange
+from secretary.model.fixtures import FixtureForecast
+from secretary.model.linkage import WatchList
+from secretary.model.records import PlayerRating, Problem, Settings
+
+
+@dataclass(frozen=True)
+class Checked:
+    """What a check found: every problem, where the input sheets' columns are, and the settings."""
+
+    problems: tuple[Problem, ...]
+    layouts: Mapping[str, Any]
+    settings: Settings
+    result_rows: int
+
+    @property
+    def errors(self) -> tuple[Problem, ...]:
+        return tuple(p for p in self.problems if p.is_error)
+
+
+@dataclass(frozen=True)
+class Updated:
+    """What an update did, as the window shows it."""
+
+    checked: Checked
+    ratings: tuple[PlayerRating, ...]
+    changes: tuple[PlayerChange, ...]
+    first_update: bool
+    note: str  # one sentence about the whole update ("" when nothing special)
+    new_rows: int
+    edited_rows: int
+    removed_rows: int
+    watch: WatchList
+    forecasts: tuple[FixtureForecast, ...]
+    divisions: tuple[str, ...]
+    notes: tuple[str, ...]  # the pre-fit diagnosis in league words
+    reason: str  # plain words about the save
+    written: Path | None
+    notice_pdf: Path | None
+    history: Mapping[str, list[tuple[dt.date, float]]]
+
+
+def _checked(book) -> Checked:
+    return Checked(book.problems, dict(book.layouts), book.settings, len(book.results))
+
+
+def check(path, progress, cancel) -> Checked:
+    """Step 1: read the workbook and find every problem."""
+    progress("Reading the workbook", 0.0)
+    return _checked(pipeline.check_workbook(path))
+
+
+def update(path, progress, cancel) -> Updated:
+    """Step 2: the weekly update, then the rating history for the charts."""
+    outcome = pipeline.run_update(path, progress=progress, cancel=cancel)
+    bd, changes = outcome.breakdown, outcome.breakdown.changes
+    return Updated(
+        checked=_checked(outcome.book), ratings=outcome.ratings, changes=bd.players, first_update=bd.first_update,
+        note=bd.note, new_rows=len(changes.new), edited_rows=len(changes.edited), removed_rows=len(changes.removed),
+        watch=outcome.watch, forecasts=outcome.forecasts, divisions=tuple(outcome.fit.group_names),
+        notes=outcome.notes, reason=outcome.reason, written=outcome.written, notice_pdf=outcome.notice_pdf,
+        history=pipeline.rating_history(outcome.written) if outcome.written else {})
+
+
+def save_settings(path, values, progress, cancel) -> Path:
+    progress("Saving the settings", 0.0)
+    return pipeline.save_settings(path, values)
+
+
+def restore(path, progress, cancel) -> Path:
+    return pipeline.restore(path)
+
+
+def new_league(path, progress, cancel) -> Path:
+    return pipeline.new_league(path)
+
+
+def copy_demo(folder, progress, cancel) -> Path:
+    """A fresh copy of the invented demo league in ``folder`` (never over an existing file)."""
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    target, n = folder / "Demo league.xlsx", 1
+    while target.exists():
+        n += 1
+        target = folder / f"Demo league ({n}).xlsx"
+    shutil.copyfile(pipeline.DATA / "demo-league.xlsx", target)
+    return target
+
+
+JOBS = {"check": check, "update": update, "settings": save_settings, "restore": restore,
+        "new": new_league, "demo": copy_demo}

@@ -1,0 +1,96 @@
+"""Fixtures for the window's tests: a real X server (Xvfb), callback errors that fail the test, a dialog recorder."""
+from __future__ import annotations
+
+import os
+import shutil
+import subprocess
+import threading
+import time
+import tkinter as tk
+from pathlib import Path
+
+import pytest
+
+from tests.gui.helpers import DEMO, RecordingDialogs
+
+
+@pytest.fixture(scope="session")
+def display():
+    """A private X display from Xvfb for the whole session; skips only where Xvfb cannot start."""
+    if shutil.which("Xvfb") is None:
+        pytest.skip("Xvfb is not installed (apt-get install xvfb): the window cannot be tested here")
+    # -displayfd makes Xvfb pick a free display number itself and print it once it is listening.
+    read, write = os.pipe()
+    proc = subprocess.Popen(["Xvfb", "-displayfd", str(write), "-screen", "0", "1280x1024x24", "-nolisten", "tcp"],
+                            pass_fds=(write,), stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    os.close(write)
+    number = b""
+    deadline = time.monotonic() + 20
+    with os.fdopen(read, "rb") as pipe:
+        while time.monotonic() < deadline and not number.endswith(b"\n"):
+            chunk = pipe.read(1)
+            if not chunk:
+                break
+            number += chunk
+    socket = Path(f"/tmp/.X11-unix/X{number.decode().strip()}")
+    while number and time.monotonic() < deadline and not socket.exists():
+        time.sleep(0.05)
+    if not number or proc.poll() is not None or not socket.exists():
+        proc.kill()
+        pytest.skip("Xvfb could not be started here: the window cannot be tested")
+    name = f":{number.decode().strip()}"
+    old = os.environ.get("DISPLAY")
+    os.environ["DISPLAY"] = name
+    yield name
+    proc.terminate()
+    proc.wait(10)
+    if old is None:
+        os.environ.pop("DISPLAY", None)
+    else:
+        os.environ["DISPLAY"] = old
+
+
+@pytest.fixture(autouse=True)
+def tk_errors(monkeypatch):
+    """Any exception raised inside a Tk callback fails the test (Tk would only print it)."""
+    caught: list[BaseException] = []
+
+    def report(self, kind, value, tb):
+        caught.append(value)
+
+    monkeypatch.setattr(tk.Tk, "report_callback_exception", report)
+    yield caught
+    if caught:
+        pytest.fail(f"a Tk callback raised: {caught[0]!r}")
+
+
+@pytest.fixture(autouse=True)
+def user_home(tmp_path, monkeypatch):
+    """The tool's user folder (recent workbooks, log) inside the test's own folder."""
+    home = tmp_path / "user-folder"
+    monkeypatch.setenv("SECRETARY_HOME", str(home))
+    return home
+
+
+@pytest.fixture
+def app(display, tk_errors):
+    """The real main window with recorded dialogs; closed, with its worker finished, afterwards."""
+    from secretary.gui.app import App
+
+    root = tk.Tk()
+    window = App(root, dialogs=RecordingDialogs())
+    window.errors = tk_errors
+    root.update()
+    yield window
+    window.worker.cancel.set()
+    window.worker.join(300)
+    if not window.closed:
+        window.close()
+    assert not [t for t in threading.enumerate() if t.name.startswith("secretary-")], "a worker thread was left"
+
+
+@pytest.fixture
+def demo_copy(tmp_path) -> Path:
+    path = tmp_path / "league.xlsx"
+    shutil.copyfile(DEMO, path)
+    return path

@@ -1,0 +1,266 @@
+"""The real window under Xvfb, driven by direct handler calls, invoke() and virtual events."""
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+import time
+import tkinter as tk
+from tkinter import ttk
+
+import openpyxl
+
+from secretary.gui import views
+from secretary.gui.tooltips import tip_of
+from secretary.pipeline import notice_pdf_path
+from tests.gui.helpers import REPO, screenshot, settle, wait_until
+from tests.workbook.league_books import good_results, write_book
+
+
+def opened(app, path):
+    app.open_workbook(path)
+    settle(app)
+    return app
+
+
+def updated(app):
+    app.step_buttons[1].invoke()
+    settle(app, 300)
+    assert app.session.updated, app.status.cget("text")
+    return app
+
+
+def sheet_rows(path, sheet):
+    wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
+    try:
+        return [r for r in wb[sheet].iter_rows(min_row=2, values_only=True) if any(v is not None for v in r)]
+    finally:
+        wb.close()
+
+
+def test_demo_league_update_fills_every_tab(app, demo_copy):
+    opened(app, demo_copy)
+    assert views.step_states(app.session)[0] == views.DONE
+    assert app.step_buttons[1].cget("style") == "Next.TButton"  # the update is the obvious next action
+    screenshot(app.root, "gui-problems")
+    updated(app)
+
+    # Ratings table == Ratings sheet written by the same update (rank, player, shown rating).
+    sheet = [(r[0], r[1], round(r[3])) for r in sheet_rows(demo_copy, "Ratings")]
+    tree = [(int(v[0]), v[1], int(v[2])) for v in app.ratings.table.shown_values()]
+    assert tree == sheet and len(tree) == 63
+    # Fixtures and watch-list divisions: one table row per sheet row.
+    assert len(app.fixtures.table.shown_values()) == len(sheet_rows(demo_copy, "Fixtures"))
+    assert {v[0] for v in app.watch.tables[0].shown_values()} == set(app.updated.divisions)
+    assert views.step_states(app.session)[:2] == (views.DONE, views.DONE)
+    assert app.step_buttons[2].cget("style") == "Next.TButton"
+    screenshot(app.root, "gui-ratings")
+
+    # Sorting by a header click: numeric order, lowest rating first.
+    app.ratings.table.tree.heading("rating", "command")  # the header is clickable
+    app.ratings.table.sort_by(2)
+    settle(app)
+    ratings = [int(v[2]) for v in app.ratings.table.shown_values()]
+    assert ratings == sorted(ratings)
+    # Search narrows the table; the chosen player gets a history chart.
+    first = app.updated.ratings[0].name
+    app.ratings.search.set(first.split()[-1])
+    settle(app)
+    assert first in [v[1] for v in app.ratings.table.shown_values()]
+    assert len(app.ratings.table.shown_values()) < 63
+    app.ratings.table.tree.selection_set(first)
+    app.root.update()
+    assert app.ratings.player == first and app.ratings.history_canvas.find_all()
+
+    app.step_buttons[2].invoke()
+    app.root.update()
+    assert app.notebook.select() == str(app.changes.frame)
+    wait_until(app.root, lambda: app.changes.shown, 10, app.errors)
+    assert app.session.reviewed
+    screenshot(app.root, "gui-what-changed")
+    app.notebook.select(app.watch.frame)
+    screenshot(app.root, "gui-watch-list")
+    app.notebook.select(app.fixtures.frame)
+    screenshot(app.root, "gui-fixtures")
+
+    app.step_buttons[3].invoke()
+    assert app.dialogs.named("open_externally") == [("open_externally", notice_pdf_path(demo_copy))]
+    assert notice_pdf_path(demo_copy).exists()
+    assert views.step_states(app.session) == (views.DONE,) * 4
+
+
+def test_what_changed_after_the_new_week(app, demo_copy):
+    from secretary.pipeline import DATA, append_results_csv
+
+    updated(opened(app, demo_copy))
+    app.review()
+    settle(app)
+    assert "first ratings" in app.changes.summary.cget("text")
+    append_results_csv(demo_copy, DATA / "demo-new-week.csv")
+    app.step_buttons[0].invoke()
+    settle(app)
+    updated(app)
+    app.review()
+    wait_until(app.root, lambda: app.changes.shown, 10, app.errors)
+    movers = app.changes.shown
+    assert [abs(c.shown[2]) for c in movers if not c.is_new] == \
+        sorted((abs(c.shown[2]) for c in movers if not c.is_new), reverse=True)
+    assert app.changes.canvas.find_all()
+    app.changes.only_idle.set(True)
+    app.changes.redraw()
+    assert app.changes.shown and all(not c.played for c in app.changes.shown)
+    app.changes.only_idle.set(False)
+    app.changes.redraw()
+    screenshot(app.root, "gui-what-changed-new-week")
+
+
+def test_cancel_leaves_the_workbook_byte_for_byte_untouched(app, demo_copy):
+    opened(app, demo_copy)
+    before = demo_copy.read_bytes()
+    app.worker.listener = lambda stage, fraction: app.worker.cancel.set()  # cancel at the first report
+    app.update()
+    settle(app)
+    assert app.status.cget("text") == "The update was cancelled; the workbook was not changed."
+    assert not app.session.updated and not app.dialogs.named("error")
+    assert demo_copy.read_bytes() == before
+    assert sorted(p.name for p in demo_copy.parent.iterdir()) == ["league.xlsx", "user-folder"]
+
+
+def test_bad_workbook_shows_its_problems(app, tmp_path):
+    rows = good_results()
+    rows[1][4] = "five"  # Games A, sheet row 3
+    path = write_book(tmp_path / "bad.xlsx", rows)
+    opened(app, path)
+    table = app.problems.table.shown_values()
+    assert table[0][:4] == ("Error", "Results", "3", "Games A") and table[0][4] == "five"
+    assert app.notebook.select() == str(app.problems.frame)
+    assert views.step_states(app.session)[0] == views.ATTENTION
+    assert app.step_buttons[1].instate(["disabled"])
+    app.problems.table.tree.selection_set(app.problems.table.tree.get_children()[0])
+    app.root.update()
+    assert app.problems.fix.cget("text").startswith("Fix cell Results!E3: ")
+    screenshot(app.root, "gui-problems-bad-workbook")
+
+    write_book(path, good_results())  # the secretary fixes the cell and saves
+    app.problems.check_button.invoke()
+    settle(app)
+    assert app.problems.table.shown_values() == []
+    assert views.next_step(app.session) == 1 and app.step_buttons[1].instate(["!disabled"])
+
+
+def _widgets(widget):
+    yield widget
+    for child in widget.winfo_children():
+        yield from _widgets(child)
+
+
+def test_every_button_heading_and_setting_has_a_tooltip(app, demo_copy):
+    opened(app, demo_copy)
+    dialog = app.open_settings()
+    app.root.update()
+    everything = list(_widgets(app.root))
+    buttons = [w for w in everything if isinstance(w, (ttk.Button, tk.Button, ttk.Checkbutton))]
+    assert len(buttons) >= 9
+    assert [str(b) for b in buttons if not tip_of(b)] == []
+    trees = [w for w in everything if isinstance(w, ttk.Treeview)]
+    assert len(trees) == 6
+    for tree in trees:
+        tips = tip_of(tree)
+        assert all(tips.get(c) for c in tree["columns"]), str(tree)
+    # The tooltip follows the heading under the pointer.
+    tree = app.ratings.table.tree
+    app.notebook.select(app.ratings.frame)
+    app.root.update()
+    x = tree.column("rank", "width") + tree.column("player", "width") + 20  # inside the third heading
+    tree.event_generate("<Motion>", x=x, y=5)
+    assert tree.secretary_tooltip.msg() == tips_for(tree, "rating")
+    assert all(app.root.bind(key) for key in ("<Control-o>", "<Control-u>", "<F5>", "<Control-p>"))
+    settings_fields = [w for w in _widgets(dialog.top) if isinstance(w, (ttk.Entry, ttk.Combobox))]
+    assert len(settings_fields) == len(dialog.texts) and all(tip_of(w) for w in settings_fields)
+    dialog.top.destroy()
+
+
+def tips_for(tree, column):
+    return tip_of(tree)[column]
+
+
+def test_settings_dialog_checks_values_and_saves_them(app, demo_copy):
+    opened(app, demo_copy)
+    dialog = app.open_settings()
+    app.root.update()
+    assert dialog.texts["league_name"].get() == "Harbourside & District Pool League"
+    dialog.texts["centre"].set("lots")
+    assert dialog.messages["centre"].cget("text") == "Centre must be a number from 0 to 10000"
+    assert dialog.save_button.instate(["disabled"])
+    dialog.texts["centre"].set("1600")
+    dialog.texts["half_life_days"].set("200")
+    assert dialog.messages["centre"].cget("text") == ""
+    assert dialog.save_button.instate(["!disabled"])
+    screenshot(dialog.top, "gui-settings")
+    dialog.save_button.invoke()
+    settle(app)
+    assert app.checked.settings.centre == 1600.0 and app.checked.settings.half_life_days == 200.0
+    values = dict((r[0], r[1]) for r in sheet_rows(demo_copy, "Settings"))
+    assert values["Centre"] == 1600 and values["Half-life (days)"] == 200
+    assert values["League name"] == "Harbourside & District Pool League"
+
+
+def test_new_league_workbook_from_the_file_menu(app, tmp_path):
+    target = tmp_path / "Spring league.xlsx"
+    app.dialogs.answers["ask_new_workbook"] = target
+    app.new_workbook()
+    settle(app)
+    assert app.path == target and target.exists() and app.session.checked
+    assert "Spring league.xlsx" in app.root.title()
+
+
+def test_restore_and_demo_from_the_file_menu(app, user_home):
+    app.open_demo(False)
+    settle(app)
+    demo = user_home / "demo league" / "Demo league.xlsx"
+    assert app.path == demo and app.session.checked
+    updated(app)
+    app.dialogs.answers["ask_yes_no"] = True
+    app.restore_previous()
+    settle(app)
+    assert not app.session.updated and app.session.checked
+    assert "Ratings" not in openpyxl.load_workbook(demo, read_only=True).sheetnames  # back to the copy
+    from secretary.gui.recent import recent
+
+    assert recent()[0] == demo.resolve()
+
+
+def test_a_refused_file_is_shown_as_a_plain_message(app, tmp_path):
+    path = tmp_path / "gone.xlsx"
+    write_book(path, good_results())
+    opened(app, path)
+    path.unlink()  # the file disappears between the check and the update
+    app.update()
+    settle(app)
+    errors = app.dialogs.named("error")
+    assert len(errors) == 1 and "gone.xlsx" in errors[0][2] and "log file" not in errors[0][2]
+    assert views.step_states(app.session)[1] == views.ATTENTION
+
+
+def test_secretary_open_starts_the_window_with_the_workbook(display, demo_copy, user_home):
+    env = dict(os.environ, DISPLAY=display, SECRETARY_HOME=str(user_home))
+    proc = subprocess.Popen([sys.executable, "-m", "secretary.cli", "open", str(demo_copy)], cwd=REPO, env=env,
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    try:
+        remembered = user_home / "recent-workbooks.json"
+        deadline = time.monotonic() + 60
+        while not remembered.exists() and proc.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.1)
+        assert proc.poll() is None, proc.communicate()
+        assert str(demo_copy.resolve()) in remembered.read_text(encoding="utf-8")
+    finally:
+        proc.terminate()
+        proc.wait(10)
+
+
+def test_without_a_display_the_window_says_so(tmp_path):
+    env = {k: v for k, v in os.environ.items() if k != "DISPLAY"}
+    done = subprocess.run([sys.executable, "-m", "secretary.cli"], cwd=REPO, env=env, capture_output=True,
+                          text=True, timeout=60)
+    assert done.returncode == 2
+    assert "The window cannot open here" in done.stderr and "Traceback" not in done.stderr
