@@ -98,7 +98,8 @@ def sheet_part(path: Path, sheet: str) -> str:
 # --- pieces of content openpyxl does not keep (written the way Excel writes them) ----------
 
 SHAPE_ANCHOR = (
-    '<xdr:twoCellAnchor xmlns:xdr="http://schemas.openxmlformats.org/drawingml/2006/spreadsheetDrawing">'
+    '<xdr:twoCellAnchor xmlns:xdr="http://schemas.openxmlformats.org/drawingml/2006/spreadsheetDrawing"'
+    ' xmlns:a="http://schemas.openxmlformats.org/drawingml/2006/main">'
     '<xdr:from><xdr:col>1</xdr:col><xdr:colOff>0</xdr:colOff><xdr:row>9</xdr:row>'
     '<xdr:rowOff>0</xdr:rowOff></xdr:from><xdr:to><xdr:col>4</xdr:col><xdr:colOff>0</xdr:colOff>'
     '<xdr:row>14</xdr:row><xdr:rowOff>0</xdr:rowOff></xdr:to><xdr:sp macro="" textlink="">'
@@ -120,7 +121,8 @@ SPARKLINES = (
 
 WORKBOOK_SLICERS = (
     '<extLst><ext uri="{BBE1A952-AA13-448e-AADC-164F8A28A991}" '
-    'xmlns:x14="http://schemas.microsoft.com/office/spreadsheetml/2009/9/main">'
+    'xmlns:x14="http://schemas.microsoft.com/office/spreadsheetml/2009/9/main" '
+    'xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships">'
     '<x14:slicerCaches><x14:slicerCache r:id="rId99"/></x14:slicerCaches></ext></extLst>'
 )
 
