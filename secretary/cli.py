@@ -166,6 +166,7 @@ def cmd_demo(args) -> int:
     print("\n".join(summary(first)[:3]))
     print("\nThen the new week's results (new-week.csv) were added and the ratings updated again:")
     print("\n".join(summary(second)))
+    print(f"\nOpen it in the window with:  secretary open \"{Path(args.folder) / 'league.xlsx'}\"")
     return EXIT_DONE
 
 

@@ -63,19 +63,20 @@ def aggregate(idx_a, idx_b, games_a, games_b, n_players: int, weights=None) -> P
     n_players : number of players (indices run over ``0..n_players-1``)
     weights : optional per-match weight (e.g. ``age_weights``); 1 when None
     """
-    a = np.asarray(idx_a, dtype=np.int64)
-    b = np.asarray(idx_b, dtype=np.int64)
-    ga = np.asarray(games_a, dtype=float)
-    gb = np.asarray(games_b, dtype=float)
+    a = np.asarray(idx_a)
+    b = np.asarray(idx_b)
+    ga = np.asarray(games_a)  # kept in their own type: bincount converts as it sums
+    gb = np.asarray(games_b)
     if weights is not None:
         w = np.asarray(weights, dtype=float)
         ga, gb = ga * w, gb * w
     swap = a > b
-    lo = np.minimum(a, b)
-    hi = np.maximum(a, b)
     won_lo = np.where(swap, gb, ga)
     won_hi = np.where(swap, ga, gb)
-    keys, group = _group_by_key(lo * n_players + hi, n_players)
+    key = np.minimum(a, b).astype(np.int64)
+    key *= n_players
+    key += np.maximum(a, b)
+    keys, group = _group_by_key(key, n_players)
     won_i = np.bincount(group, won_lo, len(keys))
     won_j = np.bincount(group, won_hi, len(keys))
     return Pairs(n_players, keys // n_players, keys % n_players, won_i, won_j)
@@ -100,6 +101,8 @@ def _group_by_key(key: np.ndarray, n_players: int) -> tuple[np.ndarray, np.ndarr
     first = np.empty(m, dtype=bool)
     first[0] = True
     np.not_equal(sorted_key[1:], sorted_key[:-1], out=first[1:])
+    rank = np.cumsum(first)
+    rank -= 1
     group = np.empty(m, dtype=np.int64)
-    group[order] = np.cumsum(first) - 1
+    group[order] = rank
     return sorted_key[first], group

@@ -57,14 +57,15 @@ def approximate_variance(pairs: Pairs, h, prior_sd: float, groups) -> np.ndarray
     coarse[np.diag_indices(n_groups)] += np.bincount(groups, minlength=n_groups) / prior_sd**2
     cov = sla.inv(coarse)
     # w_k: share of player k's curvature coming from each group's players (dense n x groups when small).
-    rows = np.concatenate([pairs.i, pairs.j])
-    cols = np.concatenate([gj, gi])
-    weights = np.concatenate([h, h]) * local[rows]
     if n * n_groups <= 5_000_000:
-        share = np.bincount(rows * n_groups + cols, weights, n * n_groups).reshape(n, n_groups)
+        share = (np.bincount(pairs.i * n_groups + gj, h, n * n_groups)
+                 + np.bincount(pairs.j * n_groups + gi, h, n * n_groups)).reshape(n, n_groups)
+        share *= local[:, None]
         level = np.einsum("kg,kg->k", share @ cov, share)
     else:
-        share = sp.csr_matrix((weights, (rows, cols)), shape=(n, n_groups))
+        rows = np.concatenate([pairs.i, pairs.j])
+        share = sp.csr_matrix((np.concatenate([h, h]) * local[rows], (rows, np.concatenate([gj, gi]))),
+                              shape=(n, n_groups))
         level = np.asarray(share.multiply(share @ cov).sum(axis=1)).ravel()
     return local + neighbours + level
 
