@@ -12,7 +12,7 @@ import datetime as dt
 import shutil
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import Callable, Protocol
+from typing import Callable, Protocol, Sequence
 
 from secretary import __version__
 from secretary.errors import Cancelled, FileRefused, SecretaryError, WorkbookProblems
@@ -162,12 +162,7 @@ def run_update(
 
     stamp = (now or dt.datetime.now()).replace(microsecond=0).isoformat(sep=" ")
     rated = [r for r in book.results if not r.void]
-    changes = breakdown.changes
-    log = UpdateLog(
-        updated_at=stamp, version=__version__, reference_date=fit.reference_date or dt.date.today(),
-        rows_read=len(book.results), rows_rated=len(rated), new_rows=len(changes.new),
-        changed_rows=len(changes.edited), removed_rows=len(changes.removed), settings=settings,
-        warnings=tuple(str(p) for p in book.warnings[:50]) + tuple(lost))
+    log = _update_log(book, fit, breakdown, stamp, lost)
     new_state = PublishedState(
         updated_at=stamp, reference_date=log.reference_date,
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
@@ -208,6 +203,17 @@ def run_update(
         log=log, notes=tuple(describe(fit.diagnosis, fit.names)))
 
 
+def _update_log(book: LeagueBook, fit: LeagueFit, breakdown: Breakdown, stamp: str,
+                lost: Sequence[str] = ()) -> UpdateLog:
+    """The Update log row of an update stamped ``stamp``."""
+    changes = breakdown.changes
+    return UpdateLog(
+        updated_at=stamp, version=__version__, reference_date=fit.reference_date or dt.date.today(),
+        rows_read=len(book.results), rows_rated=sum(1 for r in book.results if not r.void),
+        new_rows=len(changes.new), changed_rows=len(changes.edited), removed_rows=len(changes.removed),
+        settings=book.settings, warnings=tuple(str(p) for p in book.warnings[:50]) + tuple(lost))
+
+
 def _was_updated_before(book: LeagueBook) -> bool:
     """The tool's Ratings sheet is there, so a missing record means it was deleted."""
     return schema.RATINGS_SHEET in book.sheet_names
@@ -238,6 +244,20 @@ def _published(path: str | Path, what: str) -> Published:
     fit = fit_league(book.results, book.settings, players=book.players)
     breakdown = explain_changes(book.results, book.state.previous, book.settings, book.players, current=fit)
     return Published(book, fit, _published_ratings(fit, breakdown), breakdown)
+
+
+def last_update(path: str | Path) -> UpdateOutcome:
+    """What the last update published, rebuilt without writing anything; refuses when it is not current."""
+    pub = _published(path, "review")
+    path = Path(path)
+    notice, card = notice_pdf_path(path), handicap_pdf_path(path)
+    return UpdateOutcome(
+        path=path, written=None, companion=False, reason="Showing the last update (nothing was written).",
+        backup=None, notice_pdf=notice if notice.exists() else None, handicap_pdf=card if card.exists() else None,
+        book=pub.book, fit=pub.fit, ratings=pub.ratings, breakdown=pub.breakdown,
+        watch=watch_list(pub.fit, pub.book.results), forecasts=forecast_fixtures(pub.book.fixtures, pub.fit),
+        log=_update_log(pub.book, pub.fit, pub.breakdown, pub.book.state.updated_at),
+        notes=tuple(describe(pub.fit.diagnosis, pub.fit.names)))
 
 
 def make_notice(path: str | Path, out: str | Path | None = None) -> Path:

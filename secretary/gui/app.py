@@ -195,6 +195,8 @@ class App:
                         default="active" if i == upcoming else "normal")
             style = {views.DONE: "done", views.ATTENTION: "attention"}.get(states[i], "waiting")
             text = views.STATE_WORDS[states[i]] + ("  \u2190 next" if i == upcoming else "")
+            if i == 1 and states[i] == views.DONE and self.session.update_note:
+                text += f"  ({self.session.update_note})"
             label.configure(text=text, style=f"{style}.TLabel")
         first = self.path is None
         self.open_button.configure(style="Next.TButton" if first else "TButton")
@@ -245,12 +247,15 @@ class App:
         self.scheduler.later(POLL_MS, self._poll)
 
     def _finished(self, job: str, value) -> None:
+        self.worker.join(5)  # its result is here, so its thread is ending: a follow-up job may start at once
         self.progress.configure(value=0)
         self.cancel_button.state(["disabled"])
         if job == "check":
             self._checked(value)
         elif job == "update":
             self._updated(value)
+        elif job == "last":
+            self._shown_last(value)
         elif job in ("new", "demo"):
             self.open_workbook(value)
         elif job == "restore":
@@ -266,7 +271,12 @@ class App:
         self.progress.configure(value=0)
         self.cancel_button.state(["disabled"])
         self.say(failure.message)
-        if failure.kind == "problems":
+        if job == "last" and failure.kind == "refused":  # results or settings changed since the last update
+            self.session = self.session.but(updated=False, reviewed=False, printed=False, update_note="")
+            when = views.stamp_day(self.checked.updated_at if self.checked is not None else None)
+            self.say(f"{self.path.name}: new results are waiting for an update. The results or settings changed "
+                     f"since the last update ({when}), so choose 2 Update the ratings to include them.")
+        elif failure.kind == "problems":
             self.problems.show(failure.problems, self.checked.layouts if self.checked is not None else None)
             errors = sum(1 for p in failure.problems if p.is_error)
             self.session = self.session.but(checked=True, errors=errors, update_failed=job == "update")
@@ -294,6 +304,8 @@ class App:
         self.say(f"{self.path.name}: {checked.result_rows} result rows. " + views.problems_summary(checked.problems))
         if checked.problems:
             self.notebook.select(self.problems.frame)
+        if checked.updated_at and not checked.errors:  # updated before: show that update if it is still current
+            self._start("last", self.worker.child.call("last", self.path), "Reading the last update\u2026")
 
     def update(self) -> None:
         """Step 2: the weekly update, on the worker thread."""
@@ -309,11 +321,20 @@ class App:
         self.changes.show(updated)
         self.watch.show(updated.watch)
         self.fixtures.show(updated.forecasts)
-        self.session = self.session.but(checked=True, errors=0, updated=True, update_failed=False,
-                                        reviewed=False, printed=False, notice_exists=updated.notice_pdf is not None)
+        self.session = self.session.but(checked=True, errors=0, updated=True, update_failed=False, reviewed=False,
+                                        printed=False, notice_exists=updated.notice_pdf is not None, update_note="")
         self.notebook.select(self.ratings.frame)
         notes = " ".join(updated.notes)
         self.say(f"Ratings updated for {len(updated.ratings)} players. {updated.reason} {notes}".strip())
+
+    def _shown_last(self, updated) -> None:
+        """The last update, still current, shown as if it had just run: step 2 is done already."""
+        self._updated(updated)
+        when = views.stamp_day(updated.checked.updated_at)
+        self.session = self.session.but(update_note=f"last update {when}")
+        warnings = len(updated.checked.problems)
+        self.say(f"{self.path.name}: showing the ratings of the last update ({when}) for {len(updated.ratings)} "
+                 "players; nothing was written." + (f" {warnings} warning(s) under Problems." if warnings else ""))
 
     def review(self) -> None:
         """Step 3: look at what changed."""

@@ -27,6 +27,7 @@ class Checked:
     layouts: Mapping[str, Any]
     settings: Settings
     result_rows: int
+    updated_at: str | None = None  # when the last update ran ("2026-04-16 10:30:00"); None if never
 
     @property
     def errors(self) -> tuple[Problem, ...]:
@@ -56,7 +57,8 @@ class Updated:
 
 
 def _checked(book) -> Checked:
-    return Checked(book.problems, dict(book.layouts), book.settings, len(book.results))
+    return Checked(book.problems, dict(book.layouts), book.settings, len(book.results),
+                   book.state.updated_at if book.state is not None else None)
 
 
 def check(path, progress, cancel) -> Checked:
@@ -68,13 +70,23 @@ def check(path, progress, cancel) -> Checked:
 def update(path, progress, cancel) -> Updated:
     """Step 2: the weekly update, then the rating history for the charts."""
     outcome = pipeline.run_update(path, progress=progress, cancel=cancel)
+    return _updated(outcome, outcome.written)
+
+
+def last_update(path, progress, cancel) -> Updated:
+    """What the last update published, when it is still current; nothing is written."""
+    progress("Reading the last update", 0.0)
+    return _updated(pipeline.last_update(path), path)
+
+
+def _updated(outcome: pipeline.UpdateOutcome, workbook: Path | None) -> Updated:
     bd, changes = outcome.breakdown, outcome.breakdown.changes
     return Updated(
         checked=_checked(outcome.book), ratings=outcome.ratings, changes=bd.players, first_update=bd.first_update,
         note=bd.note, new_rows=len(changes.new), edited_rows=len(changes.edited), removed_rows=len(changes.removed),
         watch=outcome.watch, forecasts=outcome.forecasts, divisions=tuple(outcome.fit.group_names),
         notes=outcome.notes, reason=outcome.reason, written=outcome.written, notice_pdf=outcome.notice_pdf,
-        history=pipeline.rating_history(outcome.written) if outcome.written else {})
+        history=pipeline.rating_history(workbook) if workbook else {})
 
 
 def save_settings(path, values, progress, cancel) -> Path:
@@ -102,5 +114,5 @@ def copy_demo(folder, progress, cancel) -> Path:
     return target
 
 
-JOBS = {"check": check, "update": update, "settings": save_settings, "restore": restore,
+JOBS = {"check": check, "update": update, "last": last_update, "settings": save_settings, "restore": restore,
         "new": new_league, "demo": copy_demo}

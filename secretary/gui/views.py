@@ -27,6 +27,7 @@ class Session:
     reviewed: bool = False
     printed: bool = False
     notice_exists: bool = False  # a PDF notice board is already beside the workbook
+    update_note: str = ""  # shown under step 2, e.g. "last update 16 Apr 2026"
 
     def but(self, **changes) -> "Session":
         """A copy with some fields changed."""
@@ -149,6 +150,14 @@ def band(rating: float, sd: float) -> str:
 
 def day(d: dt.date | None) -> str:
     return "" if d is None else d.strftime("%d %b %Y")
+
+
+def stamp_day(stamp: str | None) -> str:
+    """The day of an update's timestamp ("2026-04-16 10:30:00" -> "16 Apr 2026"); the text itself if odd."""
+    try:
+        return day(dt.date.fromisoformat((stamp or "")[:10]))
+    except ValueError:
+        return stamp or ""
 
 
 RATING_COLUMNS = (
