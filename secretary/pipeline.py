@@ -192,9 +192,13 @@ def run_update(
         if companion:
             reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
-        pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
-        if forecasts:
-            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
+        try:
+            pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
+            if forecasts:
+                card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
+        except OSError as exc:  # the workbook is saved; a PDF held open by a viewer must not undo that
+            reason += (f" The printouts could not be written ({exc.strerror or exc}); if a PDF is open in "
+                       "a viewer, close it and run `secretary notice` to print the notice board again.")
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
@@ -234,10 +238,15 @@ def _published(path: str | Path, what: str) -> Published:
     book = read_workbook(path)
     if book.has_errors:
         raise WorkbookProblems(book.problems)
-    if book.state is None:
+    stored = book.state
+    companion = save.companion_path(path)
+    if stored is None and companion.exists():  # the record lives there when the workbook cannot be saved
+        stored = state.read_state(save.load_for_update(companion))
+        book = replace(book, state=stored)
+    if stored is None:
         raise SecretaryError(f"{Path(path).name} has not been updated yet: run the update first, then the {what}.")
-    changes = compare_rows(book.results, book.state.rows)
-    if changes.new or changes.edited or changes.removed or book.state.settings != book.settings:
+    changes = compare_rows(book.results, stored.rows)
+    if changes.new or changes.edited or changes.removed or stored.settings != book.settings:
         raise SecretaryError(
             f"The results or settings in {Path(path).name} changed since the last update, so the published "
             f"ratings are not current. Run the update first, then the {what}.")
