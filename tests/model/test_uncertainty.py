@@ -43,3 +43,19 @@ def test_exact_path_is_used_for_small_leagues():
     var = uncertainty.strength_variance(pairs, r, 1.0, group)
     H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), 1.0).toarray()
     assert np.allclose(var, np.diag(np.linalg.inv(H)), rtol=1e-10)
+
+
+@pytest.mark.realdata
+def test_approximation_on_real_tennis_results_with_tiers_as_divisions():
+    # Real data (JeffSackmann/tennis_atp, 2019, ~2,950 players): the exact value is still affordable here.
+    from secretary.model.league import fit_league
+    from secretary.model.records import Settings
+    from tests import realdata
+
+    fit = fit_league(realdata.tennis(), Settings(), with_uncertainty=False)
+    h = pair_curvature(fit.pairs, fit.r)
+    exact = uncertainty.exact_variance(LaplacianPattern(fit.pairs).matrix(h, fit.prior_sd))
+    approx = uncertainty.approximate_variance(fit.pairs, h, fit.prior_sd, fit.group)
+    rel = np.abs(np.sqrt(approx / exact) - 1)
+    assert np.median(rel) <= 0.05
+    assert rel.max() <= 0.10
