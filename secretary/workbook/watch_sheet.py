@@ -45,7 +45,9 @@ FORMATS = {
 }
 SHOWN_NAMES = 12  # players listed by name in one cell before "and N more"
 WIDEST = 40  # characters for data columns; the what-to-do column gets TODO_WIDTH
-TODO_WIDTH = 90
+TODO_WIDTH = 60
+LINE_POINTS = 15  # height of one wrapped line of the default 11-point font
+TODO_COLUMN = max(len(headers) for headers in (POOL_HEADERS, DIVISION_HEADERS, HELD_HEADERS, MATCH_HEADERS))
 
 BOLD = Font(bold=True)
 HEADING = Font(bold=True, size=13)
@@ -60,6 +62,11 @@ def _listing(names: Sequence[str]) -> str:
     return shown + (f" and {len(names) - SHOWN_NAMES} more" if len(names) > SHOWN_NAMES else "")
 
 
+def _column(position: int, header: str) -> int:
+    """Where a column goes: every section's what-to-do lines share one wide, wrapped column on the right."""
+    return TODO_COLUMN if header == TODO else position
+
+
 def _section(ws: Worksheet, row: int, title: str, note: str, headers: Sequence[str],
              rows: Sequence[Sequence[object]], widths: dict[int, int]) -> int:
     """Heading, one explanatory line, column headers and rows from ``row``; returns the next free row."""
@@ -67,7 +74,8 @@ def _section(ws: Worksheet, row: int, title: str, note: str, headers: Sequence[s
     ws.cell(row, 1).font = HEADING
     put(ws.cell(row + 1, 1), note)
     row += 2
-    for col, header in enumerate(headers, start=1):
+    columns = [_column(i, header) for i, header in enumerate(headers, start=1)]
+    for col, header in zip(columns, headers):
         cell = ws.cell(row, col)
         put(cell, header)
         cell.font = BOLD
@@ -78,11 +86,16 @@ def _section(ws: Worksheet, row: int, title: str, note: str, headers: Sequence[s
         put(ws.cell(row, 1), NOTHING)
         return row + 2
     for values in rows:
-        for col, (header, value) in enumerate(zip(headers, values), start=1):
+        for col, header, value in zip(columns, headers, values):
             if value is None or value == "":
                 continue
             put(ws.cell(row, col), value, FORMATS.get(header))
-            if header != TODO:
+            if header == TODO:
+                ws.cell(row, col).alignment = Alignment(wrap_text=True, vertical="top")
+                lines = -(-len(str(value)) // (TODO_WIDTH - 4))  # spreadsheet programs do not grow rows on open
+                if lines > 1:
+                    ws.row_dimensions[row].height = LINE_POINTS * lines
+            else:
                 widths[col] = max(widths.get(col, 0), min(len(str(value)) if isinstance(value, str) else 8, WIDEST))
         row += 1
     return row + 1
@@ -132,5 +145,4 @@ def write_watch(wb: Workbook, watch: WatchList) -> None:
     ws.page_setup.orientation = "landscape"
     ws.sheet_properties.pageSetUpPr.fitToPage = True
     ws.page_setup.fitToWidth, ws.page_setup.fitToHeight = 1, 0
-    # The what-to-do column sits at a different place in each section: widen the widest one only.
-    ws.column_dimensions[get_column_letter(len(MATCH_HEADERS))].width = TODO_WIDTH
+    ws.column_dimensions[get_column_letter(TODO_COLUMN)].width = TODO_WIDTH

@@ -47,7 +47,8 @@ def column_a(ws):
 
 def header_row_after(ws, title):
     row = column_a(ws).index(title) + 1 + 2  # heading, note, headers (1-based)
-    return row, [ws.cell(row, c).value for c in range(1, ws.max_column + 1) if ws.cell(row, c).value is not None]
+    # Positions are kept (None for a gap): the what-to-do column sits at the far right in every section.
+    return row, [ws.cell(row, c).value for c in range(1, ws.max_column + 1)]
 
 
 @pytest.fixture(scope="module")
@@ -71,7 +72,10 @@ def test_sections_in_order_with_plain_headers(saved, watch):
     rows = [column_a(ws).index(t) for t in titles]
     assert rows == sorted(rows)  # the separate pool is called out first
     for title, headers in zip(titles, (POOL_HEADERS, DIVISION_HEADERS, HELD_HEADERS, MATCH_HEADERS)):
-        assert header_row_after(ws, title)[1] == list(headers)
+        found = header_row_after(ws, title)[1]
+        assert [h for h in found if h is not None] == list(headers)
+        assert found.index("What to do") == max(len(h) for h in (POOL_HEADERS, DIVISION_HEADERS, HELD_HEADERS,
+                                                                  MATCH_HEADERS)) - 1  # one column for all
     assert ws["B2"].value.date() == watch.reference_date
 
 
