@@ -27,7 +27,7 @@ from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fin
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
 from secretary.report.notice import write_notice_pdf
-from secretary.workbook import fidelity, save, schema, state
+from secretary.workbook import fidelity, graft, save, schema, state
 from secretary.workbook.fixtures_sheet import write_fixture_columns
 from secretary.workbook.notice_sheet import write_notice
 from secretary.workbook.read import LeagueBook, read_workbook
@@ -106,8 +106,8 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
     return tuple(out)
 
 
-def _target(path: Path, out: Path | None):
-    """The workbook to write the tool's sheets into, and where it will be saved."""
+def _full_target(path: Path, out: Path | None):
+    """For a full save: the workbook to write the tool's sheets into, where it goes, and what would be lost."""
     lost = fidelity.unsupported_content(path)
     if out is not None:
         return save.load_for_update(path), Path(out), lost
@@ -123,6 +123,14 @@ def _target(path: Path, out: Path | None):
     return save.load_for_update(path), path, lost
 
 
+def _stored_state(path: Path, book: LeagueBook):
+    """What the previous update published: from the workbook, else from its companion."""
+    if book.state is not None:
+        return book.state
+    companion = save.companion_path(path)
+    return state.read_state(save.load_for_update(companion)) if companion.exists() else None
+
+
 def run_update(
     path: str | Path,
     *,
@@ -134,21 +142,29 @@ def run_update(
 ) -> UpdateOutcome:
     """The weekly update of the workbook at ``path``.
 
+    The tool's sheets are grafted into the workbook's package, leaving every
+    part of the secretary's own sheets byte for byte as it was; when that is
+    not possible (a Fixtures sheet to fill in, ``out`` given, or a workbook the
+    graft refuses) the whole workbook is loaded and saved instead.
+
     Raises ``WorkbookProblems`` (nothing written) when the checks find errors,
     ``Cancelled`` when the cancel flag is set, ``FileRefused`` when the file
     cannot be read or must not be overwritten.
     """
-    progress = progress or _quiet
-    path = Path(path)
+    try:
+        return _update(Path(path), out, dry_run, progress or _quiet, cancel, now, graft_it=True)
+    except graft.GraftRefused:
+        return _update(Path(path), out, dry_run, progress or _quiet, cancel, now, graft_it=False)
+
+
+def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, graft_it: bool) -> UpdateOutcome:
     _step(progress, cancel, "Reading the workbook", 0.0)
-    wb, target, lost = _target(path, Path(out) if out else None)
-    book = read_workbook(path, wb=wb if target == path else None)
+    book = read_workbook(path)
     if book.has_errors:
         raise WorkbookProblems(book.problems)
-    published = book.state
-    if published is None and target != path and target.exists():
-        published = state.read_state(wb)  # the companion keeps the record when the workbook cannot
+    published = _stored_state(path, book)
     settings = book.settings
+    graft_it = graft_it and out is None and not book.fixtures
 
     _step(progress, cancel, "Rating every player", 0.25)
     fit = fit_league(book.results, settings, players=book.players)
@@ -160,16 +176,14 @@ def run_update(
     forecasts = forecast_fixtures(book.fixtures, fit)
     ratings = _published_ratings(fit, breakdown)
 
-    stamp = (now or dt.datetime.now()).replace(microsecond=0).isoformat(sep=" ")
-    rated = [r for r in book.results if not r.void]
-    log = _update_log(book, fit, breakdown, stamp, lost)
-    new_state = PublishedState(
-        updated_at=stamp, reference_date=log.reference_date,
-        ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
-        rows=tuple((identity(r), fingerprint(r)) for r in rated), settings=settings,
-        previous=replace(published, previous=None) if published else None)
-
     _step(progress, cancel, "Writing the sheets", 0.75)
+    if graft_it:
+        wb, target, lost = graft.load_tool_sheets(path), path, []
+    else:
+        wb, target, lost = _full_target(path, Path(out) if out else None)
+    companion = bool(lost) and out is None
+    stamp = (now or dt.datetime.now()).replace(microsecond=0).isoformat(sep=" ")
+    log = _update_log(book, fit, breakdown, stamp, lost)
     write_ratings(wb, ratings, settings)
     write_why(wb, breakdown, settings)
     write_watch(wb, watch)
@@ -177,16 +191,19 @@ def run_update(
     write_history(wb, log.reference_date, ratings)
     write_log(wb, log)
     write_problems(wb, book.warnings)
-    companion = bool(lost) and out is None
-    if book.fixtures and not companion:
+    if book.fixtures and not companion and not graft_it:
         write_fixture_columns(wb, forecasts, settings)
-    state.write_state(wb, new_state)
+    state.write_state(wb, PublishedState(
+        updated_at=stamp, reference_date=log.reference_date,
+        ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
+        rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
+        previous=replace(published, previous=None) if published else None))
 
     written = backup = pdf = card = None
     reason = "Dry run: nothing was written."
     if not dry_run:
         _step(progress, cancel, "Saving the workbook safely", 0.9)
-        saved = save.save_workbook(wb, target)
+        saved = graft.save_grafted(path, wb) if graft_it else save.save_workbook(wb, target)
         written, backup = saved.path, saved.backup
         reason = saved.reason
         if companion:
@@ -202,9 +219,8 @@ def run_update(
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
-        handicap_pdf=card,
-        book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch, forecasts=forecasts,
-        log=log, notes=tuple(describe(fit.diagnosis, fit.names)))
+        handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
+        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)))
 
 
 def _update_log(book: LeagueBook, fit: LeagueFit, breakdown: Breakdown, stamp: str,
@@ -238,11 +254,8 @@ def _published(path: str | Path, what: str) -> Published:
     book = read_workbook(path)
     if book.has_errors:
         raise WorkbookProblems(book.problems)
-    stored = book.state
-    companion = save.companion_path(path)
-    if stored is None and companion.exists():  # the record lives there when the workbook cannot be saved
-        stored = state.read_state(save.load_for_update(companion))
-        book = replace(book, state=stored)
+    stored = _stored_state(Path(path), book)
+    book = replace(book, state=stored)
     if stored is None:
         raise SecretaryError(f"{Path(path).name} has not been updated yet: run the update first, then the {what}.")
     changes = compare_rows(book.results, stored.rows)

@@ -1,7 +1,9 @@
-"""A workbook holding content openpyxl would drop: outputs go to a companion, week after week."""
+"""Workbooks holding content openpyxl would drop: grafted in place, or (with fixtures to fill) a companion."""
 from __future__ import annotations
 
+import datetime as dt
 import hashlib
+import zipfile
 
 import openpyxl
 
@@ -10,9 +12,44 @@ from secretary.workbook.save import companion_path
 from tests.workbook import xlsx_samples as S
 
 
-def test_companion_keeps_the_record_so_the_next_update_explains_its_changes(tmp_path):
-    league = S.secretary_workbook(tmp_path / "league.xlsx", results=12)
+def with_text_box(path, fixtures: bool):
+    """The sample secretary workbook with a text box (which openpyxl drops), and optionally fixtures."""
+    league = S.secretary_workbook(path, results=12)
+    if fixtures:
+        wb = openpyxl.load_workbook(league)
+        ws = wb.create_sheet("Fixtures")
+        ws.append(["Date", "Player A", "Player B"])
+        ws.append([dt.date(2026, 4, 1), "Ada Finch", "Bram Oak"])
+        wb.save(league)
     S.edit_zip(league, edit={"xl/drawings/drawing1.xml": S.insert_before("</wsDr>", S.SHAPE_ANCHOR)})
+    return league
+
+
+def parts(path):
+    with zipfile.ZipFile(path) as z:
+        return {name: z.read(name) for name in z.namelist()}
+
+
+def test_a_workbook_openpyxl_could_not_keep_is_updated_in_place_with_its_own_parts_untouched(tmp_path):
+    league = with_text_box(tmp_path / "league.xlsx", fixtures=False)
+    before = parts(league)
+
+    first = run_update(league)
+    assert not first.companion and first.written == league
+    after = parts(league)
+    # Every part of the secretary's own sheets (the text box's drawing included) is byte for byte the same.
+    kept = [name for name in before if name.startswith(("xl/worksheets/", "xl/drawings/", "xl/charts/", "xl/media/"))]
+    assert kept and all(after[name] == before[name] for name in kept)
+    assert b"Bring your own cue" in after["xl/drawings/drawing1.xml"]
+
+    second = run_update(league)
+    assert not second.breakdown.first_update
+    assert all(abs(p.change) < 1e-9 for p in second.breakdown.players)
+    assert [p.name for p in last_update(league).ratings] == [p.name for p in second.ratings]
+
+
+def test_with_fixtures_to_fill_the_outputs_go_to_a_companion_that_keeps_the_record(tmp_path):
+    league = with_text_box(tmp_path / "league.xlsx", fixtures=True)
     original = hashlib.sha256(league.read_bytes()).hexdigest()
 
     first = run_update(league)
