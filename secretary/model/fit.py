@@ -17,7 +17,6 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.linalg as sla
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 from scipy.special import expit, log_expit
 
 from secretary.errors import FitFailed
@@ -95,11 +94,11 @@ class LaplacianPattern:
         values = -h if self.order is None else -h[self.order]
         return sp.csr_matrix((values, self.indices, self.indptr), shape=(self.n, self.n))
 
-    def operator(self, h, diag) -> spla.LinearOperator:
-        """``v -> H v`` without forming the symmetric matrix."""
+    def matvec(self, h, diag):
+        """The function ``v -> H v``, without forming the symmetric matrix."""
         upper = self.upper(h)
-        lower = upper.T.tocsr() if self.n <= DENSE_LIMIT else upper.T
-        return spla.LinearOperator((self.n, self.n), matvec=lambda v: diag * v + upper @ v + lower @ v, dtype=float)
+        lower = upper.T
+        return lambda v: diag * v + upper @ v + lower @ v
 
     def matrix(self, h, prior_sd: float) -> sp.csr_matrix:
         """``H`` as a sparse matrix for pair weights ``h``."""
@@ -144,7 +143,7 @@ def _newton_step(pattern: LaplacianPattern, h, prior_sd: float, g: np.ndarray, g
         return -sla.cho_solve(sla.cho_factor(H, check_finite=False), g, check_finite=False)
     # Inexact Newton: Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
     rtol = min(0.1, np.sqrt(gmax)) * 0.1
-    return -conjugate_gradient(pattern.operator(h, diag).matvec, g, 1.0 / diag, rtol, 10 * pattern.n)
+    return -conjugate_gradient(pattern.matvec(h, diag), g, 1.0 / diag, rtol, 10 * pattern.n)
 
 
 def _dot(a: np.ndarray, b: np.ndarray) -> float:
@@ -181,7 +180,8 @@ def conjugate_gradient(matvec, b: np.ndarray, inv_diag: np.ndarray, rtol: float,
     else:
         if np.sqrt(_dot(r, r)) <= stop:
             return x
-    raise FitFailed("the rating fit hit a numerical breakdown; please report this with the workbook")
+    raise FitFailed("the rating calculation did not settle; no ratings were changed. "
+                    "Please report this with the workbook.")
 
 
 def fit_map(

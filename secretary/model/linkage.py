@@ -31,8 +31,7 @@ import scipy.sparse.linalg as spla
 from scipy.special import expit
 from scipy.stats import nbinom
 
-from secretary.errors import FitFailed
-from secretary.model.fit import LaplacianPattern, pair_curvature
+from secretary.model.fit import LaplacianPattern, conjugate_gradient, pair_curvature
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
 
@@ -225,8 +224,7 @@ class HessianSolver:
                                  options={"SymmetricMode": True})
         else:
             self._H = H.tocsr()
-            diag = self._H.diagonal()
-            self._precond = spla.LinearOperator((n, n), matvec=lambda v: v / diag, dtype=float)
+            self._inv_diag = 1.0 / self._H.diagonal()
 
     def solve(self, b) -> np.ndarray:
         """``H^-1 b`` for a vector or for each column of a matrix."""
@@ -240,10 +238,7 @@ class HessianSolver:
         return np.column_stack([self._cg(col) for col in b.T]) if b.shape[1] else b.copy()
 
     def _cg(self, b: np.ndarray) -> np.ndarray:
-        x, info = spla.cg(self._H, b, rtol=self.rtol, atol=0.0, maxiter=20 * self.n, M=self._precond)
-        if info != 0:
-            raise FitFailed("the watch list's uncertainty calculation did not settle; please report this with the workbook")
-        return x
+        return conjugate_gradient(self._H.dot, b, self._inv_diag, self.rtol, 20 * self.n)
 
 
 def level_vectors(members: np.ndarray) -> np.ndarray:

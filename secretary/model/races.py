@@ -28,14 +28,12 @@ def fair_race_for_chance(p: float, longest: int = 9) -> tuple[int, int]:
     if longest < 1:
         raise ValueError(f"the longest race must be at least 1 (got {longest!r})")
     a, b = np.meshgrid(np.arange(1, longest + 1), np.arange(1, longest + 1), indexing="ij")
-    gap = np.abs(race_chance(p, a, b) - 0.5)
-    best = gap.min()
-    ties = np.isclose(gap, best, rtol=0.0, atol=1e-12)
+    gap = np.abs(race_chance(p, a, b) - 0.5).ravel()
+    a, b = a.ravel(), b.ravel()
+    ties = np.flatnonzero(gap <= gap.min() + 1e-12)
     # Among (near-)equal gaps prefer the longest race (more games = less luck), then the longer for A.
-    length = np.where(ties, a + b, -1)
-    k = np.flatnonzero(length.ravel() == length.max())
-    pick = max(k, key=lambda idx: (int(a.ravel()[idx] + b.ravel()[idx]), int(a.ravel()[idx])))
-    return int(a.ravel()[pick]), int(b.ravel()[pick])
+    pick = ties[np.lexsort((a[ties], a[ties] + b[ties]))[-1]]
+    return int(a[pick]), int(b[pick])
 
 
 def fair_race(rating_a: float, rating_b: float, *, longest: int = 9, scale: float = 400.0) -> tuple[int, int]:

@@ -21,6 +21,8 @@ EXACT_LIMIT = 3000
 def exact_variance(H) -> np.ndarray:
     """``diag(H^-1)`` by a dense Cholesky factor and its inverse (O(n^3), exact)."""
     dense = H.toarray() if sp.issparse(H) else np.array(H, dtype=float)
+    if dense.size == 0:  # a league with nobody in it yet
+        return np.zeros(0)
     c, info = lapack.dpotrf(dense, lower=1, clean=1, overwrite_a=1)
     if info != 0:
         raise np.linalg.LinAlgError("Hessian is not positive definite")

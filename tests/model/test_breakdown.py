@@ -12,7 +12,7 @@ from hypothesis import given, settings as hyp_settings, strategies as st
 from secretary.model.breakdown import best_response, displayed_parts, explain_changes, opponent_shares
 from secretary.model.league import fit_league
 from secretary.model.records import Player, PublishedState, Result, Settings, fingerprint, identity
-from secretary.model.scale import game_chance, points_per_logodds, to_strength
+from secretary.model.scale import game_chance, points_per_logodds
 
 JARGON = re.compile(r"\b(prior|map|hessian|log-?odds|bradley|terry|posterior|z-?score|logit|gradient)\b", re.I)
 DAY = dt.timedelta(days=1)

@@ -1,5 +1,4 @@
 """The engine against published worked examples and general-purpose libraries (sources named beside each check)."""
-import datetime as dt
 
 import numpy as np
 import pytest
@@ -168,7 +167,6 @@ def test_rule_of_thumb_sd_after_n_games_against_equal_opponents():
     n_opp = 50
     a = np.zeros(n_opp, dtype=int)
     b = np.arange(1, n_opp + 1)
-    mu = np.zeros(n_opp + 1)
     pairs = aggregate(a, b, np.full(n_opp, 1.0), np.full(n_opp, 1.0), n_opp + 1)
     # Opponents pinned down tightly by their own prior (sd 0.01) so only player 0 is uncertain.
     H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, np.zeros(n_opp + 1)), 1e3).toarray()

@@ -123,3 +123,8 @@ def test_large_league_uses_the_sparse_path_and_agrees_with_dense(monkeypatch):
     monkeypatch.setattr(fit_module, "DENSE_LIMIT", 10)
     sparse = fit_module.fit_map(pairs, np.zeros(n), 1.0).r
     assert np.max(np.abs(dense - sparse)) < 1e-8
+
+
+def test_an_empty_league_fits_to_nothing_without_an_error():
+    fit = fit_league([])
+    assert fit.names == () and len(fit.var) == 0 and fit.reference_date is None
