@@ -81,13 +81,12 @@ def summary(outcome) -> list[str]:
         if movers:
             lines.append("  Biggest changes: " + "; ".join(
                 f"{p.name} {_signed(p.shown[2])} ({p.shown[0]} -> {p.shown[1]})" for p in movers))
-    flagged = [d for d in outcome.watch.divisions if d.flagged]
-    held = [h for h in outcome.watch.held if h.flagged]
-    if flagged or held or outcome.watch.pools:
+    from secretary.pipeline import watch_lines  # loaded already by the update
+
+    watching = watch_lines(outcome.watch)
+    if watching:
         lines.append("  Watch list:")
-        lines += [f"    - {p.what_to_do}" for p in outcome.watch.pools]
-        lines += [f"    - {d.division}: {d.what_to_do}" for d in flagged]
-        lines += [f"    - {h.name}: {h.what_to_do}" for h in held]
+        lines += [f"    - {line}" for line in watching]
     lines += [f"  Note: {note}" for note in outcome.notes]
     if book.warnings:
         lines.append(f"  {len(book.warnings)} warning(s); see the Problems sheet:")

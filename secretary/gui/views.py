@@ -442,13 +442,10 @@ def suggestion_rows(watch) -> list[Row]:
 
 
 def watch_lines(watch) -> list[str]:
-    """The watch list's to-do lines, most important first."""
-    lines = [p.what_to_do for p in watch.pools]
-    lines += [f"{d.division}: {d.what_to_do}" for d in watch.flagged_divisions]
-    lines += [f"{h.name}: {h.what_to_do}" for h in watch.flagged_players]
-    if watch.suggestions and (watch.pools or watch.flagged_divisions):
-        lines.append(f"{len(watch.suggestions)} linking match(es) are suggested below.")
-    return lines or ["Nothing to act on: every division is tied in well enough and no rating is held back."]
+    """The watch list's to-do lines, most important first (worded as on the command line)."""
+    from secretary.model.watch_sentences import NOTHING_TO_DO, watch_lines as lines
+
+    return lines(watch) or [NOTHING_TO_DO]
 
 
 # ------------------------------------------------------------------ settings
