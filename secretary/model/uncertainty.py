@@ -4,6 +4,11 @@ Each player's ± is ``sqrt((H^-1)_kk)`` (log-odds; convert to points at the
 edge).  Exact (dense Cholesky inverse) up to ``EXACT_LIMIT`` players; above
 that a two-level approximation (documented in ``approximate_variance``) whose
 error against the exact value is measured in the tests.
+
+With division levels the posterior is over ``(r, L)`` (``fit.joint_hessian``):
+the exact path inverts the joint Hessian, whose first ``n`` diagonal entries
+are then ``Var(r_i) = Var(u_i) + Var(L_d) + 2 Cov(u_i, L_d)`` (the level's
+covariance counted) and the last ``D`` the levels' variances.
 """
 from __future__ import annotations
 
@@ -13,7 +18,7 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.linalg import lapack
 
-from secretary.model.fit import LaplacianPattern, pair_curvature
+from secretary.model.fit import LaplacianPattern, Levels, conjugate_gradient, joint_hessian, pair_curvature
 from secretary.model.pairs import Pairs
 
 EXACT_LIMIT = 3000
@@ -73,14 +78,44 @@ def approximate_variance(pairs: Pairs, h, prior_sd: float, groups) -> np.ndarray
     return local + neighbours + level
 
 
-def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None) -> np.ndarray:
-    """Posterior variance of every strength (log-odds squared): exact up to ``EXACT_LIMIT`` players."""
+def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None, levels: Levels | None = None) -> np.ndarray:
+    """Posterior variance of every strength (log-odds squared): exact up to ``EXACT_LIMIT`` players.
+
+    With ``levels`` (a free Division spread) the answer has ``n + D`` entries:
+    the strengths' variances, then the division levels'.
+    """
     h = pair_curvature(pairs, r)
+    if levels is not None:
+        return _level_variance(pairs, h, prior_sd, levels, groups)
     if pairs.n_players <= EXACT_LIMIT:
         return exact_variance(LaplacianPattern(pairs).matrix(h, prior_sd))
     if groups is None:
         groups = np.zeros(pairs.n_players, dtype=np.int64)
     return approximate_variance(pairs, h, prior_sd, groups)
+
+
+def _level_variance(pairs: Pairs, h, prior_sd: float, levels: Levels, groups=None) -> np.ndarray:
+    """``diag`` of the joint posterior covariance over ``(r, L)``.
+
+    Exact (the joint Hessian inverted) up to ``EXACT_LIMIT`` unknowns.  Above,
+    the block inverse: with ``P`` the players' Hessian (levels held fixed) and
+    ``W = P^-1 B / sd^2`` (one CG solve per division),
+    ``Var(L) = (diag(n_d / sd^2 + 1 / tau^2) - B^T W / sd^2)^-1`` and
+    ``Cov(r) = P^-1 + W Var(L) W^T``; only ``diag(P^-1)`` is approximated
+    (``approximate_variance``), the levels' part is exact.
+    """
+    P = LaplacianPattern(pairs).matrix(h, prior_sd)
+    n, D = P.shape[0], len(levels.mean)
+    if n + D <= EXACT_LIMIT:
+        return exact_variance(joint_hessian(P, levels, prior_sd))
+    diag = P.diagonal()
+    W = np.column_stack([conjugate_gradient(lambda v: P @ v, (levels.group == d) / prior_sd**2, 1.0 / diag,
+                                            1e-10, 10 * n) for d in range(D)])
+    coupling = np.stack([np.bincount(levels.group, W[:, d], D) for d in range(D)], axis=1) / prior_sd**2
+    level_cov = sla.inv(np.diag(levels.precision(prior_sd)) - coupling)
+    groups = levels.group if groups is None else groups
+    players = approximate_variance(pairs, h, prior_sd, groups) + np.einsum("kd,de,ke->k", W, level_cov, W)
+    return np.concatenate([players, np.diag(level_cov)])
 
 
 DENSE_CONTRASTS = 1000  # players up to which a dense Cholesky factor is quicker than a sparse LU

@@ -173,6 +173,10 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
     SettingSpec("half_life_days", "Half-life (days)", "number",
                 "Age in days at which an old game counts half as much as a new one "
                 "(0 = games never age).", 0, 36500, aliases=("half-life", "half life")),
+    SettingSpec("division_spread", "Division spread", "number",
+                "How far, in points, the divisions' levels usually are from each other's: each division "
+                "gets its own level, judged from the games between divisions (0 = one pool: every "
+                "division starts from the same level and stays there).", 0, 2000),
     SettingSpec("longest_race", "Longest race", "whole",
                 "The longest race (first to this many games) to suggest for a fair match.", 1, 50),
     SettingSpec("shortest_race", "Shortest race", "whole",

@@ -122,10 +122,12 @@ def test_parts_add_up_exactly_for_every_player(case):
             # Own part of a player who did not play = ageing only: toward the starting rating, never away.
             held_at = pc.after - pc.own - pc.opponents - pc.group
             starting = players[0].starting if pc.name == players[0].name and players[0].starting else now.centre
+            starting += b.level_before[pc.division]  # the prior mean given the division's level at R0
             assert np.sign(held_at - starting) * pc.own <= 1e-5
             assert pc.own == pytest.approx(pc.ageing, abs=1e-9)
     assert b.settings_changed == tuple(
-        f for f in ("centre", "scale", "skill_spread", "half_life_days") if getattr(before, f) != getattr(now, f)
+        f for f in ("centre", "scale", "skill_spread", "half_life_days", "division_spread")
+        if getattr(before, f) != getattr(now, f)
     )
 
 
