@@ -94,9 +94,7 @@ def fit_league(
     settings: Settings = Settings(),
     *,
     players: Sequence[Player] = (),
-    reference_date: dt.date | None = None,
-    start: Mapping[str, float] | None = None,
-    with_uncertainty: bool = True,
+    **options,
 ) -> LeagueFit:
     """Fit every rating jointly from all rated (non-void) results.
 
@@ -105,12 +103,9 @@ def fit_league(
     results : the matches; void ones are skipped
     settings : centre, scale, skill spread (points) and half-life (days)
     players : optional Players-sheet records (divisions, starting ratings, players yet to play)
-    reference_date : date ages are measured from; default the newest result's date
-    start : optional warm start, strengths (log-odds) by name
-    with_uncertainty : skip the ± computation when only the optimum is needed
+    options : ``reference_date``, ``start``, ``with_uncertainty``, as for ``fit_matches``
     """
-    return fit_matches(from_results(results, players), settings, players=players,
-                       reference_date=reference_date, start=start, with_uncertainty=with_uncertainty)
+    return fit_matches(from_results(results, players), settings, players=players, **options)
 
 
 def fit_matches(
@@ -122,7 +117,16 @@ def fit_matches(
     start: Mapping[str, float] | None = None,
     with_uncertainty: bool = True,
 ) -> LeagueFit:
-    """``fit_league`` on matches already in columns (see ``fit_league`` for the parameters)."""
+    """Fit every rating jointly from matches already in columns (``Matches``).
+
+    Parameters
+    ----------
+    matches : the rated matches
+    settings, players : as for ``fit_league``
+    reference_date : date ages are measured from; default the newest match's date
+    start : optional warm start, strengths (log-odds) by name
+    with_uncertainty : skip the ± computation when only the optimum is needed
+    """
     order = matches.names
     n = len(order)
     ref = reference_date or (dt.date.fromordinal(int(matches.day.max())) if len(matches) else None)

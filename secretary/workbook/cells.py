@@ -61,7 +61,9 @@ class Workbook:
             table = self._book.get_sheet_by_name(title).to_python(skip_empty_area=False)
         except python_calamine.CalamineError:
             return None
-        return SheetCells([tuple(map(_cell, row)) for row in table], None if formula else set())
+        for number, row in enumerate(table):  # in place: each raw row is freed as soon as it is converted
+            table[number] = tuple(map(_cell, row))
+        return SheetCells(table, None if formula else set())
 
     def rows(self, title: str) -> list[tuple]:
         """Every row of a sheet (blanks as None), for small sheets such as the tool's own."""

@@ -16,9 +16,7 @@ from __future__ import annotations
 
 import argparse
 import datetime as dt
-import statistics
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
@@ -28,10 +26,12 @@ sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parents[1]))
 
 import busy  # noqa: E402
+from bench_engine import sklearn_problem  # noqa: E402
+from busy import timed  # noqa: E402
 from make_league import REFERENCE_DATE, make_games, player_name  # noqa: E402
 
 import secretary  # noqa: E402
-from secretary.model.pairs import age_weights, aggregate  # noqa: E402
+from secretary.model.pairs import age_weights  # noqa: E402
 from secretary.model.records import Settings  # noqa: E402
 from secretary.model.scale import points_per_logodds  # noqa: E402
 
@@ -43,30 +43,6 @@ def tuples(n_matches: int, n_players: int) -> list[tuple]:
     return [(days[int(age)], names[a], names[b], ga, gb)
             for age, a, b, ga, gb in zip(g.age_days.tolist(), g.idx_a.tolist(), g.idx_b.tolist(),
                                          g.games_a.tolist(), g.games_b.tolist())], g
-
-
-def liblinear_problem(g, settings: Settings):
-    import scipy.sparse as sp
-
-    n = len(g.strengths)
-    pairs = aggregate(g.idx_a, g.idx_b, g.games_a, g.games_b, n, age_weights(g.age_days, settings.half_life_days))
-    m = len(pairs.i)
-    rows = np.r_[np.arange(m), np.arange(m)]
-    X1 = sp.csr_matrix((np.r_[np.ones(m), -np.ones(m)], (rows, np.r_[pairs.i, pairs.j])), shape=(m, n))
-    X = sp.vstack([X1, X1]).tocsr()
-    y = np.r_[np.ones(m), np.zeros(m)]
-    w = np.r_[pairs.won_i, pairs.won_j]
-    keep = w > 0
-    return X[keep], y[keep], w[keep]
-
-
-def timed(fn, repeat):
-    times, out = [], None
-    for _ in range(repeat):
-        start = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times), out
 
 
 def main():
@@ -82,7 +58,7 @@ def main():
     rows, g = tuples(args.matches, args.players)
     settings = Settings()
     prior_sd = settings.skill_spread / points_per_logodds(settings.scale)
-    X, y, w = liblinear_problem(g, settings)
+    X, y, w = sklearn_problem(g, age_weights(g.age_days, settings.half_life_days))
     names = [player_name(i) for i in range(args.players)]
 
     def liblinear():

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+import statistics
 import subprocess
 import sys
 import time
@@ -32,6 +33,16 @@ def one_core_busy():
     finally:
         spinner.kill()
         spinner.wait()
+
+
+def timed(fn, repeat: int):
+    """(median seconds of ``repeat`` calls of ``fn``, the last call's answer)."""
+    times, out = [], None
+    for _ in range(repeat):
+        start = time.perf_counter()
+        out = fn()
+        times.append(time.perf_counter() - start)
+    return statistics.median(times), out
 
 
 def conditions(which=("idle", "busy")):
