@@ -22,6 +22,7 @@ from secretary.model.evaluate import Evaluation, evaluate
 from secretary.model.fixtures import FixtureForecast, forecast_fixtures
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.linkage import WatchList, watch_list
+from secretary.model.watch_sentences import watch_lines  # noqa: F401  (the command line's summary lines)
 from secretary.model.tune import Tuning, tune
 from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
 from secretary.model.changes import compare_rows

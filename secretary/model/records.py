@@ -66,6 +66,7 @@ class Settings:
     skill_spread: float = DEFAULT_SKILL_SPREAD  # points: SD of the prior
     half_life_days: float = DEFAULT_HALF_LIFE_DAYS  # 0 = games never age
     longest_race: int = 9
+    shortest_race: int = 2  # no fair race asks either player for fewer games (rule of thumb)
     usual_race: int = 5
     date_order: str = "day-first"  # or "month-first"
     league_name: str = ""

@@ -1,4 +1,7 @@
-"""Choosing the half-life and the skill spread by walk-forward log-loss.
+"""Choosing the half-life and the skill spread by walk-forward predictive log-loss.
+
+The score is ``Evaluation.score``: the log-loss per game of the predictive
+chances (averaged over each step's posterior), what the secretary is shown.
 
 A coarse grid over (half-life, skill spread), then a compass search around
 the best point in log space (each axis stepped by a factor, the factor
@@ -29,7 +32,7 @@ class Tuning:
     Attributes
     ----------
     old_settings, settings : the settings given, and the chosen ones (only half-life and spread differ)
-    old_score, new_score : walk-forward log-loss per game (nats) of each
+    old_score, new_score : walk-forward predictive log-loss per game (nats) of each
     tried : every (half-life days, skill spread points, log-loss) scored, in order
     """
 
@@ -57,7 +60,7 @@ def tune(
     progress: Callable[[int, int], None] | None = None,
     cancel=None,
 ) -> Tuning:
-    """The half-life (days) and skill spread (points) with the lowest walk-forward log-loss.
+    """The half-life (days) and skill spread (points) with the lowest walk-forward predictive log-loss.
 
     Parameters
     ----------
@@ -86,7 +89,7 @@ def tune(
             if cancel is not None and cancel.is_set():
                 raise Cancelled("Tuning was cancelled; the settings were not changed.")
             trial = settings.replace(half_life_days=float(key[0]), skill_spread=float(key[1]))
-            scores[key] = evaluate(walk, trial, cancel=cancel).log_loss
+            scores[key] = evaluate(walk, trial, cancel=cancel).score
             tried.append((float(key[0]), float(key[1]), scores[key]))
             if progress is not None:
                 progress(min(len(tried), total), total)

@@ -1,4 +1,4 @@
-"""Tuning half-life and skill spread by walk-forward log-loss: better or equal, progress, cancel, speed."""
+"""Tuning half-life and skill spread by walk-forward predictive log-loss: better or equal, progress, cancel, speed."""
 import threading
 import time
 
@@ -23,8 +23,8 @@ def walk():
 def test_tuning_scores_better_or_equal_and_reports_true_scores(walk):
     start = Settings(half_life_days=3000.0, skill_spread=900.0)  # a poor choice on purpose
     result = tune(walk, start, **SMALL)
-    assert result.old_score == pytest.approx(evaluate(walk, start).log_loss, rel=1e-12)
-    assert result.new_score == pytest.approx(evaluate(walk, result.settings).log_loss, rel=1e-12)
+    assert result.old_score == pytest.approx(evaluate(walk, start).predictive.log_loss, rel=1e-12)
+    assert result.new_score == pytest.approx(evaluate(walk, result.settings).predictive.log_loss, rel=1e-12)
     assert result.new_score < result.old_score and result.improved
     assert result.new_score == min(score for _, _, score in result.tried)
     # Only the two tuned fields change.
