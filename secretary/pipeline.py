@@ -28,7 +28,7 @@ from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fin
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
 from secretary.report.notice import write_notice_pdf
-from secretary.workbook import fidelity, graft, save, schema, state
+from secretary.workbook import fidelity, graft, save, schema, state, toolsheets
 from secretary.workbook.fixtures_sheet import write_fixture_columns
 from secretary.workbook.notice_sheet import write_notice
 from secretary.workbook.read import LeagueBook, read_workbook
@@ -207,6 +207,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
         previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check))
 
+    clash = toolsheets.clash_note(toolsheets.of_workbook(wb))
     written = backup = pdf = card = None
     reason = "Dry run: nothing was written."
     if not dry_run:
@@ -224,7 +225,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + ((advice,) if advice else ()))
+        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + tuple(n for n in (advice, clash) if n))
 
 
 def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):
@@ -271,7 +272,7 @@ def _update_log(book: LeagueBook, fit: LeagueFit, breakdown: Breakdown, stamp: s
 
 def _was_updated_before(book: LeagueBook) -> bool:
     """The tool's Ratings sheet is there, so a missing record means it was deleted."""
-    return schema.RATINGS_SHEET in book.sheet_names
+    return schema.RATINGS_SHEET in book.tool_sheets
 
 
 @dataclass(frozen=True)

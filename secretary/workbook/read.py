@@ -12,7 +12,7 @@ import openpyxl
 
 from secretary.errors import FileRefused, SecretaryError
 from secretary.model.records import Fixture, Player, Problem, PublishedState, Result, Settings
-from secretary.workbook import guard, schema
+from secretary.workbook import guard, schema, toolsheets
 from secretary.workbook.cells import SheetCells
 from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.dates import parse_date
@@ -48,6 +48,7 @@ class LeagueBook:
     problems: tuple[Problem, ...]
     state: PublishedState | None = None
     sheet_names: tuple[str, ...] = ()
+    tool_sheets: dict[str, str] = field(default_factory=dict)  # role -> name of the tool's sheets (see toolsheets)
     layouts: Mapping[str, SheetLayout] = field(default_factory=dict)  # by schema sheet name
     formula_cells: tuple[tuple[str, int, int], ...] = ()  # (sheet, row, column) without saved value
 
@@ -231,11 +232,12 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
     formula_cells = _check_formulas(path, wb, sheets, reader)
     results, players, fixtures = _link_names(rows, players, fixtures, sheets, reader)
     _check_results(results, sheets.get(schema.RESULTS.name), reader)
-    state = _read_state(wb, values_wb, reader)
+    tool = toolsheets.of_package(path)
+    state = _read_state(wb, values_wb, tool, reader)
     problems = sorted(reader.problems, key=lambda p: (not p.is_error, _SHEET_ORDER.get(p.sheet, 9), p.row or 0))
     return LeagueBook(
         path=path, results=results, players=players, settings=settings, fixtures=fixtures,
-        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames),
+        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames), tool_sheets=tool,
         layouts={name: sheet.layout() for name, sheet in sheets.items()},
         formula_cells=formula_cells)
 
@@ -633,13 +635,14 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
                    f"{dated[cut].date.isoformat()})", "Check the year.")
 
 
-def _read_state(wb, values_wb: ValuesBook, reader: _Reader) -> PublishedState | None:
-    if schema.STATE_SHEET not in values_wb.sheetnames:
+def _read_state(wb, values_wb: ValuesBook, tool: dict[str, str], reader: _Reader) -> PublishedState | None:
+    title = tool.get(schema.STATE_SHEET)
+    if title is None or title not in values_wb.sheetnames:
         return None
     try:
         if wb is not None:
             return read_state(wb)
-        return state_from_rows(values_wb.rows(schema.STATE_SHEET))
+        return state_from_rows(values_wb.rows(title))
     except SecretaryError as exc:
         reader.add("warning", schema.STATE_SHEET, None, None, "", f"the tool's hidden sheet could not be read ({exc})",
                    "Nothing to do: this update's breakdown of changes starts afresh.")

@@ -38,7 +38,7 @@ from openpyxl.workbook.workbook import Workbook
 from secretary.errors import FileRefused
 from secretary.workbook.fidelity import unsupported_content
 from secretary.workbook.guard import check_readable
-from secretary.workbook.schema import OUTPUT_SHEETS
+from secretary.workbook import toolsheets
 
 BACKUP_FOLDER = "backups"
 _TEMP_PREFIX = ".~secretary-"
@@ -301,11 +301,12 @@ def _check_copy(wb: Workbook, temp: Path, target: Path) -> None:
     try:
         if copy.sheetnames != wb.sheetnames:
             raise _check_failed(target, "its sheets differ")
+        tool = set(toolsheets.of_workbook(wb).values())
         for name in wb.sheetnames:
             mine, theirs = wb[name], copy[name]
             if not hasattr(mine, "iter_rows"):
                 continue  # a chart sheet holds no cells
-            if name in OUTPUT_SHEETS:
+            if name in tool:
                 if _cells(mine) != _cells(theirs):
                     raise _check_failed(target, f"sheet '{name}' does not read back as written")
             elif (mine.max_row, mine.max_column) != (theirs.max_row, theirs.max_column):
@@ -423,7 +424,9 @@ def _only_tool_sheets(wb: Workbook):
     """For the length of a save, show openpyxl only the tool's sheets (the caller's workbook is restored)."""
     sheets = wb._sheets[:]
     saved = (wb._active_sheet_index, wb.vba_archive, wb.defined_names, wb._external_links, wb.template)
-    kept = [ws for ws in sheets if ws.title in OUTPUT_SHEETS]
+    tool = set(toolsheets.of_workbook(wb).values())
+    markers = toolsheets.only_markers(wb)
+    kept = [ws for ws in sheets if ws.title in tool]
     visible = [i for i, ws in enumerate(kept) if ws.sheet_state == "visible"]
     if not visible:
         raise ValueError("nothing to save in the companion workbook: no visible sheet of the tool's")
@@ -432,6 +435,7 @@ def _only_tool_sheets(wb: Workbook):
         wb._active_sheet_index = visible[0]
         # The secretary's names, links and macros refer to sheets left out; an .xlsx holds no macros.
         wb.vba_archive, wb.defined_names, wb._external_links, wb.template = None, DefinedNameDict(), [], False
+        wb.defined_names.update(markers)  # the tool's own markers name only the tool's sheets
         yield
     finally:
         wb._sheets[:] = sheets

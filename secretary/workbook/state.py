@@ -16,7 +16,7 @@ from openpyxl.workbook.workbook import Workbook
 
 from secretary.model.records import PublishedState, Settings, TuneCheck
 from secretary.workbook.schema import STATE_SHEET
-from secretary.workbook.style import put, replace_sheet
+from secretary.workbook.style import put, replace_sheet, tool_sheet
 
 FORMAT = 1
 _CHUNK = 30000  # characters per cell, under Excel's 32 767
@@ -78,10 +78,11 @@ def _parse_tune_check(doc: object) -> TuneCheck | None:
 
 def read_state(wb: Workbook) -> PublishedState | None:
     """The state written by the previous update; None when absent or damaged (never raises)."""
-    if STATE_SHEET not in wb.sheetnames:
+    ws = tool_sheet(wb, STATE_SHEET)
+    if ws is None:
         return None
     try:
-        rows = wb[STATE_SHEET].iter_rows(max_col=2, values_only=True)
+        rows = ws.iter_rows(max_col=2, values_only=True)
     except Exception:
         return None
     return state_from_rows(rows)
