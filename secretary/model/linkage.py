@@ -453,13 +453,13 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
     return rows
 
 
-def _not_islanders(fit) -> np.ndarray:
-    """Who may be suggested for a match or listed as held back: everyone but the members of islands.
+def _whole_pools(fit) -> np.ndarray:
+    """Per pool: is it the largest pool, or the pool that holds most of some division's players?
 
-    An island is a separate pool that is not made of whole divisions (two newcomers
-    who only met each other, a misspelt name): it is listed once, on its own line.
-    A division that plays nobody else is a pool too, but its level is the
-    division's problem, which the division's line and the suggestions address.
+    Any other separate pool is an island (two newcomers who only met each other, a
+    misspelt name): it is listed once, on its own line, and never suggested for.
+    A division that plays nobody else is a pool too, but that is the division's
+    problem, which its line and the suggestions address.
     """
     pool = fit.diagnosis.pool
     if not len(pool):
@@ -467,20 +467,24 @@ def _not_islanders(fit) -> np.ndarray:
     n_pools, n_groups = int(pool.max()) + 1, len(fit.group_names)
     count = np.zeros((n_pools, n_groups), dtype=np.int64)
     np.add.at(count, (pool, fit.group), 1)
-    # A pool is made of whole divisions when no division it touches has players outside it.
-    split = (count > 0) & (count < count.sum(axis=0, keepdims=True))
-    whole = ~split.any(axis=1)
-    whole[0] = True  # the main pool
-    return whole[pool]
+    whole = np.zeros(n_pools, dtype=bool)
+    whole[np.argmax(count, axis=0)] = True
+    whole[0] = True
+    return whole
+
+
+def _not_islanders(fit) -> np.ndarray:
+    """Who may be suggested for a match or listed as held back: everyone but the members of islands."""
+    return _whole_pools(fit)[fit.diagnosis.pool] if len(fit.names) else np.zeros(0, dtype=bool)
 
 
 def _pools(fit, solver) -> list[Pool]:
-    """Separate pools (every pool of two or more players but the largest), each named once."""
+    """Islands: separate pools of two or more players that are not whole divisions, each named once."""
     pool, pairs = fit.diagnosis.pool, fit.pairs
     if not len(pool):
         return []
-    sizes = np.bincount(pool)
-    separate = [k for k in range(1, len(sizes)) if sizes[k] >= 2]
+    sizes, whole = np.bincount(pool), _whole_pools(fit)
+    separate = [k for k in range(1, len(sizes)) if sizes[k] >= 2 and not whole[k]]
     if not separate:
         return []
     members = pool[:, None] == np.array(separate)[None, :]

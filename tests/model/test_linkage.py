@@ -472,17 +472,17 @@ CAPITALISED = {"Kento MOMOTA", "Sameer VERMA", "Yuqi SHI", "Wan Ho SON", "Tien C
 
 
 @pytest.mark.realdata
-def test_badminton_finals_spelt_in_capitals_form_a_pool_held_by_the_prior():
+def test_badminton_finals_spelt_in_capitals_form_a_division_held_by_the_prior():
     # Source: ../shared/data/README.md (badminton): one season-ending event writes surnames in
-    # capitals; taken literally its eight players form an island that plays nobody else.
+    # capitals; taken literally its eight players play nobody else. They are the whole Finals
+    # division, so the division's line says so (not an island line) and the suggestions tie it in.
     results = realdata.badminton(fold_case=False)
     wl = watch_list(fit_league(results, with_uncertainty=False), results)
-    (pool,) = wl.pools
-    assert set(pool.players) == CAPITALISED and pool.divisions == ("Finals",)
+    assert wl.pools == ()
     finals = wl.division("Finals")
     assert finals.flagged and finals.cross_games == 0 and finals.linking_players == 0
     assert finals.linked_share == pytest.approx(0.0, abs=1e-9)  # only the prior sets their level
-    assert pool.level_sd == pytest.approx(finals.prior_sd, rel=1e-9)
+    assert "has played no one from another division" in finals.what_to_do
     assert wl.divisions[0].division == "Finals"  # the emptiest link is listed first
     assert wl.suggestions and all(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
 
@@ -530,3 +530,53 @@ def test_tennis_tiers_are_ordered_and_unlink_without_their_crossing_players(tenn
         assert d.cross_games == 0 and d.linking_players == 0
         assert d.linked_share == pytest.approx(0.0, abs=1e-9)
     assert time.perf_counter() - t0 < 60
+
+
+def _capitals(name: str) -> str:
+    """'Firstname Surname' -> 'Firstname SURNAME': the spelling that made the badminton islands."""
+    first, _, last = name.partition(" ")
+    return f"{first} {last.upper()}"
+
+
+@pytest.mark.realdata
+def test_tennis_suggestions_touch_the_detached_tier_and_never_the_islands(tennis):
+    # Real results (../shared/data/README.md, tennis): the first eight months of 2019, the third tier
+    # cut off from the others (its cross-tier matches dropped), and three real top-tier matches
+    # written with surnames in capitals, so that each becomes a two-player island inside the top
+    # tier. Before this change all six suggestions paired islands with each other.
+    season = [r for r in tennis if r.date < dt.date(2019, 9, 1)]
+    tiers: dict[str, dict[str, int]] = {}
+    for res in season:
+        for name in (res.player_a, res.player_b):
+            tiers.setdefault(name, {}).setdefault(res.division, 0)
+            tiers[name][res.division] += 1
+    home = {name: max(count, key=count.get) for name, count in tiers.items()}
+    kept = [r for r in season if home[r.player_a] == home[r.player_b] or "Third" not in (home[r.player_a],
+                                                                                        home[r.player_b])]
+    top = [r for r in kept if r.division == "Top" and r.date >= dt.date(2019, 8, 1)]
+    islands, used = [], set()
+    for r in top:
+        if len(islands) == 3:
+            break
+        if {r.player_a, r.player_b} & used:
+            continue
+        used |= {r.player_a, r.player_b}
+        islands.append(Result(r.date, _capitals(r.player_a), _capitals(r.player_b), r.games_a, r.games_b, "Top"))
+    players = [Player(name, division) for name, division in home.items()]
+    results = kept + islands
+    wl = watch_list(fit_league(results, players=players, with_uncertainty=False), results)
+
+    pools = {frozenset(p.players) for p in wl.pools}
+    assert {frozenset((r.player_a, r.player_b)) for r in islands} <= pools
+    assert all(len(p.players) < 10 for p in wl.pools)  # islands, not the detached tier itself
+    island_names = {n for p in wl.pools for n in p.players}
+    for pool in wl.pools:  # each listed once, by name
+        assert all(name in pool.what_to_do for name in pool.players)
+    third = wl.division("Third")
+    assert third.flagged and third.cross_games == 0 and third.linked_share == pytest.approx(0.0, abs=1e-9)
+    assert len(wl.suggestions) == Settings().linking_matches
+    for m in wl.suggestions:
+        assert not island_names & {m.player_a, m.player_b}
+        assert m.division_a != m.division_b and "Third" in (m.division_a, m.division_b)
+        assert m.target in {d.division for d in wl.flagged_divisions} and m.sd_after < m.sd_before
+    assert not island_names & {p.name for p in wl.held}
