@@ -13,6 +13,7 @@ from pathlib import Path
 
 from secretary import __version__
 from secretary.errors import SecretaryError, WorkbookProblems
+from secretary.threads import limit_native_threads
 
 EXIT_DONE, EXIT_PROBLEMS, EXIT_USAGE, EXIT_BUG = 0, 1, 2, 3
 
@@ -297,6 +298,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv=None) -> int:
+    limit_native_threads()
     parser = build_parser()
     try:
         args = parser.parse_args(argv)

@@ -81,11 +81,19 @@ def read_state(wb: Workbook) -> PublishedState | None:
     if STATE_SHEET not in wb.sheetnames:
         return None
     try:
-        ws = wb[STATE_SHEET]
+        rows = wb[STATE_SHEET].iter_rows(max_col=2, values_only=True)
+    except Exception:
+        return None
+    return state_from_rows(rows)
+
+
+def state_from_rows(rows) -> PublishedState | None:
+    """The state from the state sheet's rows (values of columns A and B, row 1 first); None when damaged."""
+    try:
         chunks = [
             row[1]
-            for row in ws.iter_rows(min_row=3, max_col=2, values_only=True)
-            if row[0] == "data" and isinstance(row[1], str)
+            for number, row in enumerate(rows, start=1)
+            if number >= 3 and len(row) >= 2 and row[0] == "data" and isinstance(row[1], str)
         ]
         return _parse(json.loads("".join(chunks)))
     except Exception:  # a damaged or hand-edited sheet only costs the breakdown
