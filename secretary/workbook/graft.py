@@ -55,9 +55,10 @@ def graft_outputs(original: str | Path, outputs_wb: Workbook, dest: str | Path) 
     graft_package(original, buffer.getvalue(), dest)
 
 
-def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10) -> save.SaveOutcome:
+def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10,
+                 expect: save.FileStamp | None = None) -> save.SaveOutcome:
     """Graft into `path` safely, as `save.save_workbook` saves: temp file, read back, backup, swap."""
-    path = Path(path)
+    path = save.writable_workbook(path)
     if keep < 1:
         raise ValueError("keep at least one backup")
     save._refuse_if_open(path)
@@ -70,6 +71,7 @@ def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10) -> s
             raise save._plain_os_error(exc, path) from exc
         _check_graft(path, outputs_wb, temp)
         save._copy_mode(path, temp)
+        save.refuse_if_changed(path, expect)
         backup = save._backup(path)
         save._replace(temp, path)
     except BaseException:
@@ -440,6 +442,7 @@ class _Graft:
         old_index = [s["name"] for s in old_sheets]
         self._fix_defined_names(old_index, order)
         self._fix_views(old_index, order, by_name)
+        _recalculate_on_open(self.wb)
         self.parts[self.wb_part] = _bytes(self.wb)
 
     def _fix_defined_names(self, old_index, order) -> None:
@@ -491,6 +494,25 @@ class _Graft:
                 if sheet in removed_ids:
                     chain.remove(c)
             self.parts[part] = _bytes(chain)
+
+
+# The elements of a workbook.xml that may follow calcPr, in the schema's order.
+_AFTER_CALC = ("oleSize", "customWorkbookViews", "pivotCaches", "smartTagPr", "smartTagTypes",
+               "webPublishing", "fileRecoveryPr", "webPublishObjects", "extLst")
+
+
+def _recalculate_on_open(wb: etree._Element) -> None:
+    """Ask the spreadsheet program to recalculate every formula on open, so the secretary's formulas
+    that look up the tool's sheets show this week's values rather than the ones saved with them."""
+    calc = wb.find(f"{_M}calcPr")
+    if calc is None:
+        calc = etree.Element(f"{_M}calcPr")
+        follower = next((el for el in wb if etree.QName(el).localname in _AFTER_CALC), None)
+        if follower is not None:
+            follower.addprevious(calc)
+        else:
+            wb.append(calc)
+    calc.set("fullCalcOnLoad", "1")
 
 
 def _copy(el: etree._Element) -> etree._Element:
