@@ -380,6 +380,8 @@ def _backup(path: Path) -> Path:
             f"Beside {path.name} there is a file called '{BACKUP_FOLDER}' where the tool keeps its folder of "
             f"earlier versions, so no backup could be made and {path.name} was not changed. Rename or move "
             f"that file and try again.")
+    if folder.is_dir() and not folder.stat().st_mode & stat.S_IWUSR:
+        raise _backup_refused(OSError(errno.EACCES, "it is read-only"), path, folder)
     try:
         folder.mkdir(exist_ok=True)
     except OSError as exc:

@@ -1,7 +1,8 @@
-"""Shared pieces of the hostile-input and fault-injection suite: small real workbooks, run through the real CLI."""
+"""Small league workbooks and a way to run the real command line on them."""
 from __future__ import annotations
 
 import datetime as dt
+import hashlib
 from pathlib import Path
 
 import pytest
@@ -10,11 +11,30 @@ from secretary.cli import main
 from tests.workbook.league_books import D, good_results, write_book
 
 
+def digest(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+class Run:
+    """``secretary ARGS`` through the real entry point: exit code and everything it printed."""
+
+    def __init__(self, capsys):
+        self.capsys = capsys
+
+    def __call__(self, *args: str) -> tuple[int, str]:
+        code = main([str(a) for a in args])
+        out = self.capsys.readouterr()
+        return code, out.out + out.err
+
+
+@pytest.fixture
+def run(capsys) -> Run:
+    return Run(capsys)
+
+
 def run_cli(capsys, *args: str) -> tuple[int, str]:
-    """Run `secretary ARGS` in-process through the real command line; returns the exit code and all output."""
-    code = main([str(a) for a in args])
-    out = capsys.readouterr()
-    return code, out.out + out.err
+    """The same as the ``run`` fixture, for tests that hold ``capsys`` themselves."""
+    return Run(capsys)(*args)
 
 
 def next_week(rows=None) -> list[list]:
@@ -27,5 +47,5 @@ def next_week(rows=None) -> list[list]:
 
 @pytest.fixture
 def league(tmp_path) -> Path:
-    """A small clean league workbook in its own folder."""
-    return write_book(tmp_path / "league.xlsx")
+    """A four-result league workbook (no Players sheet)."""
+    return write_book(tmp_path / "league.xlsx", good_results())
