@@ -440,6 +440,7 @@ def test_sparse_level_variances_agree_with_a_dense_inverse(method):
     contrasts = average_contrasts(members, fit.group, len(fit.group_names), fit.prior_sd**2, 0.0)
     sparse, X = contrasts.variance(HessianSolver(H, method))
     assert np.max(np.abs(sparse / dense - 1)) <= 1e-6
+    assert np.max(np.abs(fit.contrast_variance(U.T) / sparse - 1)) <= 1e-6  # the fit's own contrasts
     assert np.allclose(full @ X, U, rtol=0, atol=1e-8)
     assert np.allclose(H.toarray(), full, rtol=0, atol=1e-12)
 
