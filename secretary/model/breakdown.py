@@ -336,7 +336,8 @@ def _before(results_now: Sequence[Result], published: PublishedState | None, set
     was_published = np.array([name in published.ratings for name in names])
     p = np.array([to_strength(published.ratings[name], settings.centre, settings.scale) if was_published[k]
                   else start0[k] for k, name in enumerate(names)])
-    previous = tuple(changes.previous_data)
+    kept = {id(res) for res in changes.previous_data}
+    previous = tuple(res for res in results_now if id(res) in kept)  # in sheet order, as the current fit sees them
     r0, level0, division_level0 = start0, fit1.starting_level[fit1.group], fit1.starting_level.copy()
     if previous:
         # Last update's rows with their own home divisions (so unchanged rows give P again); a player

@@ -12,7 +12,6 @@ gets its own level ``L_d`` (``fit.Levels``), fitted jointly with the players.
 from __future__ import annotations
 
 import datetime as dt
-from collections import Counter
 from dataclasses import dataclass
 from typing import Iterable, Mapping, Sequence
 
@@ -21,6 +20,7 @@ import scipy.sparse as sp
 
 from secretary.model.diagnose import Diagnosis, diagnose
 from secretary.model.fit import Levels, fit_map, hessian
+from secretary.model.matches import Matches, from_results, home_divisions, last_played
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
@@ -134,24 +134,6 @@ class LeagueFit:
 HOME_RULES = ("Players sheet", "played most", "no results")
 
 
-def home_divisions(results: Sequence[Result], players: Sequence[Player]) -> dict[str, tuple[str, str]]:
-    """Each player's home division and the rule that placed them (one of ``HOME_RULES``).
-
-    The Players sheet's division; else the division they played most in (rows
-    naming a division count before rows that name none).  A player has one home.
-    """
-    counts: dict[str, Counter] = {}
-    for res in results:
-        for name in (res.player_a, res.player_b):
-            counts.setdefault(name, Counter())[res.division] += 1
-    home = {}
-    for name, c in counts.items():
-        named = [(division, k) for division, k in c.most_common() if division]
-        home[name] = (named[0][0] if named else "", HOME_RULES[1])
-    home.update({p.name: (p.division, HOME_RULES[0]) for p in players if p.division})
-    return home
-
-
 def division_levels(group: np.ndarray, group_names: Sequence[str], settings: Settings,
                     starting_levels: Mapping[str, float] | None = None) -> Levels:
     """The levels' prior in log-odds: starting levels (points, blank = 0) and the Division spread."""
@@ -160,8 +142,39 @@ def division_levels(group: np.ndarray, group_names: Sequence[str], settings: Set
     return Levels(group, mean, max(float(getattr(settings, "division_spread", 0.0)), 0.0) / ppl)
 
 
+def _placed(matches: Matches, players: Sequence[Player], home: Mapping[str, str] | None) -> list[tuple[str, str]]:
+    """Each player's (home division, the rule that placed them: one of ``HOME_RULES``)."""
+    given = {p.name for p in players if p.division}
+    played = np.zeros(len(matches.names), dtype=bool)
+    played[matches.idx_a] = played[matches.idx_b] = True
+    placed = [(division, HOME_RULES[0] if name in given else HOME_RULES[1] if was else HOME_RULES[2])
+              for name, division, was in zip(matches.names, home_divisions(matches, players), played.tolist())]
+    if home:
+        placed = [(home.get(name, division), rule) for name, (division, rule) in zip(matches.names, placed)]
+    return placed
+
+
 def fit_league(
     results: Iterable[Result],
+    settings: Settings = Settings(),
+    *,
+    players: Sequence[Player] = (),
+    **options,
+) -> LeagueFit:
+    """Fit every rating jointly from all rated (non-void) results.
+
+    Parameters
+    ----------
+    results : the matches; void ones are skipped
+    settings : centre, scale, skill spread (points) and half-life (days)
+    players : optional Players-sheet records (divisions, starting ratings, players yet to play)
+    options : ``reference_date``, ``start``, ``with_uncertainty``, ``starting_levels``, ``home``, as for ``fit_matches``
+    """
+    return fit_matches(from_results(results, players), settings, players=players, **options)
+
+
+def fit_matches(
+    matches: Matches,
     settings: Settings = Settings(),
     *,
     players: Sequence[Player] = (),
@@ -171,14 +184,13 @@ def fit_league(
     starting_levels: Mapping[str, float] | None = None,
     home: Mapping[str, str] | None = None,
 ) -> LeagueFit:
-    """Fit every rating jointly from all rated (non-void) results.
+    """Fit every rating jointly from matches already in columns (``Matches``).
 
     Parameters
     ----------
-    results : the matches; void ones are skipped
-    settings : centre, scale, skill spread (points) and half-life (days)
-    players : optional Players-sheet records (divisions, starting ratings, players yet to play)
-    reference_date : date ages are measured from; default the newest result's date
+    matches : the rated matches
+    settings, players : as for ``fit_league``
+    reference_date : date ages are measured from; default the newest match's date
     start : optional warm start, strengths (log-odds) by name
     with_uncertainty : skip the ± computation when only the optimum is needed
     starting_levels : optional starting level per division, points above the centre (the Divisions sheet)
@@ -187,43 +199,26 @@ def fit_league(
     With two or more divisions each gets a level (``Levels``): free with a
     Division spread above 0, fixed at its starting level with 0 (one pool).
     """
-    rated = [res for res in results if not res.void]
-    names: dict[str, int] = {}
-    for p in players:
-        names.setdefault(p.name, len(names))
-    for res in rated:
-        names.setdefault(res.player_a, len(names))
-        names.setdefault(res.player_b, len(names))
-    order = tuple(names)
+    order = matches.names
     n = len(order)
-    ref = reference_date or (max(res.date for res in rated) if rated else None)
-
-    idx_a = np.fromiter((names[res.player_a] for res in rated), np.int64, len(rated))
-    idx_b = np.fromiter((names[res.player_b] for res in rated), np.int64, len(rated))
-    games_a = np.fromiter((res.games_a for res in rated), float, len(rated))
-    games_b = np.fromiter((res.games_b for res in rated), float, len(rated))
-    age = np.fromiter(((ref - res.date).days for res in rated), float, len(rated)) if rated else np.zeros(0)
-    pairs = aggregate(idx_a, idx_b, games_a, games_b, n, age_weights(np.maximum(age, 0.0), settings.half_life_days))
+    ref = reference_date or (dt.date.fromordinal(int(matches.day.max())) if len(matches) else None)
+    age = (ref.toordinal() - matches.day).astype(float) if len(matches) else np.zeros(0)
+    pairs = aggregate(matches.idx_a, matches.idx_b, matches.games_a, matches.games_b, n,
+                      age_weights(np.maximum(age, 0.0), settings.half_life_days))
 
     ppl = points_per_logodds(settings.scale)
     starting = {p.name: p.starting for p in players if p.starting is not None}
-    mu = np.array([to_strength(starting.get(name, settings.centre), settings.centre, settings.scale) for name in order])
+    mu = np.full(n, 0.0)
+    for k, name in enumerate(order):
+        if name in starting:
+            mu[k] = to_strength(starting[name], settings.centre, settings.scale)
     prior_sd = settings.skill_spread / ppl
 
-    placed_by = home_divisions(rated, players)
-    if home is not None:
-        placed_by.update({name: (division, placed_by.get(name, ("", HOME_RULES[0]))[1]) for name, division in home.items()})
-    placed = [placed_by.get(name, ("", HOME_RULES[2])) for name in order]
+    placed = _placed(matches, players, home)
     group_names = tuple(sorted({division for division, _ in placed}))
     group_of = {g: k for k, g in enumerate(group_names)}
-    group = np.array([group_of[division] for division, _ in placed], dtype=np.int64)
+    group = np.fromiter((group_of[division] for division, _ in placed), np.int64, n)
     levels = division_levels(group, group_names, settings, starting_levels) if len(group_names) > 1 else None
-
-    last: dict[str, dt.date] = {}
-    for res in rated:
-        for name in (res.player_a, res.player_b):
-            if name not in last or res.date > last[name]:
-                last[name] = res.date
 
     x0 = None if start is None else np.array([start.get(name, mu[k]) for k, name in enumerate(order)])
     fit = fit_map(pairs, mu, prior_sd, levels=levels, start=x0)
@@ -245,7 +240,7 @@ def fit_league(
         pairs=pairs,
         group=group,
         group_names=group_names,
-        last_played=tuple(last.get(name) for name in order),
+        last_played=last_played(matches),
         diagnosis=diagnose(pairs),
         iterations=fit.iterations,
         level=level,

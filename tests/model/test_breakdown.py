@@ -159,7 +159,9 @@ def test_open_night_lifts_members_who_stayed_at_home_through_the_group_part():
     night = START + 28 * DAY
     new = [Result(night, a, b, 5, 1, "", "Open night") for a in one for b in two]
     players = [Player(p, "Division One") for p in one + [home]] + [Player(p, "Division Two") for p in two]
-    b = explain_changes(old + new, publish(old, players=players), Settings(), players)
+    # A Division spread as wide as the skill spread: the level, not each member alone, takes the night's news.
+    settings = Settings(division_spread=Settings().skill_spread)
+    b = explain_changes(old + new, publish(old, settings, players), settings, players)
     pc = b.player(home)
     assert not pc.played and pc.group > 3
     assert largest_part(pc) == "group"

@@ -146,10 +146,11 @@ def test_large_league_paths_agree_with_the_exact_ones(monkeypatch):
     monkeypatch.setattr(uncertainty, "EXACT_LIMIT", 10)  # the block-inverse ± with approximate diag(P^-1)
     large = fit_league(rows, settings, players=players)
     ppl = points_per_logodds(400)
-    assert np.abs((large.r - exact.r) * ppl).max() <= 1e-6
-    assert np.allclose(large.level_var, exact.level_var, rtol=1e-6)  # the levels' part is exact
-    # Players: only diag(P^-1) is approximated; measured against the exact joint value.
-    assert np.median(np.abs(np.sqrt(large.var / exact.var) - 1)) <= 0.05
+    assert np.abs((large.r - exact.r) * ppl).max() <= 1e-4  # both stop on the gradient test
+    # The ± above EXACT_LIMIT: the probe-corrected approximation of the joint Hessian's inverse diagonal.
+    # Measured: levels' ± within 0.3 %, players' median 0.3 %.
+    assert np.abs(np.sqrt(large.level_var / exact.level_var) - 1).max() <= 0.01
+    assert np.median(np.abs(np.sqrt(large.var / exact.var) - 1)) <= 0.01
 
 
 def test_home_division_rules_are_recorded():
