@@ -383,13 +383,12 @@ def _parts(fit1: LeagueFit, before: _Before, settings: Settings, index: Mapping[
     group, D, sd = fit1.group, len(fit1.group_names), fit1.prior_sd
     r0, r1 = before.r0, fit1.r
     deviation_mean = fit1.prior_mean - fit1.level[group]
+    mean0, mean1 = deviation_mean + before.level0, fit1.prior_mean  # the prior means that go with R0 and R1
     if fit1.levels is not None:
         shift = fit1.level - before.division_level0
-        mean0, mean1 = deviation_mean + before.level0, fit1.prior_mean
         shifted = r0 + fit1.level[group] - before.level0  # a player who moved division moves to the new level
     else:
         shift = np.bincount(group, r1 - r0, D) / np.maximum(np.bincount(group, minlength=D), 1)
-        mean0 = mean1 = fit1.prior_mean
         shifted = r0 + shift[group]
     br0 = best_response(fit1.pairs, r0, mean0, sd)
     own = br0 - r0

@@ -174,9 +174,8 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
                 "Age in days at which an old game counts half as much as a new one "
                 "(0 = games never age).", 0, 36500, aliases=("half-life", "half life")),
     SettingSpec("division_spread", "Division spread", "number",
-                "How far, in points, the divisions' levels usually are from each other's: each division "
-                "gets its own level, judged from the games between divisions (0 = one pool: every "
-                "division starts from the same level and stays there).", 0, 2000),
+                "How far, in points, division levels usually are from each other; each division's level "
+                "is judged from games between divisions (0 = one pool, no levels).", 0, 2000),
     SettingSpec("longest_race", "Longest race", "whole",
                 "The longest race (first to this many games) to suggest for a fair match.", 1, 50),
     SettingSpec("shortest_race", "Shortest race", "whole",
