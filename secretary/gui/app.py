@@ -89,7 +89,7 @@ class App:
         files.add_command(label="Open the demo league in a folder of my choice\u2026",
                           command=lambda: self.open_demo(True))
         files.add_separator()
-        files.add_command(label="Restore previous version\u2026", command=self.restore_previous)
+        files.add_command(label="Restore an earlier version\u2026", command=self.restore_previous)
         files.add_separator()
         files.add_command(label="Quit", accelerator="Ctrl+Q", command=self.close)
         bar.add_cascade(label="File", menu=files)
@@ -407,11 +407,18 @@ class App:
         if self.path is None:
             self.dialogs.info("Restore", "Open a workbook first.")
             return
-        if not self.dialogs.ask_yes_no("Restore previous version", (
-                f"Put back the previous version of {self.path.name} from its backups folder?\n"
-                "The version it replaces is kept as a backup too, so this can be undone.")):
+        versions = [v for v in pipeline.backup_versions(self.path) if not v.current]
+        if not versions:
+            self.dialogs.info("Restore", f"No earlier version of {self.path.name} that differs from it is kept.")
             return
-        self._start("restore", self.worker.child.call("restore", self.path), "Restoring\u2026")
+        choice = self.dialogs.choose("Restore an earlier version", (
+            f"Which version of {self.path.name} should come back from its backups folder?\n"
+            "The version it replaces is kept as a backup too, so this can be undone."),
+            [f"{v.kept_at:%d %b %Y, %H:%M:%S}  ({v.size / 1024:,.0f} KB)" for v in versions])
+        if choice is None:
+            return
+        self._start("restore", self.worker.child.call("restore", self.path, versions[choice].number),
+                    "Restoring\u2026")
 
     def open_settings(self) -> SettingsDialog | None:
         if self.checked is None:

@@ -94,8 +94,8 @@ def save_settings(path, values, progress, cancel) -> Path:
     return pipeline.save_settings(path, values)
 
 
-def restore(path, progress, cancel) -> Path:
-    return pipeline.restore(path)
+def restore(path, pick, progress, cancel) -> Path:
+    return pipeline.restore(path, pick=pick)
 
 
 def new_league(path, progress, cancel) -> Path:

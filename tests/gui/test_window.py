@@ -220,7 +220,7 @@ def test_restore_and_demo_from_the_file_menu(app, user_home):
     demo = user_home / "demo league" / "Demo league.xlsx"
     assert app.path == demo and app.session.checked
     updated(app)
-    app.dialogs.answers["ask_yes_no"] = True
+    app.dialogs.answers["choose"] = 0  # the newest version that differs from the workbook now
     app.restore_previous()
     settle(app)
     assert not app.session.updated and app.session.checked
