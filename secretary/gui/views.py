@@ -6,6 +6,7 @@ import re
 from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
+from secretary.model.notice import forecast_note
 from secretary.workbook import schema
 
 # ------------------------------------------------------------------ the routine
@@ -354,7 +355,8 @@ FIXTURE_COLUMNS = (
     Column("chance", "A wins", "Player A's chance of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
     Column("fair_chance", "A wins (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
-    Column("note", "What to know", "Warnings: a player new to the ratings, or too few games to be sure.", 24,
+    Column("note", "How sure", "Where the chance could be far off: a player new to the ratings or with few games "
+           "(chances are averaged over each rating's \u00b1).", 24,
            stretch=True),
 )
 
@@ -363,13 +365,9 @@ def fixture_rows(forecasts: Sequence) -> list[Row]:
     rows = []
     for i, f in enumerate(forecasts):
         fx = f.fixture
-        note = []
-        if f.not_rated:
-            note.append("not rated yet: " + ", ".join(f.not_rated))
-        elif f.uncertain:
-            note.append("few games: treat the chances as rough")
+        note = forecast_note(f)
         values = (fx.date, fx.player_a, fx.player_b, f"{f.race_a}-{f.race_b}", f.race_chance,
-                  f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, "; ".join(note))
+                  f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, note)
         shown = (day(fx.date), fx.player_a, fx.player_b, values[3], percent(f.race_chance), values[5],
                  percent(f.fair_chance), values[7])
         rows.append(Row(str(i), values, shown, ("uncertain",) if note else ()))
@@ -444,13 +442,10 @@ def suggestion_rows(watch) -> list[Row]:
 
 
 def watch_lines(watch) -> list[str]:
-    """The watch list's to-do lines, most important first."""
-    lines = [p.what_to_do for p in watch.pools]
-    lines += [f"{d.division}: {d.what_to_do}" for d in watch.flagged_divisions]
-    lines += [f"{h.name}: {h.what_to_do}" for h in watch.flagged_players]
-    if watch.suggestions and (watch.pools or watch.flagged_divisions):
-        lines.append(f"{len(watch.suggestions)} linking match(es) are suggested below.")
-    return lines or ["Nothing to act on: every division is tied in well enough and no rating is held back."]
+    """The watch list's to-do lines, most important first (worded as on the command line)."""
+    from secretary.model.watch_sentences import NOTHING_TO_DO, watch_lines as lines
+
+    return lines(watch) or [NOTHING_TO_DO]
 
 
 # ------------------------------------------------------------------ settings
@@ -488,6 +483,9 @@ def settings_messages(texts: Mapping[str, str]) -> dict[str, str]:
     if not messages["usual_race"] and not messages["longest_race"] \
             and values["usual_race"] > values["longest_race"]:
         messages["usual_race"] = f"must not be longer than the longest race ({values['longest_race']})"
+    if not messages["shortest_race"] and not messages["longest_race"] \
+            and values["shortest_race"] > values["longest_race"]:
+        messages["shortest_race"] = f"must not be longer than the longest race ({values['longest_race']})"
     return messages
 
 

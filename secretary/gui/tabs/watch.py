@@ -18,8 +18,9 @@ class WatchTab:
         for title, columns, tip, height in (
                 ("Divisions", views.DIVISION_COLUMNS,
                  "How well each division's level is tied to the rest by games between divisions.", 4),
-                ("Players whose results run ahead of their rating", views.HELD_COLUMNS,
-                 "Players the starting assumption may be holding back.", 3),
+                ("Held back", views.HELD_COLUMNS,
+                 "Players whose results run ahead of their rating: the starting assumption (the prior) "
+                 "is holding them back. Strongest cases first.", 3),
                 ("Suggested linking matches", views.SUGGESTION_COLUMNS,
                  "Matches across divisions that would pin the weakest-tied levels down best.", 6)):
             ttk.Label(self.frame, text=title, font="SecretaryBold").pack(anchor="w", pady=(4, 0))
