@@ -27,6 +27,6 @@ class FixturesTab:
             text = "The workbook has no fixtures: add matches to a Fixtures sheet to see their chances here."
         else:
             text = (f"{len(rows)} fixture(s). A fair race is the handicap that makes the match closest to even; "
-                    "chances are estimates, not promises.")
+                    "chances allow for how sure each rating is, and are estimates, not promises.")
         self.summary.configure(text=text)
         self.table.show(rows)
