@@ -11,9 +11,9 @@ import tkinter as tk
 from pathlib import Path
 from tkinter import ttk
 
-from secretary import __version__, pipeline
+from secretary import __version__
 from secretary.errors import SecretaryError
-from secretary.gui import recent, views
+from secretary.gui import recent, views, welcome
 from secretary.gui.dialogs import Dialogs
 from secretary.gui.look import set_dpi_awareness, style_window
 from secretary.gui.settings_dialog import SettingsDialog
@@ -24,7 +24,7 @@ from secretary.gui.tabs.ratings import RatingsTab
 from secretary.gui.tabs.watch import WatchTab
 from secretary.gui.widgets import Scheduler, button
 from secretary.gui.worker import Worker
-from secretary.userdirs import log_file, user_folder
+from secretary.userdirs import user_folder
 
 POLL_MS = 50
 TITLE = "League secretary"
@@ -102,8 +102,8 @@ class App:
         bar.add_cascade(label="League", menu=league)
         helps = tk.Menu(bar, tearoff=False)
         helps.add_command(label="The weekly routine", command=lambda: self.dialogs.info("The weekly routine", ROUTINE))
-        helps.add_command(label="Where is the log file?", command=lambda: self.dialogs.info(
-            "Log file", f"Unexpected errors are written with their details to:\n{log_file()}"))
+        helps.add_command(label="Where are my files? (workbook, backups, log file)",
+                          command=lambda: welcome.show_where(self))
         helps.add_command(label="About", command=lambda: self.dialogs.info(
             "About", f"secretary {__version__}\nWeekly player ratings for a cue-sports league."))
         bar.add_cascade(label="Help", menu=helps)
@@ -302,6 +302,8 @@ class App:
     def _checked(self, checked) -> None:
         self.checked = checked
         self.problems.show(checked.problems, checked.layouts)
+        from secretary import pipeline  # imported on first use: the window draws without loading the engine
+
         notice = pipeline.notice_pdf_path(self.path).exists()
         self.session = self.session.but(checked=True, errors=len(checked.errors), update_failed=False,
                                         notice_exists=notice)
@@ -349,6 +351,8 @@ class App:
         """Step 4: open the PDF notice board in the system's viewer."""
         if self.path is None:
             return
+        from secretary import pipeline
+
         pdf = self.updated.notice_pdf if self.updated is not None else pipeline.notice_pdf_path(self.path)
         if pdf is None or not Path(pdf).exists():
             self.dialogs.info("Notice board", "There is no notice board yet: update the ratings first.")
@@ -396,7 +400,7 @@ class App:
 
     def open_demo(self, choose: bool) -> None:
         """Copy the invented demo league into the user folder (or a chosen one) and open it."""
-        folder = user_folder() / "demo league"
+        folder = welcome.demo_folder()
         if choose:
             folder = self.dialogs.ask_folder("Where should the demo league go?", user_folder())
             if folder is None:
@@ -458,5 +462,7 @@ def run(workbook: str | Path | None = None) -> int:
     app = App(root)
     if workbook is not None:
         app.open_workbook(Path(workbook))
+    else:
+        welcome.offer(app)  # first run: the demo league, a new workbook, and where the files live
     root.mainloop()
     return 0
