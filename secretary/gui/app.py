@@ -411,7 +411,9 @@ class App:
         if self.path is None:
             self.dialogs.info("Restore", "Open a workbook first.")
             return
-        versions = [v for v in pipeline.backup_versions(self.path) if not v.current]
+        from secretary.workbook.save import backup_versions  # loaded when needed: the window starts fast
+
+        versions = [v for v in backup_versions(self.path) if not v.current]
         if not versions:
             self.dialogs.info("Restore", f"No earlier version of {self.path.name} that differs from it is kept.")
             return
