@@ -30,12 +30,12 @@ from secretary.workbook.style import (
     write_table,
 )
 
-RATINGS_HEADERS = ("Rank", "Player", "Division", "Rating", "±", "Games", "Change", "Last played", "Note")
+RATINGS_HEADERS = ("Rank", "Player", "Division", "Rating", "±", "Weighted games", "Change", "Last played", "Note")
 LOG_HEADERS = (
     "Time", "Version", "Reference date", "Rows read", "Rows rated",
     "New rows", "Changed rows", "Removed rows", "Settings", "Warnings",
 )
-PROBLEM_HEADERS = ("Severity", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
+PROBLEM_HEADERS = ("Kind", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
 CHART_PLAYERS = 10
 NEW_NOTE = "new this update"
 FEW_GAMES_NOTE = "few games: rating still uncertain"
@@ -68,7 +68,7 @@ def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Setti
     ws = replace_sheet(wb, RATINGS_SHEET)
     write_table(
         ws, RATINGS_HEADERS, rows, freeze="C2",
-        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Games": GAMES_FORMAT,
+        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT,
                  "Change": CHANGE_FORMAT, "Last played": DATE_FORMAT},
     )
 
