@@ -81,13 +81,12 @@ def summary(outcome) -> list[str]:
         if movers:
             lines.append("  Biggest changes: " + "; ".join(
                 f"{p.name} {_signed(p.shown[2])} ({p.shown[0]} -> {p.shown[1]})" for p in movers))
-    flagged = [d for d in outcome.watch.divisions if d.flagged]
-    held = [h for h in outcome.watch.held if h.flagged]
-    if flagged or held or outcome.watch.pools:
+    from secretary.pipeline import watch_lines  # loaded already by the update
+
+    watching = watch_lines(outcome.watch)
+    if watching:
         lines.append("  Watch list:")
-        lines += [f"    - {p.what_to_do}" for p in outcome.watch.pools]
-        lines += [f"    - {d.division}: {d.what_to_do}" for d in flagged]
-        lines += [f"    - {h.name}: {h.what_to_do}" for h in held]
+        lines += [f"    - {line}" for line in watching]
     lines += [f"  Note: {note}" for note in outcome.notes]
     if book.warnings:
         lines.append(f"  {len(book.warnings)} warning(s); see the Problems sheet:")
@@ -185,12 +184,13 @@ def cmd_fixtures(args) -> int:
     if not forecasts:
         print("The Fixtures sheet lists no coming matches; nothing to forecast.")
         return EXIT_DONE
+    from secretary.model.notice import forecast_note
+
     for fc in forecasts:
         f = fc.fixture
-        flags = (" (uncertain: few games)" if fc.uncertain else "") + (
-            f" (not yet rated: {', '.join(fc.not_rated)})" if fc.not_rated else "")
+        note = forecast_note(fc)
         print(f"  {f.player_a} v {f.player_b}: {f.player_a} {fc.race_chance:.0%} to win a race "
-              f"{fc.race_a}-{fc.race_b}; fair race {fc.fair_race_a}-{fc.fair_race_b}{flags}")
+              f"{fc.race_a}-{fc.race_b}; fair race {fc.fair_race_a}-{fc.fair_race_b}" + (f" ({note})" if note else ""))
     if written:
         print(f"Forecast columns written to the Fixtures sheet of {written}")
     else:
@@ -204,16 +204,25 @@ def cmd_evaluate(args) -> int:
 
     ev = evaluate_workbook(args.workbook)
     print(f"Walk-forward check of {Path(args.workbook).name}: each week predicted from the weeks before it.")
-    print(f"  {ev.games:,.0f} games in {ev.matches:,} matches predicted over {ev.steps} weeks.")
-    print(f"  Mean log-loss per game {ev.log_loss:.4f} (a coin toss scores 0.6931; lower is better); "
-          f"Brier score {ev.brier:.4f} (a coin toss scores 0.2500).")
+    print(f"  {ev.games:,.0f} games in {ev.matches:,} matches predicted over {ev.steps} weeks "
+          f"({ev.predictive_race.count:,.0f} of the matches were races won outright).")
+    print("  Scores (lower is better; a coin toss scores log-loss 0.6931, Brier 0.2500).")
+    print("  Predictive chances (what the tool shows) are averaged over each rating's ±; point chances")
+    print("  use the ratings alone.")
+    print(f"    {'':<24} {'log-loss':>9} {'Brier':>7}")
+    for label, sc in (("per game, predictive", ev.predictive), ("per game, point", ev),
+                      ("per race, predictive", ev.predictive_race), ("per race, point", ev.race)):
+        print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
     if ev.few_games:
-        print(f"  Games involving a player with few games: {ev.few_games:,.0f}, log-loss {ev.few_log_loss:.4f}.")
-    print("  Calibration: when the ratings gave a chance in each band, how often it happened:")
-    print(f"    {'band':>9} {'games':>8} {'predicted':>10} {'happened':>9}")
-    for band in ev.calibration:
-        if band.games:
-            print(f"    {band.low:>4.0%}-{band.high:<4.0%} {band.games:>8,.0f} {band.predicted:>10.1%} {band.observed:>9.1%}")
+        print(f"  Games involving a player with few games: {ev.few_games:,.0f}, point log-loss {ev.few_log_loss:.4f}.")
+    for what, unit, bands in (("each game", "games", ev.predictive.calibration),
+                              ("each race", "races", ev.predictive_race.calibration)):
+        print(f"  Calibration of the predictive chance of {what}: when it was in each band, how often it happened:")
+        print(f"    {'band':>9} {unit:>8} {'predicted':>10} {'happened':>9}")
+        for band in bands:
+            if band.games:
+                print(f"    {band.low:>4.0%}-{band.high:<4.0%} {band.games:>8,.0f} {band.predicted:>10.1%} "
+                      f"{band.observed:>9.1%}")
     return EXIT_DONE
 
 
@@ -223,9 +232,9 @@ def cmd_tune(args) -> int:
     t = tune_workbook(args.workbook, apply=args.apply, progress=ProgressBar())
     old, new = t.old_settings, t.settings
     print(f"Current settings: half-life {old.half_life_days:g} days, skill spread {old.skill_spread:g} points: "
-          f"log-loss {t.old_score:.4f} per game.")
+          f"log-loss {t.old_score:.4f} per game (predictive chances).")
     print(f"Best found:       half-life {new.half_life_days:g} days, skill spread {new.skill_spread:g} points: "
-          f"log-loss {t.new_score:.4f} per game.")
+          f"log-loss {t.new_score:.4f} per game (predictive chances).")
     if not t.improved:
         print("The current settings are already the best found; nothing to change.")
     elif args.apply:

@@ -22,7 +22,8 @@ from secretary.model.evaluate import Evaluation, evaluate
 from secretary.model.fixtures import FixtureForecast, forecast_fixtures
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.linkage import WatchList, watch_list
-from secretary.model.tune import Tuning, tune
+from secretary.model.watch_sentences import watch_lines  # noqa: F401  (the command line's summary lines)
+from secretary.model.tune import Tuning, check_tuning, tune, tune_advice, tune_due
 from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
@@ -175,6 +176,8 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     watch = watch_list(fit, book.results)
     forecasts = forecast_fixtures(book.fixtures, fit)
     ratings = _published_ratings(fit, breakdown)
+    check = _tune_check(book, fit, published, progress, cancel)
+    advice = tune_advice(check, settings, path.name)
 
     _step(progress, cancel, "Writing the sheets", 0.75)
     if graft_it:
@@ -197,7 +200,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         updated_at=stamp, reference_date=log.reference_date,
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
         rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
-        previous=replace(published, previous=None) if published else None))
+        previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check))
 
     written = backup = pdf = card = None
     reason = "Dry run: nothing was written."
@@ -220,7 +223,17 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)))
+        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + ((advice,) if advice else ()))
+
+
+def _tune_check(book: LeagueBook, fit: LeagueFit, published, progress: Progress, cancel):
+    """The stored tune check, run again first when a season of results has come in since (see ``tune_due``)."""
+    check = published.tune_check if published is not None else None
+    dates = [r.date for r in book.results if not r.void]
+    if not tune_due(min(dates, default=None), fit.reference_date, check, players=len(fit.names), results=len(dates)):
+        return check
+    _step(progress, cancel, "Checking whether tuning the settings would help", 0.7)
+    return check_tuning(book.results, book.settings, fit.reference_date, players=book.players, cancel=cancel)
 
 
 def _update_log(book: LeagueBook, fit: LeagueFit, breakdown: Breakdown, stamp: str,
@@ -279,7 +292,8 @@ def last_update(path: str | Path) -> UpdateOutcome:
         book=pub.book, fit=pub.fit, ratings=pub.ratings, breakdown=pub.breakdown,
         watch=watch_list(pub.fit, pub.book.results), forecasts=forecast_fixtures(pub.book.fixtures, pub.fit),
         log=_update_log(pub.book, pub.fit, pub.breakdown, pub.book.state.updated_at),
-        notes=tuple(describe(pub.fit.diagnosis, pub.fit.names)))
+        notes=tuple(describe(pub.fit.diagnosis, pub.fit.names)) + tuple(
+            a for a in (tune_advice(pub.book.state.tune_check, pub.book.settings, path.name),) if a))
 
 
 def make_notice(path: str | Path, out: str | Path | None = None) -> Path:

@@ -114,3 +114,16 @@ def forecasts(results, settings: Settings = SETTINGS, first_row: int = 2) -> tup
     fit = fit_league(results, settings, players=players())
     fixtures = [Fixture(d, a, b, ra, rb, row=first_row + k) for k, (d, a, b, ra, rb) in enumerate(FIXTURES)]
     return forecast_fixtures(fixtures, fit)
+
+
+def chance_by_integral(fc: FixtureForecast, a: int, b: int) -> float:
+    """A's chance of a race, averaged over the difference's normal posterior by the trapezoid rule on a fine grid.
+
+    The race chance is scipy.stats.nbinom.cdf(b - 1, a, p) (checks.md section 4), independent of the beta
+    function and of the model's quadrature; the posterior mean is the point chance's log-odds.
+    """
+    from scipy.stats import nbinom, norm
+
+    mean = np.log(fc.point_game_chance / (1 - fc.point_game_chance))
+    d = np.linspace(mean - 10 * fc.difference_sd, mean + 10 * fc.difference_sd, 20001)
+    return float(np.trapezoid(nbinom.cdf(b - 1, a, expit(d)) * norm.pdf(d, mean, fc.difference_sd), d))

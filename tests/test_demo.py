@@ -236,9 +236,33 @@ def test_names_are_not_real_players():
     real = set()
     for path in REAL_DATA.glob("tennis/atp_matches*.csv"):
         for row in read_csv(path):
-            real |= {row["winner_name"].casefold(), row["loser_name"].casefold()}
+            # singles files name winner/loser; the doubles files winner1/winner2/loser1/loser2
+            real |= {value.casefold() for key, value in row.items()
+                     if key and key.startswith(("winner", "loser")) and key.endswith("name") and value}
     for path in REAL_DATA.glob("badminton/*s.csv"):
         for row in read_csv(path):
             real |= {row["team_one_players"].casefold(), row["team_two_players"].casefold()}
     assert len(real) > 1000
     assert not ours & real
+
+
+def test_the_watch_list_tells_the_isolated_divisions_story():
+    # The demo's point (README walkthrough): Valley hardly plays the others, so its level rests on the
+    # starting assumption, and its best player's rating is held back until he plays outside it.
+    from secretary.model.league import fit_league
+    from secretary.model.linkage import watch_list
+    from secretary.workbook.read import read_workbook
+
+    book = read_workbook(DEMO / "league.xlsx")
+    wl = watch_list(fit_league(book.results, book.settings, players=book.players), book.results)
+    assert [d.division for d in wl.flagged_divisions] == [ISOLATED]
+    valley = wl.division(ISOLATED)
+    assert valley.linked_share < book.settings.weakly_linked_below and valley.cross_games > 0
+    assert all(d.linked_share >= book.settings.weakly_linked_below for d in wl.divisions if d.division != ISOLATED)
+    dominant = load_script().DOMINANT
+    (held,) = [p for p in wl.held if p.name == dominant]
+    assert held.flagged and held.division == ISOLATED and held.won >= 0.8 * held.games
+    assert f"outside {ISOLATED}" in held.what_to_do
+    assert wl.pools == ()
+    assert wl.suggestions and all(ISOLATED in (m.division_a, m.division_b) for m in wl.suggestions)
+    assert all(m.target == ISOLATED and m.sd_after < m.sd_before for m in wl.suggestions)

@@ -6,6 +6,7 @@ import re
 from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
+from secretary.model.notice import forecast_note
 from secretary.model.sentences import naming, plural
 from secretary.workbook import schema
 
@@ -417,8 +418,9 @@ FIXTURE_COLUMNS = (
     Column("chance", "Chance A", "Player A's chance of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
     Column("fair_chance", "Chance A (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
-    Column("note", "Forecast note", "Warnings: a past fixture, a player new to the ratings, or too few games to "
-           "be sure.", 24,
+    Column("note", "Forecast note", "A past fixture (dated before the latest results), or where the chance could "
+           "be far off: a player new to the ratings or with few games (chances are averaged over each rating's "
+           "\u00b1).", 24,
            stretch=True),
 )
 
@@ -437,13 +439,9 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
     for i, f in enumerate(forecasts):
         fx = f.fixture
         past = is_past(fx.date, latest)
-        note = [PAST] if past else []
-        if f.not_rated:
-            note.append("not rated yet: " + ", ".join(f.not_rated))
-        elif f.uncertain:
-            note.append("few games: treat the chances as rough")
+        note = "; ".join(n for n in (PAST if past else "", forecast_note(f)) if n)
         values = (fx.date, fx.player_a, fx.player_b, f"{f.race_a}-{f.race_b}", f.race_chance,
-                  f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, "; ".join(note))
+                  f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, note)
         shown = (day(fx.date), fx.player_a, fx.player_b, values[3], percent(f.race_chance), values[5],
                  percent(f.fair_chance), values[7])
         rows.append(Row(str(i), values, shown, ("past",) if past else ("uncertain",) if note else ()))
@@ -521,14 +519,10 @@ def suggestion_rows(watch) -> list[Row]:
 
 
 def watch_lines(watch) -> list[str]:
-    """The watch list's to-do lines, most important first."""
-    lines = [p.what_to_do for p in watch.pools]
-    lines += [f"{d.division}: {d.what_to_do}" for d in watch.flagged_divisions]
-    lines += [f"{h.name}: {h.what_to_do}" for h in watch.flagged_players]
-    if watch.suggestions and (watch.pools or watch.flagged_divisions):
-        lines.append(f"{plural(len(watch.suggestions), 'linking match')} "
-                     f"{'is' if len(watch.suggestions) == 1 else 'are'} suggested below.")
-    return lines or ["Nothing to act on: every division is tied in well enough and no rating is held back."]
+    """The watch list's to-do lines, most important first (worded as on the command line)."""
+    from secretary.model.watch_sentences import NOTHING_TO_DO, watch_lines as lines
+
+    return lines(watch) or [NOTHING_TO_DO]
 
 
 # ------------------------------------------------------------------ settings
@@ -566,6 +560,9 @@ def settings_messages(texts: Mapping[str, str]) -> dict[str, str]:
     if not messages["usual_race"] and not messages["longest_race"] \
             and values["usual_race"] > values["longest_race"]:
         messages["usual_race"] = f"must not be longer than the longest race ({values['longest_race']})"
+    if not messages["shortest_race"] and not messages["longest_race"] \
+            and values["shortest_race"] > values["longest_race"]:
+        messages["shortest_race"] = f"must not be longer than the longest race ({values['longest_race']})"
     return messages
 
 

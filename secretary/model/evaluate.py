@@ -12,6 +12,18 @@ predictions are scored per game:
 
 Each fit starts from the previous step's optimum (players first seen since
 get their prior mean), so a walk costs a few Newton steps per week.
+
+Predictive chances, as the secretary sees them: the difference ``d = r_a -
+r_b`` has the Laplace posterior ``N(r_a - r_b, c^T H^-1 c)`` (``c = e_a -
+e_b``, ``H`` the step's Hessian; a player not yet seen adds the prior's
+variance), and the chance is ``E[sigmoid(d)]`` per game.  Per race: a match
+whose winner reached ``n = max(games_a, games_b)`` is taken as a race to
+``n`` each (level matches, e.g. 4-4, are not races and are left out), its
+predicted chance ``I_p(n, n)`` (point) or ``E[I_p(n, n)]`` (predictive) is
+scored against who won the match:
+
+    log-loss = mean over races of -log(chance given to the winner)
+    Brier    = mean over races of (won - chance)^2
 """
 from __future__ import annotations
 
@@ -27,7 +39,10 @@ from secretary.errors import Cancelled
 from secretary.model.fit import fit_map
 from secretary.model.pairs import Pairs, age_weights
 from secretary.model.records import Player, Result, Settings
+from secretary.model.races import predictive_game_chance, predictive_race_chance, race_chance
 from secretary.model.scale import points_per_logodds, to_strength
+from secretary.model.fit import hessian
+from secretary.model.uncertainty import contrast_variance, difference_coefficients
 
 BANDS = 10  # calibration bands of width 10 %
 
@@ -172,6 +187,34 @@ class Band:
 
 
 @dataclass(frozen=True)
+class Scores:
+    """One kind of prediction scored: per game (weighted by games) or per race (one per match).
+
+    Attributes
+    ----------
+    count : games, or races, predicted
+    log_loss : mean negative log-likelihood, nats (ln 2 = 0.693 for a coin toss)
+    brier : mean squared error (0.25 for a coin toss)
+    calibration : bands of predicted chance
+    """
+
+    count: float
+    log_loss: float
+    brier: float
+    calibration: tuple[Band, ...]
+
+
+def scores(p, won, lost) -> Scores:
+    """Mean log-loss, Brier score and calibration of chances ``p`` with ``won``/``lost`` counts for side A."""
+    won, lost = np.asarray(won, float), np.asarray(lost, float)
+    total = float(won.sum() + lost.sum())
+    loss, brier = game_scores(p, won, lost)
+    nan = float("nan")
+    return Scores(total, loss / total if total else nan, brier / total if total else nan,
+                  calibration_table(p, won, lost))
+
+
+@dataclass(frozen=True)
 class Evaluation:
     """Scores of one walk forward.
 
@@ -190,6 +233,9 @@ class Evaluation:
     few_calibration : bands over those games
     p : A's predicted chance per game for each input result (NaN: void or not predicted)
     uncertain : per input result, True where the prediction counts as few-games
+    predictive : per-game scores of the predictive chances (None when not computed)
+    race, predictive_race : per-race scores of the point and predictive race chances
+    p_predictive : A's predictive chance per game for each input result (NaN as for ``p``)
     """
 
     settings: Settings
@@ -205,6 +251,15 @@ class Evaluation:
     few_calibration: tuple[Band, ...]
     p: np.ndarray
     uncertain: np.ndarray
+    predictive: Scores | None = None
+    race: Scores | None = None
+    predictive_race: Scores | None = None
+    p_predictive: np.ndarray | None = None
+
+    @property
+    def score(self) -> float:
+        """What tuning minimises: the predictive log-loss per game (the point one when not computed)."""
+        return self.predictive.log_loss if self.predictive is not None else self.log_loss
 
 
 def calibration_table(p, games_a, games_b, bands: int = BANDS) -> tuple[Band, ...]:
@@ -244,39 +299,21 @@ def game_scores(p, games_a, games_b) -> tuple[float, float]:
     return float(loss), float(brier)
 
 
-def evaluate(
-    data: Walk | Sequence[Result],
-    settings: Settings = Settings(),
-    *,
-    players: Sequence[Player] = (),
-    step_days: int = 7,
-    cancel=None,
-    gtol: float = 1e-7,
-) -> Evaluation:
-    """Walk forward, rating before each step and predicting its games.
+def difference_variance(pairs: Pairs, r, prior_sd: float, a, b) -> np.ndarray:
+    """Posterior variance of ``r_a - r_b`` per match (log-odds squared); a side not yet seen adds ``prior_sd^2``."""
+    n = pairs.n_players
+    var = contrast_variance(hessian(pairs, r, prior_sd), difference_coefficients(a, b, n)) if n else np.zeros(len(a))
+    return var + prior_sd**2 * ((a >= n).astype(float) + (b >= n))
 
-    Parameters
-    ----------
-    data : results, or a ``Walk`` from ``prepare`` (then ``players`` and ``step_days`` are ignored)
-    settings : centre, scale, skill spread (points), half-life (days) and few-games threshold
-    players : Players-sheet records (starting ratings set prior means)
-    step_days : step length in days (7 = week by week)
-    cancel : optional flag with ``is_set()``, checked once per step
-    gtol : the fit's relative gradient tolerance (looser than an update's; scores move by about 1e-9)
 
-    Raises
-    ------
-    Cancelled
-        when ``cancel`` is set during the walk.
-    """
-    walk = data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days)
+def _walk(walk: Walk, settings: Settings, cancel, gtol: float, predictive: bool):
+    """Per sorted match: point difference, its posterior variance (NaN unless ``predictive``), few-games flag."""
     ppl = points_per_logodds(settings.scale)
     starting = np.where(np.isnan(walk.starting), settings.centre, walk.starting)
     mu = np.asarray(to_strength(starting, settings.centre, settings.scale), float).reshape(-1)
     prior_sd = settings.skill_spread / ppl
-    n_total = len(walk.names)
-    p_sorted = np.full(len(walk.day), np.nan)
-    few_sorted = np.zeros(len(walk.day), bool)
+    n_total, m = len(walk.names), len(walk.day)
+    mean, var, few = np.full(m, np.nan), np.full(m, np.nan), np.zeros(m, bool)
     r = np.zeros(0)
     steps = 0
     for k in range(len(walk.bounds) - 1):
@@ -292,32 +329,76 @@ def evaluate(
         full = np.concatenate([r, mu[n:n_total]])
         games = np.concatenate([pairs.games_per_player(), np.zeros(n_total - n)])
         a, b = walk.a[start:stop], walk.b[start:stop]
-        p_sorted[start:stop] = expit(full[a] - full[b])
-        few_sorted[start:stop] = np.minimum(games[a], games[b]) < settings.few_games
+        mean[start:stop] = full[a] - full[b]
+        if predictive:
+            var[start:stop] = difference_variance(pairs, r, prior_sd, a, b)
+        few[start:stop] = np.minimum(games[a], games[b]) < settings.few_games
         steps += 1
-    done = ~np.isnan(p_sorted)
-    p, ga, gb = p_sorted[done], walk.games_a[done], walk.games_b[done]
-    total = float(ga.sum() + gb.sum())
-    loss, brier = game_scores(p, ga, gb)
+    return mean, var, few, steps
+
+
+def _race_scores(mean, var, games_a, games_b) -> tuple[Scores, Scores | None]:
+    """Point and predictive scores per race (a race to the winner's games each; level matches left out)."""
+    race = games_a != games_b
+    n = np.maximum(games_a, games_b)[race]
+    won = (games_a > games_b)[race].astype(float)
+    point = race_chance(expit(mean[race]), n, n)
+    out = scores(point, won, 1.0 - won)
+    if np.isnan(var).all():
+        return out, None
+    return out, scores(predictive_race_chance(mean[race], var[race], n, n), won, 1.0 - won)
+
+
+def evaluate(
+    data: Walk | Sequence[Result],
+    settings: Settings = Settings(),
+    *,
+    players: Sequence[Player] = (),
+    step_days: int = 7,
+    cancel=None,
+    gtol: float = 1e-7,
+    predictive: bool = True,
+) -> Evaluation:
+    """Walk forward, rating before each step and predicting its games.
+
+    Parameters
+    ----------
+    data : results, or a ``Walk`` from ``prepare`` (then ``players`` and ``step_days`` are ignored)
+    settings : centre, scale, skill spread (points), half-life (days) and few-games threshold
+    players : Players-sheet records (starting ratings set prior means)
+    step_days : step length in days (7 = week by week)
+    cancel : optional flag with ``is_set()``, checked once per step
+    gtol : the fit's relative gradient tolerance (looser than an update's; scores move by about 1e-9)
+    predictive : also score the predictive chances (one factorisation of the Hessian per step)
+
+    Raises
+    ------
+    Cancelled
+        when ``cancel`` is set during the walk.
+    """
+    walk = data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days)
+    mean, var, few_sorted, steps = _walk(walk, settings, cancel, gtol, predictive)
+    done = ~np.isnan(mean)
+    p_sorted = expit(mean)
+    ga, gb = walk.games_a[done], walk.games_b[done]
+    point = scores(p_sorted[done], ga, gb)
     few = few_sorted[done]
-    few_total = float(ga[few].sum() + gb[few].sum())
-    few_loss = game_scores(p[few], ga[few], gb[few])[0] / few_total if few_total else float("nan")
-    p_input = np.full(walk.n_input, np.nan)
-    p_input[walk.order] = p_sorted
+    few_scores = scores(p_sorted[done][few], ga[few], gb[few])
+    pred_sorted = predictive_game_chance(mean, var) if predictive else np.full(len(mean), np.nan)
+    race, predictive_race = _race_scores(mean[done], var[done], ga, gb)
+
+    def per_input(values):
+        out = np.full(walk.n_input, np.nan)
+        out[walk.order] = np.where(done, values, np.nan)
+        return out
+
     uncertain = np.zeros(walk.n_input, bool)
     uncertain[walk.order] = few_sorted & done
     return Evaluation(
-        settings=settings,
-        step_days=walk.step_days,
-        steps=steps,
-        matches=int(done.sum()),
-        games=total,
-        log_loss=loss / total if total else float("nan"),
-        brier=brier / total if total else float("nan"),
-        calibration=calibration_table(p, ga, gb),
-        few_games=few_total,
-        few_log_loss=few_loss,
-        few_calibration=calibration_table(p[few], ga[few], gb[few]),
-        p=p_input,
-        uncertain=uncertain,
+        settings=settings, step_days=walk.step_days, steps=steps, matches=int(done.sum()), games=point.count,
+        log_loss=point.log_loss, brier=point.brier, calibration=point.calibration,
+        few_games=few_scores.count, few_log_loss=few_scores.log_loss, few_calibration=few_scores.calibration,
+        p=per_input(p_sorted), uncertain=uncertain,
+        predictive=scores(pred_sorted[done], ga, gb) if predictive else None,
+        race=race, predictive_race=predictive_race, p_predictive=per_input(pred_sorted) if predictive else None,
     )

@@ -15,11 +15,11 @@ from typing import Iterable, Mapping, Sequence
 import numpy as np
 
 from secretary.model.diagnose import Diagnosis, diagnose
-from secretary.model.fit import fit_map
+from secretary.model.fit import fit_map, hessian
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
-from secretary.model.uncertainty import strength_variance
+from secretary.model.uncertainty import contrast_variance, strength_variance
 
 
 @dataclass(frozen=True)
@@ -83,6 +83,14 @@ class LeagueFit:
     def sd(self, name: str) -> float:
         """One player's ± in points."""
         return float(self.sds[self.index(name)])
+
+    def contrast_variance(self, coefficients) -> np.ndarray:
+        """Posterior variance of each row of ``coefficients @ r`` (log-odds squared; coefficients (m, n_players)).
+
+        Exact from the Laplace posterior: ``c^T H^-1 c`` with ``H`` the fit's
+        Hessian at the optimum (``uncertainty.contrast_variance``).
+        """
+        return contrast_variance(hessian(self.pairs, self.r, self.prior_sd), coefficients)
 
     def division(self, name: str) -> str:
         """The group (division) a player is counted in."""

@@ -1,24 +1,47 @@
-"""The watch list: how well each division is tied to the rest, players held by the prior, linking matches.
+"""The watch list: how well each division's level is tied to the rest, held-back players, linking matches.
 
-Division linkage.  For a set of players g let ``u_g`` average over g minus
-the average over the league; ``u_g . r`` is g's level relative to the rest.
-Its posterior variance ``u_g^T H^-1 u_g`` comes from sparse solves with the
-Hessian ``H`` at the optimum; under the prior alone it is ``s^2 |u_g|^2``
-(the prior covariance is ``s^2 I`` whatever the prior means are).
-``linked_share = 1 - Var_post / Var_prior``: 0 when only the starting
-assumption sets the level, near 1 when games against others pin it down.
+Posterior of the strengths.  ``K = A + I / s^2`` is the one-pool Hessian at
+the optimum (``A`` the likelihood's weighted Laplacian, ``n p (1 - p)`` per
+pair).  With division levels (``r_i = L_d(i) + u_i``, ``L_d ~ N(m_d, tau^2)``,
+``u_i ~ N(mu_i, s^2)``) the strengths' prior covariance is
+``s^2 I + tau^2 B B^T`` (``B`` the player-by-division indicator), so their
+posterior precision is
 
-Held by the prior.  At the optimum the data's pull on player i,
-``g_i = sum w (won - p)``, equals the prior's ``(r_i - mu_i) / s^2``.
-``g_i / L_ii`` (``L`` = likelihood part of ``H``) is how far the data alone
-would still move them, and ``g_i / sqrt(L_ii)`` is that surplus as a z-score.
+    H = A + (s^2 I + tau^2 B B^T)^-1 = K - B diag(beta) B^T,
+    beta_d = tau^2 / (s^2 (s^2 + n_d tau^2)),
 
-Linking matches.  A race of expected length ``n`` between i and j adds
-``c (e_i - e_j)(e_i - e_j)^T`` to ``H`` with ``c = n p (1 - p)``, which lowers
-``Var(u_g . r)`` by ``c (x_g[i] - x_g[j])^2 / (1 + c q_ij)`` where
-``x_g = H^-1 u_g`` and ``q_ij = (e_i - e_j)^T H^-1 (e_i - e_j)``
-(Sherman-Morrison).  Matches are picked greedily from a bounded set of
-active players, updating ``H^-1`` on that set after each pick.
+solved by Woodbury with one extra solve of ``K`` per division (``LevelSolver``).
+With ``tau = 0`` (one pool) ``H = K``.
+
+Division linkage with levels (``tau > 0``).  The contrast ``c = e_d - (1 - e_d) / (D - 1)``
+is division d's level minus the other divisions' average level; the common
+mode of all levels, which games never see, drops out of it.  The data depend
+on the strengths only, and ``E[L | r]`` is linear in ``r``, so
+
+    Var(c . L) = Var(c . L | r) + Var(w . r),
+    Var(c . L | r) = sum_k c_k^2 tau^2 s^2 / (s^2 + n_k tau^2)    (the offset),
+    w_i = tau^2 c_d(i) / (s^2 + n_d(i) tau^2),
+
+with ``Var(w . r) = w^T H^-1 w`` after the games and ``w^T (s^2 I + tau^2 B B^T) w``
+before (the prior alone gives ``Var(c . L) = tau^2 |c|^2``).  Games can only
+act on the second part (how a level splits from its players' deviations is the
+priors' matter), so ``linked_share = 1 - (Var_post - offset) / (Var_prior - offset)``
+is the share of that part's precision that comes from games: exactly 0 for a
+division that has played no other (its contrast is then a prior-only direction,
+because the other divisions enter it with equal weights), near 1 for a
+well-linked one, whatever the division's size.  ``level_sd`` is the full
+posterior ± of ``c . L``.
+
+Division linkage in one pool (``tau = 0``).  For a set of players g, ``u_g``
+averages over g minus the average over the league; ``Var_post = u_g^T H^-1 u_g``
+against ``s^2 |u_g|^2`` under the prior alone.  Separate pools always use this
+form (with the prior covariance above when there are levels).
+
+Held back.  At the optimum the data's pull on player i, ``g_i = sum w (won - p)``,
+equals the prior's ``(u_i - mu_i) / s^2``: the prior holds them against their
+division's level.  ``g_i / L_ii`` (``L`` the likelihood part of ``H``) is how far
+the data alone would still move them, and ``g_i / sqrt(L_ii)`` that surplus as
+a z-score.
 """
 from __future__ import annotations
 
@@ -27,24 +50,24 @@ from dataclasses import dataclass
 from typing import Iterable
 
 import numpy as np
+import scipy.linalg as sla
 import scipy.sparse.linalg as spla
 from scipy.special import expit
-from scipy.stats import nbinom
 
 from secretary.model.fit import LaplacianPattern, conjugate_gradient, pair_curvature
+from secretary.model.linking_matches import LinkingMatch, expected_race_games, suggest_matches
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
+from secretary.model.watch_sentences import NO_DIVISION, division_todo, held_todo, pool_todo
+
+__all__ = ["DivisionLink", "HeldPlayer", "LinkingMatch", "Pool", "WatchList", "watch_list", "NO_DIVISION",
+           "HessianSolver", "LevelSolver", "Contrasts", "level_vectors", "expected_race_games"]
 
 # Players up to which solves use a sparse LU factor; above, Jacobi-preconditioned CG.  Leagues
 # whose divisions mix at random fill the factor in badly (10,000 players: 30 M entries, 40 s),
 # while CG stays near-linear (2 s); at 1,500 players both take a fraction of a second.
 FACTOR_LIMIT = 1500
-ACTIVE_DAYS = 60  # a player counts as active when they played this recently (before the reference date)
-CANDIDATES_PER_GROUP = 30  # most active players per division (or pool) considered for linking matches
-CANDIDATES_MAX = 300  # bound on all candidates: the greedy search costs O(candidates^2) per pick
-PICKS_PER_PLAYER = 2  # spread suggestions over players: nobody is asked to play more than this
-UNFLAGGED_HELD_MAX = 20  # players with a big z-score in well-linked divisions listed after the flagged ones
-NO_DIVISION = "(no division)"
+HELD_SHOWN = 20  # held-back players listed, strongest cases first; the rest are counted
 
 
 @dataclass(frozen=True)
@@ -55,11 +78,13 @@ class DivisionLink:
     ----------
     division : the division's name ("" for players without one)
     players : players counted in it
-    level : mean rating of its players, points
-    relative_level : that mean minus the league's mean, points
+    level : the division's level (with Division spread) or its players' mean rating, points
+    relative_level : against the rest, points: the level minus the other divisions' average level
+        (with Division spread), or the mean rating minus the league's
     level_sd : ± (one SD) of the relative level from the games, points
     prior_sd : the same ± under the starting assumption alone, points
-    linked_share : ``1 - level_sd^2 / prior_sd^2`` clipped to [0, 1]
+    linked_share : the share of the level that games pin down, 0 to 1 (see the module's docstring;
+        ``1 - level_sd^2 / prior_sd^2`` in one pool)
     cross_games : age-weighted games against other divisions
     recent_cross_games : games against other divisions in the recent window
         (age at most one half-life, i.e. weight >= 0.5; all games when games
@@ -87,7 +112,7 @@ class DivisionLink:
 
 @dataclass(frozen=True)
 class HeldPlayer:
-    """A player whose results run ahead of their rating: the starting assumption holds them.
+    """A player whose results run ahead of their rating: the starting assumption holds them back.
 
     Attributes
     ----------
@@ -98,7 +123,7 @@ class HeldPlayer:
     held_points : how much further the data alone would move them, points (``g / L_ii``)
     surplus_z : ``g / sqrt(L_ii)``, the surplus as a z-score
     linked_share : their division's linked share
-    flagged : z at least ``held_z`` and the division weakly linked
+    flagged : their division is weakly linked (their true level cannot show)
     what_to_do : one line in plain words
     """
 
@@ -116,43 +141,6 @@ class HeldPlayer:
 
 
 @dataclass(frozen=True)
-class LinkingMatch:
-    """One suggested match between divisions, and what it would do to the level it ties in.
-
-    Rows are cumulative: each assumes the suggestions above it were played.
-
-    Attributes
-    ----------
-    player_a, player_b, division_a, division_b, rating_a, rating_b : the pairing (ratings in points)
-    race : games each needs to win (the league's usual race)
-    chance_a : chance that A wins one game
-    expected_games : expected games in the race
-    target : the division (or pool) whose level it ties in most
-    sd_before, sd_after : ± of that level relative to the rest, points
-    what_to_do : one line in plain words
-    """
-
-    player_a: str
-    player_b: str
-    division_a: str
-    division_b: str
-    rating_a: float
-    rating_b: float
-    race: int
-    chance_a: float
-    expected_games: float
-    target: str
-    sd_before: float
-    sd_after: float
-    what_to_do: str
-
-    @property
-    def sd_drop(self) -> float:
-        """How much the target's ± would drop, points."""
-        return self.sd_before - self.sd_after
-
-
-@dataclass(frozen=True)
 class Pool:
     """Players who have played nobody outside their own group (a separate pool).
 
@@ -161,8 +149,8 @@ class Pool:
     players : their names
     divisions : the divisions they are counted in
     games : age-weighted games among themselves
-    level_sd : ± of the pool's level relative to the rest, points (the prior's alone)
-    what_to_do : one line in plain words
+    level_sd : ± of the pool's average rating against the league's, points
+    what_to_do : one line in plain words, naming them
     """
 
     players: tuple[str, ...]
@@ -174,13 +162,18 @@ class Pool:
 
 @dataclass(frozen=True)
 class WatchList:
-    """Everything the Watch list sheet shows: pools first, then divisions, players, suggestions."""
+    """Everything the Watch list sheet shows: pools first, then divisions, players, suggestions.
+
+    ``held`` is capped at ``HELD_SHOWN`` players, strongest cases first;
+    ``held_not_shown`` counts the held-back players left off.
+    """
 
     reference_date: dt.date | None
     pools: tuple[Pool, ...]
     divisions: tuple[DivisionLink, ...]
     held: tuple[HeldPlayer, ...]
     suggestions: tuple[LinkingMatch, ...]
+    held_not_shown: int = 0
 
     @property
     def flagged_divisions(self) -> tuple[DivisionLink, ...]:
@@ -189,7 +182,7 @@ class WatchList:
 
     @property
     def flagged_players(self) -> tuple[HeldPlayer, ...]:
-        """Players held by the prior in weakly linked divisions."""
+        """Held-back players in weakly linked divisions."""
         return tuple(p for p in self.held if p.flagged)
 
     def division(self, name: str) -> DivisionLink:
@@ -201,11 +194,11 @@ class WatchList:
 
 
 # ---------------------------------------------------------------------------
-# Sparse solves with H
+# Solves with the posterior precision
 
 
 class HessianSolver:
-    """Solves ``H x = b`` for many right-hand sides without forming ``H^-1``.
+    """Solves ``K x = b`` for many right-hand sides without forming ``K^-1``.
 
     ``method``: "factor" (sparse LU with a symmetric ordering, exact to
     rounding), "cg" (conjugate gradients with a Jacobi preconditioner, relative
@@ -227,7 +220,7 @@ class HessianSolver:
             self._inv_diag = 1.0 / self._H.diagonal()
 
     def solve(self, b) -> np.ndarray:
-        """``H^-1 b`` for a vector or for each column of a matrix."""
+        """``K^-1 b`` for a vector or for each column of a matrix."""
         b = np.asarray(b, dtype=float)
         if self.n == 0:
             return b.copy()
@@ -239,6 +232,80 @@ class HessianSolver:
 
     def _cg(self, b: np.ndarray) -> np.ndarray:
         return conjugate_gradient(self._H.dot, b, self._inv_diag, self.rtol, 20 * self.n)
+
+
+class LevelSolver:
+    """Solves ``H x = b`` for ``H = K - B diag(beta) B^T`` by Woodbury, with solves of ``K``.
+
+    ``H^-1 = K^-1 + K^-1 B M^-1 B^T K^-1`` with ``M = diag(1 / beta) - B^T K^-1 B``
+    (positive definite whenever ``H`` is).
+    """
+
+    def __init__(self, base: HessianSolver, group: np.ndarray, beta: np.ndarray):
+        n, n_groups = base.n, len(beta)
+        self.base, self.n = base, n
+        self.B = np.zeros((n, n_groups))
+        self.B[np.arange(n), group] = 1.0
+        self.KB = base.solve(self.B).reshape(self.B.shape)
+        self._M = sla.cho_factor(np.diag(1.0 / beta) - self.B.T @ self.KB)
+
+    def solve(self, b) -> np.ndarray:
+        """``H^-1 b`` for a vector or for each column of a matrix."""
+        x = self.base.solve(b).reshape(np.shape(b))
+        return x + self.KB @ sla.cho_solve(self._M, self.B.T @ x)
+
+
+def division_spread(fit) -> float:
+    """The fit's prior SD of division levels, log-odds (0 = one pool)."""
+    return getattr(fit.settings, "division_spread", 0.0) / points_per_logodds(fit.settings.scale)
+
+
+def posterior_solver(fit, method: str = "auto", tau: float | None = None):
+    """A solver for the posterior precision ``H`` of the strengths, and the pair weights ``n p (1 - p)``.
+
+    ``tau``: the prior SD of division levels in log-odds (default: the fit's Division spread).
+    """
+    h = pair_curvature(fit.pairs, fit.r)
+    base = HessianSolver(LaplacianPattern(fit.pairs).matrix(h, fit.prior_sd), method)
+    tau = division_spread(fit) if tau is None else tau
+    if tau <= 0 or base.n == 0:
+        return base, h
+    s2, t2 = fit.prior_sd**2, tau**2
+    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
+    return LevelSolver(base, fit.group, t2 / (s2 * (s2 + sizes * t2))), h
+
+
+# ---------------------------------------------------------------------------
+# Contrasts: levels against the rest
+
+
+@dataclass(frozen=True)
+class Contrasts:
+    """Quantities with posterior variance ``offset + w^T H^-1 w`` per column ``w`` of ``vectors``.
+
+    ``prior`` is the variance of the same quantities under the prior alone
+    (log-odds squared).
+    """
+
+    vectors: np.ndarray  # (n_players, k)
+    offset: np.ndarray  # (k,)
+    prior: np.ndarray  # (k,)
+
+    def variance(self, solver) -> tuple[np.ndarray, np.ndarray]:
+        """Posterior variances (k,) and ``X = H^-1 W`` (n_players, k)."""
+        W = self.vectors
+        X = solver.solve(W).reshape(W.shape) if W.size else W.copy()
+        return self.offset + np.einsum("ij,ij->j", W, X), X
+
+    def shares(self, var: np.ndarray, s2: float) -> np.ndarray:
+        """The share of what games can pin down that they do: ``1 - (Var_post - offset) / (Var_prior - offset)``.
+
+        Clipped to [0, 1]; 1 where the prior leaves nothing to pin down.
+        """
+        seen = self.prior - self.offset
+        with np.errstate(invalid="ignore", divide="ignore"):
+            share = np.where(seen > 1e-12 * s2, 1.0 - (var - self.offset) / seen, 1.0)
+        return np.clip(share, 0.0, 1.0)
 
 
 def level_vectors(members: np.ndarray) -> np.ndarray:
@@ -254,34 +321,75 @@ def level_vectors(members: np.ndarray) -> np.ndarray:
     return members / sizes - (1.0 / n if n else 0.0)
 
 
-def level_variance(solver: HessianSolver, U: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """``Var(u_g . r) = u_g^T H^-1 u_g`` per column of ``U`` (log-odds squared), and ``X = H^-1 U``."""
-    X = solver.solve(U)
-    X = X.reshape(U.shape)
-    return np.einsum("ij,ij->j", U, X), X
+def average_contrasts(members: np.ndarray, group: np.ndarray, n_groups: int, s2: float, t2: float) -> Contrasts:
+    """Each set's average strength minus the league's; prior covariance ``s^2 I + tau^2 B B^T``."""
+    U = level_vectors(members)
+    per_division = np.zeros((n_groups, U.shape[1]))
+    np.add.at(per_division, group, U)
+    prior = s2 * np.sum(U**2, axis=0) + t2 * np.sum(per_division**2, axis=0)
+    return Contrasts(U, np.zeros(U.shape[1]), prior)
 
 
-def expected_race_games(p, race: int) -> np.ndarray:
-    """Expected games in a first-to-``race`` match when one side wins each game with chance ``p``.
+def level_contrasts(group: np.ndarray, sizes: np.ndarray, s2: float, t2: float) -> Contrasts:
+    """Each division's level minus the other divisions' average level (``tau^2 = t2 > 0``)."""
+    D = len(sizes)
+    C = (np.eye(D) * D - 1.0) / (D - 1) if D > 1 else np.zeros((D, D))
+    shrink = t2 / (s2 + sizes * t2)
+    W = (C * shrink[None, :])[:, group].T
+    return Contrasts(W, np.sum(C**2 * (s2 * shrink)[None, :], axis=1), t2 * np.sum(C**2, axis=1))
 
-    The race ends at ``race + k`` games when the loser took ``k < race``;
-    the winner's side follows the negative binomial (``k`` failures before
-    ``race`` successes), so ``E = sum_k (race + k) [NB(k; race, p) + NB(k; race, 1 - p)]``.
+
+def division_contrasts(fit, tau: float | None = None) -> Contrasts:
+    """The divisions' levels against the rest: level contrasts with Division spread, else averages.
+
+    ``tau``: the prior SD of division levels in log-odds (default: the fit's Division spread).
     """
-    if race < 1:
-        raise ValueError(f"a race needs at least one game (got {race!r})")
-    p = np.asarray(p, dtype=float)
-    k = np.arange(race).reshape((race,) + (1,) * p.ndim)
-    total = (race + k) * (nbinom.pmf(k, race, p) + nbinom.pmf(k, race, 1.0 - p))
-    return total.sum(axis=0)
+    n_groups = len(fit.group_names)
+    s2, t2 = fit.prior_sd**2, (division_spread(fit) if tau is None else tau) ** 2
+    if t2 > 0 and len(fit.names):
+        return level_contrasts(fit.group, np.bincount(fit.group, minlength=n_groups), s2, t2)
+    return average_contrasts(fit.group[:, None] == np.arange(n_groups)[None, :], fit.group, n_groups, s2, t2)
 
 
 # ---------------------------------------------------------------------------
 # The watch list
 
 
-def _label(division: str) -> str:
-    return division or NO_DIVISION
+def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "auto") -> WatchList:
+    """The league's watch list from a fit (``secretary.model.league.LeagueFit``).
+
+    Parameters
+    ----------
+    fit : the joint fit (strengths, pairs, divisions, pools, settings)
+    results : the results the fit used; only needed for the raw count of
+        recent cross-division games (None leaves that count out)
+    method : how to solve with ``K``: "auto", "factor" or "cg" (see ``HessianSolver``)
+    """
+    settings = fit.settings
+    n, n_groups = len(fit.names), len(fit.group_names)
+    solver, h = posterior_solver(fit, method)
+    contrasts = division_contrasts(fit)
+    var, X = contrasts.variance(solver)
+    share = contrasts.shares(var, fit.prior_sd**2)
+    members = fit.group[:, None] == np.arange(n_groups)[None, :]
+    played = members.T.astype(float) @ fit.games if n else np.zeros(n_groups)
+    # A division nobody in it has played for yet has nothing to tie in: not flagged.
+    flagged = (share < settings.weakly_linked_below) & (played > 0) & (n_groups > 1)
+    eligible = _not_islanders(fit)
+    weak = np.flatnonzero(flagged)
+    suggestions = suggest_matches(fit, solver, members[:, weak], [fit.group_names[g] for g in weak],
+                                  X[:, weak], var[weak], eligible) if n else []
+    suggested = {d for m in suggestions for d in (m.division_a, m.division_b)}
+    divisions = _division_rows(fit, results, var, contrasts.prior, share, flagged, suggested)
+    held, not_shown = held_back(fit, h, share, flagged, eligible)
+    return WatchList(
+        reference_date=fit.reference_date,
+        pools=tuple(_pools(fit, solver)),
+        divisions=tuple(divisions),
+        held=tuple(held),
+        suggestions=tuple(suggestions),
+        held_not_shown=not_shown,
+    )
 
 
 def _recent_cross_games(fit, results: Iterable[Result]) -> np.ndarray:
@@ -302,266 +410,150 @@ def _recent_cross_games(fit, results: Iterable[Result]) -> np.ndarray:
     return counts
 
 
-def _candidates(fit, targets: np.ndarray, games: np.ndarray) -> np.ndarray:
-    """A bounded set of players for linking matches: the most active of each division and target."""
-    n = len(fit.names)
-    ref = fit.reference_date
-    recent = np.array([
-        ref is not None and last is not None and (ref - last).days <= ACTIVE_DAYS for last in fit.last_played
-    ], dtype=bool)
-    n_groups = len(fit.group_names)
-    groups = [fit.group == g for g in range(n_groups)] + list(targets.T)
-    per_group = max(4, min(CANDIDATES_PER_GROUP, CANDIDATES_MAX // max(1, len(groups))))
-    chosen = np.zeros(n, dtype=bool)
-    for mask in groups:
-        idx = np.flatnonzero(mask & (games > 0))
-        # Active players first, then the most (weighted) games: the likeliest to turn up.
-        idx = idx[np.lexsort((-games[idx], ~recent[idx]))]
-        chosen[idx[:per_group]] = True
-    return np.flatnonzero(chosen)
-
-
-def _suggest(fit, solver, targets, target_names, X, var) -> list[LinkingMatch]:
-    """Greedy linking matches that most reduce the summed level variance of the targets."""
-    settings = fit.settings
-    count = settings.linking_matches
-    if count <= 0 or targets.shape[1] == 0:
-        return []
-    games = fit.games
-    cand = _candidates(fit, targets, games)
-    m = len(cand)
-    if m < 2:
-        return []
-    E = np.zeros((fit.pairs.n_players, m))
-    E[cand, np.arange(m)] = 1.0
-    S = solver.solve(E).reshape(E.shape)[cand]  # H^-1 on the candidates
-    S = 0.5 * (S + S.T)
-    XC = X[cand].copy()  # H^-1 u_t on the candidates
-    var = var.copy()
-    inside = targets[cand]  # (m, k): candidate in target t
-    a, b = np.triu_indices(m, 1)
-    # Only pairs that cross the edge of some target: one player in it, the other outside.
-    crosses = np.any(inside[a] != inside[b], axis=1)
-    a, b = a[crosses], b[crosses]
-    if len(a) == 0:
-        return []
-    r = fit.r[cand]
-    p = expit(r[a] - r[b])
-    n_games = expected_race_games(p, settings.usual_race)
-    c = n_games * p * (1.0 - p)
-    ppl = points_per_logodds(settings.scale)
-    picks_of = np.zeros(m, dtype=np.int64)
-    alive = np.ones(len(a), dtype=bool)
-    out = []
-    for _ in range(count):
-        dx = XC[a] - XC[b]
-        q = S[a, a] + S[b, b] - 2.0 * S[a, b]
-        gain = c * np.sum(dx**2, axis=1) / (1.0 + c * q)
-        gain[~alive] = -np.inf
-        best = int(np.argmax(gain))
-        if not np.isfinite(gain[best]) or gain[best] <= 0:
-            break
-        i, j, cb = a[best], b[best], c[best]
-        w = S[:, i] - S[:, j]
-        denom = 1.0 + cb * q[best]
-        drop = cb * dx[best] ** 2 / denom
-        before = var.copy()
-        var = var - drop
-        XC -= cb * np.outer(w, dx[best]) / denom
-        S -= cb * np.outer(w, w) / denom
-        sd_before, sd_after = np.sqrt(before) * ppl, np.sqrt(np.maximum(var, 0.0)) * ppl
-        t = int(np.argmax(sd_before - sd_after))
-        alive[best] = False
-        for k in (i, j):
-            picks_of[k] += 1
-            if picks_of[k] >= PICKS_PER_PLAYER:
-                alive &= (a != k) & (b != k)
-        pi, pj = cand[i], cand[j]
-        name_a, name_b = fit.names[pi], fit.names[pj]
-        out.append(LinkingMatch(
-            player_a=name_a,
-            player_b=name_b,
-            division_a=fit.group_names[fit.group[pi]],
-            division_b=fit.group_names[fit.group[pj]],
-            rating_a=float(fit.ratings[pi]),
-            rating_b=float(fit.ratings[pj]),
-            race=settings.usual_race,
-            chance_a=float(p[best]),
-            expected_games=float(n_games[best]),
-            target=target_names[t],
-            sd_before=float(sd_before[t]),
-            sd_after=float(sd_after[t]),
-            what_to_do=(f"Arrange {name_a} v {name_b}, race to {settings.usual_race}: the level of "
-                        f"{target_names[t]} would then be known to ±{sd_after[t]:.0f} points "
-                        f"instead of ±{sd_before[t]:.0f}."),
-        ))
-    return out
-
-
-def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "auto") -> WatchList:
-    """The league's watch list from a fit (``secretary.model.league.LeagueFit``).
-
-    Parameters
-    ----------
-    fit : the joint fit (strengths, pairs, divisions, pools, settings)
-    results : the results the fit used; only needed for the raw count of
-        recent cross-division games (None leaves that count out)
-    method : how to solve with ``H``: "auto", "factor" or "cg" (see ``HessianSolver``)
-    """
-    settings = fit.settings
-    pairs = fit.pairs
-    n = pairs.n_players
-    n_groups = len(fit.group_names)
-    ppl = points_per_logodds(settings.scale)
-    s2 = fit.prior_sd**2
-    h = pair_curvature(pairs, fit.r)
-    H = LaplacianPattern(pairs).matrix(h, fit.prior_sd)
-    solver = HessianSolver(H, method)
-
-    # Targets: every division, then every separate pool (not the largest).
-    members = fit.group[:, None] == np.arange(n_groups)[None, :]
-    pool = fit.diagnosis.pool
-    pool_sizes = np.bincount(pool, minlength=1) if n else np.zeros(0, dtype=np.int64)
-    separate = [k for k in range(1, len(pool_sizes)) if pool_sizes[k] >= 2]
-    pool_members = pool[:, None] == np.array(separate, dtype=np.int64)[None, :]
-    M = np.hstack([members, pool_members])
-    U = level_vectors(M)
-    var_post, X = level_variance(solver, U) if n else (np.zeros(U.shape[1]), U)
-    var_prior = s2 * np.sum(U**2, axis=0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        share = np.where(var_prior > 1e-12 * s2, 1.0 - var_post / var_prior, 1.0)
-    share = np.clip(share, 0.0, 1.0)
-
-    # Games against other divisions, and who plays them.
+def _cross_games(fit) -> tuple[np.ndarray, np.ndarray]:
+    """Age-weighted games against other divisions, per division and per player."""
+    pairs, n, n_groups = fit.pairs, len(fit.names), len(fit.group_names)
     gi, gj = fit.group[pairs.i], fit.group[pairs.j]
     cross = (gi != gj) & (pairs.total > 0)
-    cross_games = np.bincount(gi[cross], pairs.total[cross], n_groups) + np.bincount(gj[cross], pairs.total[cross], n_groups)
-    player_cross = np.bincount(pairs.i[cross], pairs.total[cross], n) + np.bincount(pairs.j[cross], pairs.total[cross], n)
-    recent = _recent_cross_games(fit, results) if results is not None else None
-    ratings, games = fit.ratings, fit.games
-    mean_rating = float(ratings.mean()) if n else settings.centre
+    t = pairs.total[cross]
+    per_division = np.bincount(gi[cross], t, n_groups) + np.bincount(gj[cross], t, n_groups)
+    per_player = np.bincount(pairs.i[cross], t, n) + np.bincount(pairs.j[cross], t, n)
+    return per_division, per_player
 
-    divisions = []
+
+def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[DivisionLink]:
+    """One row per division, the weakest-linked flagged ones first."""
+    ppl = points_per_logodds(fit.settings.scale)
+    cross_games, player_cross = _cross_games(fit)
+    recent = _recent_cross_games(fit, results) if results is not None else None
+    ratings = fit.ratings
+    mean_rating = float(ratings.mean()) if len(ratings) else fit.settings.centre
+    rows = []
     for g, name in enumerate(fit.group_names):
-        inside = np.flatnonzero(members[:, g])
+        inside = np.flatnonzero(fit.group == g)
         linkers = inside[player_cross[inside] > 0]
         linkers = linkers[np.argsort(-player_cross[linkers], kind="stable")]
-        # A division nobody in it has played for yet has nothing to tie in: not flagged.
-        flagged = bool(n_groups > 1 and share[g] < settings.weakly_linked_below and games[inside].sum() > 0)
-        label = _label(name)
-        if not flagged:
-            todo = ""
-        elif cross_games[g] <= 0:
-            todo = (f"{label} has played no one from another division, so its level rests on the starting "
-                    f"assumption: arrange a few matches between {label} and the other divisions (see suggestions).")
-        else:
-            todo = f"Arrange a few matches between {label} and the other divisions (see suggestions)."
-        level = float(ratings[inside].mean()) if len(inside) else settings.centre
-        divisions.append(DivisionLink(
+        level = float(ratings[inside].mean()) if len(inside) else fit.settings.centre
+        rows.append(DivisionLink(
             division=name,
             players=len(inside),
             level=level,
             relative_level=level - mean_rating,
-            level_sd=float(np.sqrt(max(var_post[g], 0.0)) * ppl),
-            prior_sd=float(np.sqrt(var_prior[g]) * ppl),
+            level_sd=float(np.sqrt(max(var[g], 0.0)) * ppl),
+            prior_sd=float(np.sqrt(prior[g]) * ppl),
             linked_share=float(share[g]),
             cross_games=float(cross_games[g]),
             recent_cross_games=None if recent is None else int(recent[g]),
             linking_players=len(linkers),
             linkers=tuple(fit.names[k] for k in linkers),
-            flagged=flagged,
-            what_to_do=todo,
+            flagged=bool(flagged[g]),
+            what_to_do=division_todo(name, cross_games[g], name in suggested) if flagged[g] else "",
         ))
-    divisions_by_name = {d.division: d for d in divisions}
-    divisions.sort(key=lambda d: (not d.flagged, d.linked_share, d.division))
+    rows.sort(key=lambda d: (not d.flagged, d.linked_share, d.division))
+    return rows
 
-    weak_group = np.array([divisions_by_name[name].flagged for name in fit.group_names], dtype=bool)
-    held = _held_players(fit, h, share[:n_groups], weak_group)
 
-    pools = []
+def _whole_pools(fit) -> np.ndarray:
+    """Per pool: is it the largest pool, or the pool that holds most of some division's players?
+
+    Any other separate pool is an island (two newcomers who only met each other, a
+    misspelt name): it is listed once, on its own line, and never suggested for.
+    A division that plays nobody else is a pool too, but that is the division's
+    problem, which its line and the suggestions address.
+    """
+    pool = fit.diagnosis.pool
+    if not len(pool):
+        return np.zeros(0, dtype=bool)
+    n_pools, n_groups = int(pool.max()) + 1, len(fit.group_names)
+    count = np.zeros((n_pools, n_groups), dtype=np.int64)
+    np.add.at(count, (pool, fit.group), 1)
+    whole = np.zeros(n_pools, dtype=bool)
+    whole[np.argmax(count, axis=0)] = True
+    whole[0] = True
+    return whole
+
+
+def _not_islanders(fit) -> np.ndarray:
+    """Who may be suggested for a match or listed as held back: everyone but the members of islands."""
+    return _whole_pools(fit)[fit.diagnosis.pool] if len(fit.names) else np.zeros(0, dtype=bool)
+
+
+def _pools(fit, solver) -> list[Pool]:
+    """Islands: separate pools of two or more players that are not whole divisions, each named once."""
+    pool, pairs = fit.diagnosis.pool, fit.pairs
+    if not len(pool):
+        return []
+    sizes, whole = np.bincount(pool), _whole_pools(fit)
+    separate = [k for k in range(1, len(sizes)) if sizes[k] >= 2 and not whole[k]]
+    if not separate:
+        return []
+    members = pool[:, None] == np.array(separate)[None, :]
+    contrasts = average_contrasts(members, fit.group, len(fit.group_names), fit.prior_sd**2,
+                                  division_spread(fit) ** 2)
+    var, _ = contrasts.variance(solver)
+    ppl = points_per_logodds(fit.settings.scale)
+    out = []
     for col, k in enumerate(separate):
         idx = np.flatnonzero(pool == k)
         inner = (pool[pairs.i] == k) & (pool[pairs.j] == k)
         names = tuple(fit.names[x] for x in idx)
-        pools.append(Pool(
+        out.append(Pool(
             players=names,
             divisions=tuple(sorted({fit.group_names[fit.group[x]] for x in idx})),
             games=float(pairs.total[inner].sum()),
-            level_sd=float(np.sqrt(max(var_post[n_groups + col], 0.0)) * ppl),
-            what_to_do=(f"These {len(names)} players have played nobody outside their group: check whether a "
-                        "name is another spelling of a player already listed (add it under 'Also known as'), "
-                        "or arrange a match against the rest (see suggestions)."),
-        ))
-
-    # Targets for linking matches: weakly linked divisions and separate pools (once per set of players).
-    weak = [int(g) for g in np.flatnonzero(weak_group)]
-    cols, seen, names_t = [], set(), []
-    for col in weak + [n_groups + c for c in range(len(separate))]:
-        key = tuple(np.flatnonzero(M[:, col]))
-        if key in seen:
-            continue
-        seen.add(key)
-        cols.append(col)
-        names_t.append(_label(fit.group_names[col]) if col < n_groups else
-                       f"the pool of {fit.names[key[0]]} and {len(key) - 1} other{'s' if len(key) > 2 else ''}")
-    targets = M[:, cols]
-    suggestions = _suggest(fit, solver, targets, names_t, X[:, cols], var_post[cols]) if n else []
-
-    return WatchList(
-        reference_date=fit.reference_date,
-        pools=tuple(pools),
-        divisions=tuple(divisions),
-        held=tuple(held),
-        suggestions=tuple(suggestions),
-    )
-
-
-def _held_players(fit, h: np.ndarray, share: np.ndarray, weak_group: np.ndarray) -> list[HeldPlayer]:
-    """Players whose surplus z-score reaches ``held_z``, or who win at least ``dominant_share`` of
-    their games in a weakly linked division: flagged when their division is weakly linked."""
-    settings = fit.settings
-    pairs = fit.pairs
-    n = pairs.n_players
-    ppl = points_per_logodds(settings.scale)
-    p = expit(fit.r[pairs.i] - fit.r[pairs.j])
-    expected = np.bincount(pairs.i, pairs.total * p, n) + np.bincount(pairs.j, pairs.total * (1.0 - p), n)
-    won = fit.wins
-    L = np.bincount(pairs.i, h, n) + np.bincount(pairs.j, h, n)
-    pull = won - expected
-    with np.errstate(invalid="ignore", divide="ignore"):
-        z = np.where(L > 0, pull / np.sqrt(L), 0.0)
-        held_pts = np.where(L > 0, pull / L, 0.0) * ppl
-    games = fit.games
-    with np.errstate(invalid="ignore", divide="ignore"):
-        share_won = np.where(games > 0, won / games, 0.0)
-    # Dominant in a weakly linked division: the division's level is set by the starting assumption,
-    # so however clearly they win, their rating is measured against a level nobody has checked.
-    dominant = (share_won >= settings.dominant_share) & (games >= settings.few_games) & weak_group[fit.group]
-    big = np.flatnonzero((z >= settings.held_z) | dominant)
-    weak = weak_group[fit.group[big]]
-    flagged = big[weak]
-    others = big[~weak]
-    flagged = flagged[np.argsort(-z[flagged], kind="stable")]
-    others = others[np.argsort(-z[others], kind="stable")][:UNFLAGGED_HELD_MAX]
-    out = []
-    for k, is_flagged in [(k, True) for k in flagged] + [(k, False) for k in others]:
-        division = fit.group_names[fit.group[k]]
-        if is_flagged:
-            todo = (f"Their true level cannot show until they play outside {_label(division)}; "
-                    "treat their handicap with care.")
-        else:
-            todo = "Their results run ahead of their rating; it will catch up as they play more."
-        out.append(HeldPlayer(
-            name=fit.names[k],
-            division=division,
-            rating=float(fit.ratings[k]),
-            games=float(games[k]),
-            won=float(won[k]),
-            expected=float(expected[k]),
-            held_points=float(held_pts[k]),
-            surplus_z=float(z[k]),
-            linked_share=float(share[fit.group[k]]),
-            flagged=bool(is_flagged),
-            what_to_do=todo,
+            level_sd=float(np.sqrt(max(var[col], 0.0)) * ppl),
+            what_to_do=pool_todo(names),
         ))
     return out
+
+
+# ---------------------------------------------------------------------------
+# Held back
+
+
+def surplus(fit, h: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Per player: games their rating expects them to win, the surplus z-score, and the points held.
+
+    ``expected = sum w p``; ``z = (won - expected) / sqrt(L_ii)``; ``held = (won - expected) / L_ii``
+    in points, ``L_ii = sum_pairs n p (1 - p)`` (the likelihood's curvature; 0 for no games).
+    """
+    pairs, n = fit.pairs, len(fit.names)
+    p = expit(fit.r[pairs.i] - fit.r[pairs.j])
+    expected = np.bincount(pairs.i, pairs.total * p, n) + np.bincount(pairs.j, pairs.total * (1.0 - p), n)
+    L = np.bincount(pairs.i, h, n) + np.bincount(pairs.j, h, n)
+    pull = fit.wins - expected
+    with np.errstate(invalid="ignore", divide="ignore"):
+        z = np.where(L > 0, pull / np.sqrt(L), 0.0)
+        held = np.where(L > 0, pull / L, 0.0) * points_per_logodds(fit.settings.scale)
+    return expected, z, held
+
+
+def held_back(fit, h, share, flagged, eligible) -> tuple[list[HeldPlayer], int]:
+    """Held-back players, strongest cases first (at most ``HELD_SHOWN``), and how many more there are.
+
+    A player with at least "Few games" games, outside any separate pool, is held
+    back when their surplus z-score reaches ``held_z``, or when they win at least
+    ``dominant_share`` of their games in a weakly linked division (whose level
+    nobody has checked, however clearly they win).  Those in weakly linked
+    divisions come first.
+    """
+    settings = fit.settings
+    expected, z, held = surplus(fit, h)
+    games, won = fit.games, fit.wins
+    weak = flagged[fit.group] if len(fit.names) else np.zeros(0, dtype=bool)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share_won = np.where(games > 0, won / games, 0.0)
+    dominant = (share_won >= settings.dominant_share) & weak
+    chosen = np.flatnonzero(((z >= settings.held_z) | dominant) & (games >= settings.few_games) & eligible)
+    chosen = chosen[np.lexsort((-z[chosen], ~weak[chosen]))]
+    out = []
+    for k in chosen[:HELD_SHOWN]:
+        division = fit.group_names[fit.group[k]]
+        out.append(HeldPlayer(
+            name=fit.names[k], division=division, rating=float(fit.ratings[k]),
+            games=float(games[k]), won=float(won[k]), expected=float(expected[k]),
+            held_points=float(held[k]), surplus_z=float(z[k]),
+            linked_share=float(share[fit.group[k]]), flagged=bool(weak[k]),
+            what_to_do=held_todo(division, bool(weak[k])),
+        ))
+    return out, max(0, len(chosen) - HELD_SHOWN)

@@ -27,8 +27,9 @@ MONTHS = ("January", "February", "March", "April", "May", "June", "July", "Augus
           "September", "October", "November", "December")
 CHART_PLAYERS = 6  # biggest changes drawn per division
 
-UNCERTAIN = "uncertain: few games"
-NOT_RATED = "not yet rated: {}"
+NOT_RATED = "{} not rated yet: this chance is a rough guess"
+FAR_OFF_NOTE = "{} has {} games: this chance could be far off"
+ROUGH_NOTE = "{} has {} games: treat this chance as rough"
 
 CLOSING = (
     "Ratings are estimates worked out from the results so far. The ± after a rating is its "
@@ -163,7 +164,17 @@ def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settin
 
 
 def forecast_note(fc: "FixtureForecast") -> str:
-    """A fixture forecast's flags in a few words ('' when there is nothing to say)."""
+    """How sure a fixture's chance is, in plain words ('' when it is sure enough).
+
+    Names the player whose rating is least sure when the posterior SD of the
+    difference reaches the forecast's ``ROUGH`` or ``FAR_OFF`` thresholds
+    (``secretary.model.fixtures``).
+    """
     if fc.not_rated:
-        return NOT_RATED.format(" and ".join(fc.not_rated))
-    return UNCERTAIN if fc.uncertain else ""
+        names = " and ".join(fc.not_rated)
+        return NOT_RATED.format(f"{names} {'are' if len(fc.not_rated) > 1 else 'is'}")
+    name, games = fc.least_known
+    shown = f"{games:.0f}" if games >= 1 else "under 1"
+    if fc.care == "far off":
+        return FAR_OFF_NOTE.format(name, shown)
+    return ROUGH_NOTE.format(name, shown) if fc.care == "rough" else ""

@@ -66,6 +66,7 @@ class Settings:
     skill_spread: float = DEFAULT_SKILL_SPREAD  # points: SD of the prior
     half_life_days: float = DEFAULT_HALF_LIFE_DAYS  # 0 = games never age
     longest_race: int = 9
+    shortest_race: int = 2  # no fair race asks either player for fewer games (rule of thumb)
     usual_race: int = 5
     date_order: str = "day-first"  # or "month-first"
     league_name: str = ""
@@ -110,6 +111,23 @@ class Problem:
 
 
 @dataclass(frozen=True)
+class TuneCheck:
+    """The last check of whether ``secretary tune`` would pay off (kept in the hidden state).
+
+    checked_through : newest result date at the check
+    settings : the settings checked; the suggestion stands only while they are unchanged
+    gain : walk-forward predictive log-loss per game (nats) that the tuned settings would save
+    half_life_days, skill_spread : what tuning found
+    """
+
+    checked_through: dt.date
+    settings: Settings
+    gain: float
+    half_life_days: float
+    skill_spread: float
+
+
+@dataclass(frozen=True)
 class PublishedState:
     """What the previous update published; kept in the workbook's hidden sheet."""
 
@@ -120,6 +138,7 @@ class PublishedState:
     rows: tuple[tuple[str, str], ...]  # (identity, fingerprint) of each result included
     settings: Settings = field(default_factory=Settings)
     previous: "PublishedState | None" = None  # the update before, so its breakdown can be rebuilt
+    tune_check: TuneCheck | None = None  # the last check of whether tuning would pay off
 
 
 def _digest(*parts: object) -> str:

@@ -1,4 +1,7 @@
-"""Choosing the half-life and the skill spread by walk-forward log-loss.
+"""Choosing the half-life and the skill spread by walk-forward predictive log-loss.
+
+The score is ``Evaluation.score``: the log-loss per game of the predictive
+chances (averaged over each step's posterior), what the secretary is shown.
 
 A coarse grid over (half-life, skill spread), then a compass search around
 the best point in log space (each axis stepped by a factor, the factor
@@ -9,13 +12,14 @@ something scores better, so the answer is never worse than what was given.
 """
 from __future__ import annotations
 
+import datetime as dt
 import math
 from dataclasses import dataclass
 from typing import Callable, Sequence
 
 from secretary.errors import Cancelled
 from secretary.model.evaluate import Walk, evaluate, prepare
-from secretary.model.records import Player, Result, Settings
+from secretary.model.records import Player, Result, Settings, TuneCheck
 
 HALF_LIVES = (0.0, 30.0, 60.0, 120.0, 240.0, 480.0, 960.0)  # days; 0 = no ageing
 SPREADS = (50.0, 75.0, 110.0, 160.0, 240.0, 360.0)  # points
@@ -29,7 +33,7 @@ class Tuning:
     Attributes
     ----------
     old_settings, settings : the settings given, and the chosen ones (only half-life and spread differ)
-    old_score, new_score : walk-forward log-loss per game (nats) of each
+    old_score, new_score : walk-forward predictive log-loss per game (nats) of each
     tried : every (half-life days, skill spread points, log-loss) scored, in order
     """
 
@@ -57,11 +61,12 @@ def tune(
     progress: Callable[[int, int], None] | None = None,
     cancel=None,
 ) -> Tuning:
-    """The half-life (days) and skill spread (points) with the lowest walk-forward log-loss.
+    """The half-life (days) and skill spread (points) with the lowest walk-forward predictive log-loss.
 
     Parameters
     ----------
-    data : results, or a ``Walk`` from ``evaluate.prepare``
+    data : results, a ``Walk`` from ``evaluate.prepare``, or a list of walks (then the mean of their scores is
+        minimised: how the shipped defaults were chosen over several leagues)
     settings : the current settings (scored first; every other field is kept)
     players : Players-sheet records (starting ratings)
     step_days : walk step in days
@@ -75,7 +80,10 @@ def tune(
     Cancelled
         when ``cancel`` is set; nothing is chosen.
     """
-    walk = data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days)
+    if isinstance(data, list) and data and all(isinstance(w, Walk) for w in data):
+        walks = data
+    else:
+        walks = [data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days)]
     total = 1 + len(half_lives) * len(spreads) + max(0, int(refine))
     scores: dict[tuple[float, float], float] = {}
     tried: list[tuple[float, float, float]] = []
@@ -86,7 +94,7 @@ def tune(
             if cancel is not None and cancel.is_set():
                 raise Cancelled("Tuning was cancelled; the settings were not changed.")
             trial = settings.replace(half_life_days=float(key[0]), skill_spread=float(key[1]))
-            scores[key] = evaluate(walk, trial, cancel=cancel).log_loss
+            scores[key] = sum(evaluate(w, trial, cancel=cancel).score for w in walks) / len(walks)
             tried.append((float(key[0]), float(key[1]), scores[key]))
             if progress is not None:
                 progress(min(len(tried), total), total)
@@ -130,3 +138,46 @@ def _ratio(values: Sequence[float]) -> float:
     if len(v) < 2:
         return 2.0
     return (v[-1] / v[0]) ** (1.0 / (len(v) - 1))
+
+
+# ------------------------------------------------------------------ when to suggest tuning
+
+SEASON_DAYS = 240  # about one league season (September to April) of results since the last check
+SUGGEST_GAIN = 0.002  # nats per game: the smallest predictive log-loss gain worth a suggestion
+CHECK_HALF_LIVES = (120.0, 480.0, 0.0)  # the check's coarse grid (a quicker tune than `secretary tune`)
+CHECK_SPREADS = (90.0, 150.0, 240.0)
+CHECK_REFINE = 6
+CHECK_STEP_DAYS = 28  # the check walks four weeks at a time: a quarter of the fits of a weekly walk
+CHECK_MOST_PLAYERS = 1000  # larger leagues are not checked during an update (a check would take minutes)
+CHECK_MOST_RESULTS = 20_000
+
+
+def tune_due(first_date: dt.date | None, reference_date: dt.date | None, last: TuneCheck | None, *,
+             players: int = 0, results: int = 0) -> bool:
+    """True when a season (``SEASON_DAYS``) of results has come in since the last check (or since the first result).
+
+    Never for a league over ``CHECK_MOST_PLAYERS`` players or ``CHECK_MOST_RESULTS`` rated results.
+    """
+    if reference_date is None or first_date is None or players > CHECK_MOST_PLAYERS or results > CHECK_MOST_RESULTS:
+        return False
+    since = last.checked_through if last is not None else first_date
+    return (reference_date - since).days >= SEASON_DAYS
+
+
+def check_tuning(data, settings: Settings, reference_date: dt.date, *, players: Sequence[Player] = (),
+                 cancel=None) -> TuneCheck:
+    """A quick tune (a 3 x 3 grid, a short local search, four-week steps) and what it would gain over ``settings``."""
+    found = tune(data, settings, players=players, step_days=CHECK_STEP_DAYS, half_lives=CHECK_HALF_LIVES,
+                 spreads=CHECK_SPREADS, refine=CHECK_REFINE, cancel=cancel)
+    return TuneCheck(reference_date, settings, max(found.old_score - found.new_score, 0.0),
+                     found.settings.half_life_days, found.settings.skill_spread)
+
+
+def tune_advice(check: TuneCheck | None, settings: Settings, workbook: str = "WORKBOOK") -> str:
+    """The suggestion to tune, in plain words ('' when there is none, or the settings changed since the check)."""
+    if check is None or check.settings != settings or check.gain <= SUGGEST_GAIN:
+        return ""
+    return (f"A season of results has come in since the settings were last checked: tuning would make the "
+            f"predictions better (log-loss {check.gain:.3f} per game lower) with Half-life "
+            f"{check.half_life_days:g} days and Skill spread {check.skill_spread:g} points. Run `secretary tune "
+            f"\"{workbook}\" --apply` once, or enter them in League \u25b8 Settings.")

@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 import scipy.linalg as sla
 import scipy.sparse as sp
+import scipy.sparse.linalg as spla
 from scipy.linalg import lapack
 
 from secretary.model.fit import LaplacianPattern, pair_curvature
@@ -80,3 +81,40 @@ def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None) -> np.ndarr
     if groups is None:
         groups = np.zeros(pairs.n_players, dtype=np.int64)
     return approximate_variance(pairs, h, prior_sd, groups)
+
+
+DENSE_CONTRASTS = 1000  # players up to which a dense Cholesky factor is quicker than a sparse LU
+
+
+def contrast_variance(H, coefficients) -> np.ndarray:
+    """``c_i^T H^-1 c_i`` for each row ``c_i`` of ``coefficients`` (exact).
+
+    ``H`` is the SPD Hessian (n x n, sparse or dense), ``coefficients`` an
+    (m, n) array or sparse matrix, e.g. rows ``e_a - e_b`` for the variance of
+    a strength difference.  Dense Cholesky up to ``DENSE_CONTRASTS`` players
+    (``|L^-1 c|^2``), above that a sparse LU of ``H`` (SuperLU, symmetric mode).
+    """
+    C = sp.csr_matrix(coefficients) if sp.issparse(coefficients) else np.atleast_2d(np.asarray(coefficients, float))
+    n, m = H.shape[0], C.shape[0]
+    if m == 0 or n == 0:
+        return np.zeros(m)
+    rhs = C.T.toarray() if sp.issparse(C) else C.T
+    if n <= DENSE_CONTRASTS:
+        dense = H.toarray() if sp.issparse(H) else np.asarray(H, float)
+        y = sla.solve_triangular(sla.cholesky(dense, lower=True), rhs, lower=True, check_finite=False)
+        return np.einsum("ij,ij->j", y, y)
+    lu = spla.splu(sp.csc_matrix(H), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                   options={"SymmetricMode": True})
+    return np.einsum("ij,ij->j", rhs, lu.solve(rhs))
+
+
+def difference_coefficients(a, b, n: int) -> sp.csr_matrix:
+    """Rows ``e_a - e_b`` (one per pair of player indices), for ``contrast_variance``.
+
+    An index outside ``0 .. n - 1`` (e.g. -1 for a player the fit has not met) gets no column.
+    """
+    a, b = np.asarray(a, np.int64), np.asarray(b, np.int64)
+    rows = np.arange(len(a))
+    in_a, in_b = (a >= 0) & (a < n), (b >= 0) & (b < n)
+    values = np.r_[np.ones(in_a.sum()), -np.ones(in_b.sum())]
+    return sp.csr_matrix((values, (np.r_[rows[in_a], rows[in_b]], np.r_[a[in_a], b[in_b]])), shape=(len(a), max(n, 1)))

@@ -13,7 +13,7 @@ from secretary.model.notice import CLOSING, forecast_note, league_title, long_da
 from secretary.model.records import PlayerRating, Settings
 from secretary.report import layout
 
-COLUMNS = ("Match", "Fair race", "Chance at the set race", "Take care")
+COLUMNS = ("Match", "Fair race", "Chance at the set race", "How sure")
 COLUMN_SHARES = (0.30, 0.28, 0.25, 0.17)  # of the page width
 NO_DATE = "date not set"
 NOT_RATED = "not yet rated"

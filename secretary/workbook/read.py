@@ -265,6 +265,11 @@ def _read_settings(sheet: _Sheet | None, reader: _Reader) -> Settings:
         reader.add("error", name, where.get(field_name), col_value, getattr(settings, field_name),
                    f"the usual race ({settings.usual_race}) is longer than the longest race ({settings.longest_race})",
                    "Make the longest race at least as long as the usual race.")
+    if settings.shortest_race > settings.longest_race:
+        field_name = "shortest_race" if "shortest_race" in where else "longest_race"
+        reader.add("error", name, where.get(field_name), col_value, getattr(settings, field_name),
+                   f"the shortest race ({settings.shortest_race}) is longer than the longest race "
+                   f"({settings.longest_race})", "Make the shortest race at most as long as the longest race.")
     return settings
 
 

@@ -175,6 +175,9 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
                 "(0 = games never age).", 0, 36500, aliases=("half-life", "half life")),
     SettingSpec("longest_race", "Longest race", "whole",
                 "The longest race (first to this many games) to suggest for a fair match.", 1, 50),
+    SettingSpec("shortest_race", "Shortest race", "whole",
+                "The shortest race to suggest for a fair match: no player is asked to win fewer games "
+                "(a rule of thumb: shorter races are mostly luck).", 1, 50),
     SettingSpec("usual_race", "Usual race", "whole",
                 "The race the league usually plays, used for predicted chances.", 1, 50),
     SettingSpec("date_order", "Date order", "choice",

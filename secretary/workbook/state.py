@@ -14,7 +14,7 @@ from dataclasses import fields
 
 from openpyxl.workbook.workbook import Workbook
 
-from secretary.model.records import PublishedState, Settings
+from secretary.model.records import PublishedState, Settings, TuneCheck
 from secretary.workbook.schema import STATE_SHEET
 from secretary.workbook.style import put, replace_sheet
 
@@ -31,6 +31,11 @@ def write_state(wb: Workbook, state: PublishedState) -> None:
     document = _document(state)
     if state.previous is not None:  # one update back only: enough to rebuild this update's breakdown
         document["previous"] = _document(state.previous)
+    if state.tune_check is not None:
+        c = state.tune_check
+        document["tune_check"] = {"checked_through": c.checked_through.isoformat(), "settings": _settings(c.settings),
+                                  "gain": float(c.gain), "half_life_days": float(c.half_life_days),
+                                  "skill_spread": float(c.skill_spread)}
     text = json.dumps(document, ensure_ascii=True, separators=(",", ":"))
     ws = replace_sheet(wb, STATE_SHEET)
     put(ws.cell(1, 1), _TITLE)
@@ -47,10 +52,28 @@ def _document(state: PublishedState) -> dict:
         "format": FORMAT,
         "updated_at": state.updated_at,
         "reference_date": state.reference_date.isoformat(),
-        "settings": {f.name: getattr(state.settings, f.name) for f in fields(Settings)},
+        "settings": _settings(state.settings),
         "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
         "rows": [[identity, fp] for identity, fp in state.rows],
     }
+
+
+def _settings(settings: Settings) -> dict:
+    return {f.name: getattr(settings, f.name) for f in fields(Settings)}
+
+
+def _parse_settings(stored: dict) -> Settings:
+    defaults = Settings()
+    return Settings(**{f.name: _same_kind(stored.get(f.name), getattr(defaults, f.name)) for f in fields(Settings)})
+
+
+def _parse_tune_check(doc: object) -> TuneCheck | None:
+    """The stored tune check; None when absent or damaged (it is only run again)."""
+    try:
+        return TuneCheck(dt.date.fromisoformat(doc["checked_through"]), _parse_settings(doc["settings"]),
+                         _finite(doc["gain"]), _finite(doc["half_life_days"]), _finite(doc["skill_spread"]))
+    except Exception:
+        return None
 
 
 def read_state(wb: Workbook) -> PublishedState | None:
@@ -75,11 +98,7 @@ def _parse(doc: dict) -> PublishedState | None:
     ratings, sds = {}, {}
     for name, (rating, sd) in doc["ratings"].items():
         ratings[str(name)], sds[str(name)] = _finite(rating), _finite(sd)
-    defaults = Settings()
-    stored = doc.get("settings", {})
-    settings = Settings(**{
-        f.name: _same_kind(stored.get(f.name), getattr(defaults, f.name)) for f in fields(Settings)
-    })
+    settings = _parse_settings(doc.get("settings", {}))
     rows = tuple((str(identity), str(fp)) for identity, fp in doc["rows"])
     previous = doc.get("previous")
     return PublishedState(
@@ -90,6 +109,7 @@ def _parse(doc: dict) -> PublishedState | None:
         sds=sds,
         rows=rows,
         settings=settings,
+        tune_check=_parse_tune_check(doc.get("tune_check")),
     )
 
 

@@ -1,4 +1,4 @@
-"""The Watch list sheet: separate pools, divisions, players held by the starting rating, linking matches."""
+"""The Watch list sheet: separate pools, divisions, held-back players, linking matches."""
 from __future__ import annotations
 
 from typing import Sequence
@@ -8,7 +8,8 @@ from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
-from secretary.model.linkage import NO_DIVISION, WatchList
+from secretary.model.linkage import WatchList
+from secretary.model.watch_sentences import division_label, listing, more_held
 from secretary.workbook.schema import WATCH_SHEET
 from secretary.workbook.style import DATE_FORMAT, GAMES_FORMAT, RATING_FORMAT, SD_FORMAT, put, replace_sheet
 
@@ -43,7 +44,6 @@ FORMATS = {
     "Rating A": RATING_FORMAT, "Rating B": RATING_FORMAT, "A's chance per game": SHARE_FORMAT,
     "Expected games": GAMES_FORMAT, "± now": SD_FORMAT, "± after": SD_FORMAT,
 }
-SHOWN_NAMES = 12  # players listed by name in one cell before "and N more"
 WIDEST = 40  # characters for data columns; the what-to-do column gets TODO_WIDTH
 TODO_WIDTH = 60
 LINE_POINTS = 15  # height of one wrapped line of the default 11-point font
@@ -53,23 +53,15 @@ BOLD = Font(bold=True)
 HEADING = Font(bold=True, size=13)
 
 
-def _division(name: str) -> str:
-    return name or NO_DIVISION
-
-
-def _listing(names: Sequence[str]) -> str:
-    shown = ", ".join(names[:SHOWN_NAMES])
-    return shown + (f" and {len(names) - SHOWN_NAMES} more" if len(names) > SHOWN_NAMES else "")
-
-
 def _column(position: int, header: str) -> int:
     """Where a column goes: every section's what-to-do lines share one wide, wrapped column on the right."""
     return TODO_COLUMN if header == TODO else position
 
 
 def _section(ws: Worksheet, row: int, title: str, note: str, headers: Sequence[str],
-             rows: Sequence[Sequence[object]], widths: dict[int, int]) -> int:
-    """Heading, one explanatory line, column headers and rows from ``row``; returns the next free row."""
+             rows: Sequence[Sequence[object]], widths: dict[int, int], after: str = "") -> int:
+    """Heading, one explanatory line, column headers, rows and an ``after`` line from ``row``; returns the
+    next free row."""
     put(ws.cell(row, 1), title)
     ws.cell(row, 1).font = HEADING
     put(ws.cell(row + 1, 1), note)
@@ -98,6 +90,9 @@ def _section(ws: Worksheet, row: int, title: str, note: str, headers: Sequence[s
             else:
                 widths[col] = max(widths.get(col, 0), min(len(str(value)) if isinstance(value, str) else 8, WIDEST))
         row += 1
+    if after:
+        put(ws.cell(row, 1), after)
+        row += 1
     return row + 1
 
 
@@ -116,27 +111,29 @@ def write_watch(wb: Workbook, watch: WatchList) -> None:
             ws, row, "Separate pools",
             "These players have played nobody outside their own group, so their ratings can be "
             "compared only with each other.", POOL_HEADERS,
-            [(_listing(p.players), ", ".join(_division(d) for d in p.divisions), p.games, p.level_sd,
+            [(listing(p.players), ", ".join(division_label(d) for d in p.divisions), p.games, p.level_sd,
               p.what_to_do) for p in watch.pools], widths)
     row = _section(
         ws, row, "Divisions",
         "Linked share: how much of a division's level is pinned down by games against other "
         "divisions (0% = only the starting assumption, 100% = fully tied in).", DIVISION_HEADERS,
-        [(_division(d.division), d.players, d.level, d.relative_level, d.level_sd, d.linked_share,
+        [(division_label(d.division), d.players, d.level, d.relative_level, d.level_sd, d.linked_share,
           d.cross_games, d.recent_cross_games, d.linking_players, YES if d.flagged else "",
           d.what_to_do) for d in watch.divisions], widths)
     row = _section(
-        ws, row, "Players held by the starting rating",
+        ws, row, "Held back",
         "Players who keep winning more games than their rating expects: the starting assumption is "
-        "still holding their rating back.", HELD_HEADERS,
-        [(p.name, _division(p.division), p.rating, p.games, p.won, p.expected, p.held_points,
-          p.surplus_z, p.linked_share, YES if p.flagged else "", p.what_to_do) for p in watch.held], widths)
+        "still holding their rating back. Strongest cases first; those whose division is weakly linked "
+        "need attention.", HELD_HEADERS,
+        [(p.name, division_label(p.division), p.rating, p.games, p.won, p.expected, p.held_points,
+          p.surplus_z, p.linked_share, YES if p.flagged else "", p.what_to_do) for p in watch.held], widths,
+        after=more_held(watch.held_not_shown) if watch.held_not_shown else "")
     _section(
         ws, row, "Suggested linking matches",
         "Matches between divisions that would tie weakly linked divisions in fastest. Each line "
         "assumes the lines above it were played.", MATCH_HEADERS,
-        [(m.player_a, _division(m.division_a), m.rating_a, m.player_b, _division(m.division_b), m.rating_b,
-          m.race, m.chance_a, m.expected_games, m.target, m.sd_before, m.sd_after, m.what_to_do)
+        [(m.player_a, division_label(m.division_a), m.rating_a, m.player_b, division_label(m.division_b), m.rating_b,
+          m.race, m.chance_a, m.expected_games, division_label(m.target), m.sd_before, m.sd_after, m.what_to_do)
          for m in watch.suggestions], widths)
     last = max(len(h) for h in (POOL_HEADERS, DIVISION_HEADERS, HELD_HEADERS, MATCH_HEADERS))
     for col in range(1, last + 1):

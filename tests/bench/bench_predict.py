@@ -2,7 +2,10 @@
 
 Run from the repository root: ``python tests/bench/bench_predict.py`` (options:
 ``--sets demo,badminton,tennis``).  Prints one Markdown table: data set x
-method -> log-loss and Brier score per game, games predicted, seconds.  All
+method -> log-loss per game and per race, for point and predictive chances
+(baselines: per game, point only), the predictive Brier score per game, a
+calibration summary, games and races predicted, seconds; then the predictive
+calibration tables of the shipped defaults.  All
 methods walk the same steps and predict the same games in the same order
 (see ``tests/bench/baselines.py``).  The engine is scored with the shipped
 defaults, with the settings tuned on the demo league, and with settings tuned
@@ -43,49 +46,91 @@ SETS = {
 }
 
 
-def engine_row(walk, settings: Settings, label: str) -> baselines.Score:
+def calibration_gap(bands, share: float = 0.01) -> float:
+    """Largest |predicted - observed| over the bands holding at least ``share`` of the predictions."""
+    total = sum(b.games for b in bands)
+    return max((abs(b.predicted - b.observed) for b in bands if b.games >= share * total), default=float("nan"))
+
+
+def engine_row(walk, settings: Settings, label: str) -> dict:
     start = time.perf_counter()
     ev = evaluate(walk, settings)
-    return baselines.Score(f"{label}: half-life {settings.half_life_days:g} d, spread {settings.skill_spread:g}",
-                           ev.log_loss, ev.brier, ev.games, ev.matches, time.perf_counter() - start)
+    return dict(method=f"{label}: half-life {settings.half_life_days:g} d, spread {settings.skill_spread:g}",
+                point=ev.log_loss, predictive=ev.predictive.log_loss, race=ev.race.log_loss,
+                predictive_race=ev.predictive_race.log_loss, brier=ev.predictive.brier,
+                gap=calibration_gap(ev.predictive.calibration), race_gap=calibration_gap(ev.predictive_race.calibration),
+                games=ev.games, matches=ev.matches, races=ev.predictive_race.count,
+                seconds=time.perf_counter() - start, evaluation=ev)
 
 
-def bench(name: str, demo_settings: Settings | None) -> tuple[list[baselines.Score], Settings, float]:
+def baseline_row(score: baselines.Score) -> dict:
+    return dict(method=score.method, point=score.log_loss, brier=score.brier, games=score.games,
+                matches=score.matches, seconds=score.seconds)
+
+
+def bench(name: str, demo_settings: Settings | None) -> tuple[list[dict], Settings, float]:
     """Every method on one set; also the settings tuned on it and the tuning time."""
     results, players = SETS[name]()
     walk = prepare(results, players=players)
     start = time.perf_counter()
     tuned = tune(walk).settings
     tune_seconds = time.perf_counter() - start
-    rows = [baselines.coin(walk), engine_row(walk, Settings(), "engine, shipped defaults")]
+    rows = [baseline_row(baselines.coin(walk)), engine_row(walk, Settings(), "engine, shipped defaults")]
     if demo_settings is not None and name != "demo":
         rows.append(engine_row(walk, demo_settings, "engine, demo-tuned"))
     rows.append(engine_row(walk, tuned, f"engine, tuned here ({tune_seconds:.1f} s)"))
-    rows += [baselines.best_elo(walk), baselines.glicko_2(walk), baselines.true_skill(walk),
-             baselines.best_whr(walk)]
+    rows += [baseline_row(s) for s in (baselines.best_elo(walk), baselines.glicko_2(walk),
+                                       baselines.true_skill(walk), baselines.best_whr(walk))]
     return rows, tuned, tune_seconds
+
+
+def _cell(row: dict, key: str, fmt: str) -> str:
+    return format(row[key], fmt) if key in row else "-"
+
+
+HEADER = ("| data set | method | log-loss per game: point | predictive | per race: point | predictive "
+          "| Brier per game | calibration gap: games | races | games | races | seconds |")
+
+
+def table_row(name: str, r: dict) -> str:
+    cells = [_cell(r, k, ".4f") for k in ("point", "predictive", "race", "predictive_race", "brier")]
+    cells += [_cell(r, k, ".3f") for k in ("gap", "race_gap")]
+    races = _cell(r, "races", ",.0f")
+    return f"| {name} | {r['method']} | {' | '.join(cells)} | {r['games']:,.0f} | {races} | {r['seconds']:.2f} |"
+
+
+def calibration_lines(name: str, ev) -> list[str]:
+    """The predictive calibration of one set, per game and per race, band by band."""
+    lines = [f"{name}, shipped defaults: predictive calibration (band: predicted / happened, count)"]
+    for what, bands in (("per game", ev.predictive.calibration), ("per race", ev.predictive_race.calibration)):
+        cells = [f"{b.low:.0%}-{b.high:.0%}: {b.predicted:.3f} / {b.observed:.3f} ({b.games:,.0f})"
+                 for b in bands if b.games]
+        lines.append(f"  {what}: " + "; ".join(cells))
+    return lines
 
 
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--sets", default="demo,badminton,tennis", help="comma-separated: demo, badminton, tennis")
     args = parser.parse_args(argv)
-    print("| data set | method | log-loss | Brier | games | matches | seconds |")
-    print("|---|---|---|---|---|---|---|")
-    demo_settings = None
+    print(HEADER)
+    print("|" + "---|" * (HEADER.count("|") - 1))
+    demo_settings, notes = None, []
     for name in args.sets.split(","):
         try:
             rows, tuned, _ = bench(name, demo_settings)
         except pytest.skip.Exception as why:
-            print(f"| {name} | skipped: {why} | | | | | |")
+            print(f"| {name} | skipped: {why} |" + " |" * (HEADER.count("|") - 3))
             continue
         if name == "demo":
             demo_settings = tuned
         for r in rows:
-            print(f"| {name} | {r.method} | {r.log_loss:.4f} | {r.brier:.4f} | {r.games:,.0f} | {r.matches:,} "
-                  f"| {r.seconds:.2f} |", flush=True)
+            print(table_row(name, r), flush=True)
+        notes += calibration_lines(name, rows[1]["evaluation"])
+    print("\ncalibration gap = largest |predicted - happened| over the bands holding at least 1 % of the "
+          "predictions (predictive chances)")
+    print("\n".join(notes))
     return 0
-
 
 if __name__ == "__main__":
     sys.exit(main())

@@ -1,4 +1,4 @@
-"""Fixture forecasts: per-game chance, race chance, fair race and the flags."""
+"""Fixture forecasts: point and predictive chances, the fair race, and how sure each forecast is."""
 import dataclasses
 import datetime as dt
 import math
@@ -8,7 +8,10 @@ import pytest
 
 from secretary.model.fixtures import forecast, forecast_fixtures
 from secretary.model.league import fit_league
-from secretary.model.races import fair_race_for_chance, race_chance
+from scipy.special import betainc, expit
+
+from secretary.model.fit import hessian
+from secretary.model.races import fair_race_predictive, predictive_race_chance
 from secretary.model.records import Fixture, Result, Settings
 from secretary.model.scale import to_strength
 
@@ -35,19 +38,20 @@ def test_game_chance_on_the_400_point_scale():
     fit = league(strengths={"Ann Regular": 1600.0, "Bea Regular": 1500.0})
     fc = forecast(Fixture(DAY, "Ann Regular", "Bea Regular"), fit)
     # Source: US Chess Federation rating system (Glickman), E = 1 / (1 + 10 ** (-D / 400)): D = 100 -> 0.6401.
-    assert fc.game_chance == pytest.approx(0.6401, abs=5e-5)
+    assert fc.point_game_chance == pytest.approx(0.6401, abs=5e-5)
+    assert 0.5 < fc.game_chance < fc.point_game_chance  # the uncertainty pulls the shown chance toward 1/2
 
 
 def test_chance_at_the_given_race():
     gap = 400.0 * math.log10(1.5)  # per-game chance 0.6
     fit = league(strengths={"Ann Regular": 1500.0 + gap, "Bea Regular": 1500.0})
     fc = forecast(Fixture(DAY, "Ann Regular", "Bea Regular", 4, 4), fit)
-    assert fc.game_chance == pytest.approx(0.6, abs=1e-12)
+    assert fc.point_game_chance == pytest.approx(0.6, abs=1e-12)
     # Source: S. Ross, A First Course in Probability, problem 4.72: p = 0.6, first to 4 -> 0.710208.
-    assert (fc.race_a, fc.race_b) == (4, 4) and fc.race_chance == pytest.approx(0.710208, abs=5e-7)
+    assert (fc.race_a, fc.race_b) == (4, 4) and fc.point_race_chance == pytest.approx(0.710208, abs=5e-7)
     fc = forecast(Fixture(DAY, "Ann Regular", "Bea Regular", 3, 5), fit)
     # Source: checks.md section 4, scipy.stats.nbinom.cdf(4, 3, 0.6) -> 0.903744.
-    assert fc.race_chance == pytest.approx(0.903744, abs=5e-7)
+    assert fc.point_race_chance == pytest.approx(0.903744, abs=5e-7)
 
 
 def test_usual_race_when_the_fixture_gives_none():
@@ -56,16 +60,18 @@ def test_usual_race_when_the_fixture_gives_none():
     fit = league(settings, strengths={"Ann Regular": 1500.0 + gap, "Bea Regular": 1500.0})
     fc = forecast(Fixture(None, "Ann Regular", "Bea Regular"), fit)
     # Source: S. Ross, A First Course in Probability, problem 4.72: p = 0.6, first to 2 -> 0.648.
-    assert (fc.race_a, fc.race_b) == (2, 2) and fc.race_chance == pytest.approx(0.648, abs=1e-12)
+    assert (fc.race_a, fc.race_b) == (2, 2) and fc.point_race_chance == pytest.approx(0.648, abs=1e-12)
 
 
 def test_fair_race_up_to_the_longest_race():
     settings = Settings(longest_race=7)
     fit = league(settings, strengths={"Ann Regular": 1700.0, "Cal Regular": 1450.0})
     fc = forecast(Fixture(DAY, "Ann Regular", "Cal Regular"), fit)
-    assert (fc.fair_race_a, fc.fair_race_b) == fair_race_for_chance(fc.game_chance, 7)
-    assert fc.fair_race_a > fc.fair_race_b and max(fc.fair_race_a, fc.fair_race_b) <= 7
-    assert fc.fair_chance == pytest.approx(race_chance(fc.game_chance, fc.fair_race_a, fc.fair_race_b))
+    mean = fit.r[fit.index("Ann Regular")] - fit.r[fit.index("Cal Regular")]
+    var = fc.difference_sd**2
+    assert (fc.fair_race_a, fc.fair_race_b) == fair_race_predictive(mean, var, 7, settings.shortest_race)
+    assert fc.fair_race_a > fc.fair_race_b >= settings.shortest_race and max(fc.fair_race_a, fc.fair_race_b) <= 7
+    assert fc.fair_chance == pytest.approx(predictive_race_chance(mean, var, fc.fair_race_a, fc.fair_race_b))
     assert abs(fc.fair_chance - 0.5) < abs(fc.race_chance - 0.5)
 
 
@@ -77,9 +83,13 @@ def test_flags_for_few_games_and_unknown_players():
     assert not regular.uncertain and regular.not_rated == ()
     assert seldom.uncertain and seldom.not_rated == ()  # five games: rated, but uncertain
     assert stranger.uncertain and stranger.not_rated == ("Eve Stranger",)
-    # A player not yet rated is taken at the centre (strength 0).
-    r_b = fit.r[fit.index("Bea Regular")]
-    assert stranger.game_chance == pytest.approx(1.0 / (1.0 + np.exp(r_b)), abs=1e-12)
+    # A player not yet rated is taken at the centre (strength 0) with the prior's variance, independent of B.
+    k = fit.index("Bea Regular")
+    assert stranger.point_game_chance == pytest.approx(1.0 / (1.0 + np.exp(fit.r[k])), abs=1e-12)
+    H = hessian(fit.pairs, fit.r, fit.prior_sd).toarray()
+    assert stranger.difference_sd**2 == pytest.approx(np.linalg.inv(H)[k, k] + fit.prior_sd**2, rel=1e-10)
+    assert stranger.care == "far off" and stranger.least_known == ("Eve Stranger", 0.0)
+    assert regular.care == "" and seldom.least_known[0] == "Dot Seldom"
 
 
 def test_many_fixtures_keep_their_order():
@@ -90,3 +100,45 @@ def test_many_fixtures_keep_their_order():
     assert [fc.fixture for fc in out] == fixtures
     swapped = forecast(Fixture(DAY, "Bea Regular", "Ann Regular"), fit)
     assert out[0].game_chance == pytest.approx(1 - swapped.game_chance)
+    assert out[0].race_chance == pytest.approx(1 - swapped.race_chance, abs=1e-12)
+
+
+def test_predictive_chances_against_a_monte_carlo_average_over_the_posterior():
+    fit = league()
+    fc = forecast(Fixture(DAY, "Dot Seldom", "Bea Regular", 5, 4), fit)
+    # Source: Monte Carlo over 10^6 numpy draws of all strengths from N(r, H^-1) (numpy.linalg.inv of the Hessian).
+    H = hessian(fit.pairs, fit.r, fit.prior_sd).toarray()
+    draws = np.random.default_rng(1).multivariate_normal(fit.r, np.linalg.inv(H), 1_000_000, method="cholesky")
+    d = draws[:, fit.index("Dot Seldom")] - draws[:, fit.index("Bea Regular")]
+    assert fc.game_chance == pytest.approx(expit(d).mean(), abs=1e-3)
+    assert fc.race_chance == pytest.approx(betainc(5, 4, expit(d)).mean(), abs=1e-3)
+    assert fc.difference_sd == pytest.approx(d.std(), rel=3e-3)
+    assert abs(fc.race_chance - 0.5) < abs(fc.point_race_chance - 0.5)
+
+
+def test_shortest_race_setting():
+    fit = league(Settings(shortest_race=3), strengths={"Ann Regular": 1900.0, "Bea Regular": 1400.0})
+    fc = forecast(Fixture(DAY, "Ann Regular", "Bea Regular"), fit)
+    assert min(fc.fair_race_a, fc.fair_race_b) == 3  # without the floor the fairest race gives B a single game
+    assert min(fair_race_predictive(0.0 + fit.r[0] - fit.r[1], fc.difference_sd**2, 9, 1)) < 3
+
+
+def test_a_demo_newcomers_chance_is_pulled_toward_even_by_the_monte_carlo_amount():
+    from secretary.workbook.read import read_workbook
+    from tests.bench.demo_league import DEMO, demo_league
+
+    results, players = demo_league()
+    book = read_workbook(DEMO)
+    fit = fit_league(results, book.settings, players=players)
+    fc = next(f for f in forecast_fixtures(book.fixtures, fit) if f.fixture.player_a == "Yvette Marwood")
+    a, b = fc.fair_race_a, fc.fair_race_b
+    # Source: Monte Carlo over 10^6 numpy draws of every strength from N(r, H^-1) (numpy.linalg.inv of the Hessian).
+    H = hessian(fit.pairs, fit.r, fit.prior_sd).toarray()
+    draws = np.random.default_rng(1).multivariate_normal(fit.r, np.linalg.inv(H), 1_000_000, method="cholesky")
+    d = draws[:, fit.index("Yvette Marwood")] - draws[:, fit.index("Oscar Penrice")]
+    point = float(betainc(a, b, expit(fit.r[fit.index("Yvette Marwood")] - fit.r[fit.index("Oscar Penrice")])))
+    pull_mc = float(betainc(a, b, expit(d)).mean()) - point
+    assert fc.fair_chance - point == pytest.approx(pull_mc, abs=1e-3)
+    assert pull_mc > 0.015 and fc.fair_chance < 0.5  # toward 50 %, by about two points (measured 0.022)
+    assert fc.game_chance - fc.point_game_chance == pytest.approx(float(expit(d).mean()) - fc.point_game_chance,
+                                                                  abs=1e-3)

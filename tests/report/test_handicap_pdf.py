@@ -1,11 +1,10 @@
 """The handicap card, read back with poppler: every fixture's players, fair race, chance and flags."""
 import pytest
 from PIL import Image
-from scipy.stats import nbinom
 
 from secretary.model.notice import CLOSING
 from secretary.report.handicap import chance_text, fair_race_text, write_handicap_pdf
-from tests.invented_league import SETTINGS, forecasts, two_updates
+from tests.invented_league import SETTINGS, chance_by_integral, forecasts, two_updates
 from tests.report.poppler import A4_POINTS, LETTER_POINTS, needs_poppler, page_points, pdf_text, render_page, squeeze
 
 pytestmark = needs_poppler
@@ -37,23 +36,24 @@ def test_every_fixture_in_plain_words(league, card):
         for name in (a, b):
             shown = f"{rated[name].rating:.0f} ± {rated[name].sd:.0f}" if name in rated else "not yet rated"
             assert squeeze(f"{name} {shown}") in text
-    assert squeeze("not yet rated: Otto Newman") in text
-    assert squeeze("uncertain: few games") in text
+    assert squeeze("Otto Newman is not rated yet: this chance is a rough guess") in text
+    assert squeeze("Nia Quell has 7 games: this chance could be far off") in text
     assert squeeze("17 March 2026") in text and squeeze("18 March 2026") in text
     for line in CLOSING:
         assert squeeze(line) in text
 
 
 def test_chance_printed_matches_an_independent_race_formula(league, card):
-    """A's chance at the set race, from the per-game chance: first to a before the other gets b.
+    """A's chance at the set race: first to a before the other gets b, averaged over the posterior.
 
-    Source: checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p).
+    Source: checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p),
+    integrated over the difference's normal posterior by the trapezoid rule.
     """
     _, fcs = league
     text = squeeze(pdf_text(card))
     for fc in fcs:
-        chance = nbinom.cdf(fc.race_b - 1, fc.race_a, fc.game_chance)
-        assert chance == pytest.approx(fc.race_chance, abs=1e-9)
+        chance = chance_by_integral(fc, fc.race_a, fc.race_b)
+        assert chance == pytest.approx(fc.race_chance, abs=1e-6)
         assert squeeze(f"{fc.fixture.player_a} wins {chance:.0%}") in text
     handicap = [fc for fc in fcs if fc.fixture.race_a is not None]
     assert squeeze("=Dev Pike to 5, Kit Ellis to 4: =Dev Pike wins") in text and handicap

@@ -4,10 +4,10 @@ import datetime as dt
 import pytest
 from openpyxl import Workbook, load_workbook
 from openpyxl.styles import Font
-from scipy.stats import nbinom
+
 
 from secretary.workbook.fixtures_sheet import CHANCE, FAIR_A, FAIR_B, NOTE, TOOL_HEADERS, write_fixture_columns
-from tests.invented_league import FIXTURES, SETTINGS, forecasts, two_updates
+from tests.invented_league import FIXTURES, SETTINGS, chance_by_integral, forecasts, two_updates
 
 TITLE_ROWS = 1  # a title line above the headers, as secretaries like to write
 HEADERS = ("Date", "Player A", "Player B", "Race A", "Race B", "Venue", "Referee")
@@ -82,14 +82,15 @@ def test_values_formats_and_notes(tmp_path, results):
         r = fc.fixture.row
         assert ws.cell(r, 2).value == fc.fixture.player_a
         chance = ws.cell(r, where[CHANCE])
-        # A's chance of getting race_a games first. Source: checks.md section 4 (scipy.stats.nbinom.cdf(b-1, a, p)).
-        assert chance.value == pytest.approx(nbinom.cdf(fc.race_b - 1, fc.race_a, fc.game_chance), abs=1e-9)
+        # A's chance of getting race_a games first, averaged over the posterior of the difference.
+        # Source: checks.md section 4 (scipy.stats.nbinom.cdf(b-1, a, p)), integrated by the trapezoid rule.
+        assert chance.value == pytest.approx(chance_by_integral(fc, fc.race_a, fc.race_b), abs=1e-6)
         assert chance.number_format == "0%"
         assert (ws.cell(r, where[FAIR_A]).value, ws.cell(r, where[FAIR_B]).value) == (fc.fair_race_a, fc.fair_race_b)
     notes = {ws.cell(fc.fixture.row, 2).value: ws.cell(fc.fixture.row, where[NOTE]).value for fc in fcs}
-    assert notes["Otto Newman"] == "not yet rated: Otto Newman"
-    assert notes["Nia Quell"] == "uncertain: few games"
-    assert notes["Zoë Ångström"] is None
+    assert notes["Otto Newman"] == "Otto Newman is not rated yet: this chance is a rough guess"
+    assert notes["Nia Quell"] == "Nia Quell has 7 games: this chance could be far off"
+    assert {notes[fc.fixture.player_a] for fc in fcs if fc.care == ""} <= {None}
 
 
 def test_second_run_finds_its_columns_and_clears_stale_rows(tmp_path, results):

@@ -1,4 +1,5 @@
 """The very-hidden state sheet: exact round trip, tolerance of damage, and 100 000 result rows."""
+import dataclasses
 import datetime as dt
 import hashlib
 import re
@@ -7,7 +8,7 @@ import time
 import pytest
 from openpyxl import Workbook, load_workbook
 
-from secretary.model.records import PublishedState, Settings
+from secretary.model.records import PublishedState, Settings, TuneCheck
 from secretary.workbook.schema import STATE_SHEET
 from secretary.workbook.state import read_state, write_state
 
@@ -100,3 +101,15 @@ def test_hundred_thousand_rows_round_trip_quickly(tmp_path):
     # Measured about 2 s here; one sheet row per result took 20 s for the same round trip.
     assert elapsed < 8, elapsed
     assert wb[STATE_SHEET].max_row < 200  # compact: about 800 result rows per cell
+
+
+def test_the_tune_check_round_trips_and_a_damaged_one_is_dropped(tmp_path):
+    check = TuneCheck(dt.date(2026, 3, 12), Settings(skill_spread=60.0), 0.0051234567890123, 679.0, 150.0)
+    state = dataclasses.replace(_state(), tune_check=check)
+    assert read_state(_round_trip(state, tmp_path)) == state
+    wb = Workbook()
+    write_state(wb, state)
+    ws = wb[STATE_SHEET]
+    ws.cell(3, 2).value = ws.cell(3, 2).value.replace('"gain":0.0051234567890123', '"gain":"x"')
+    back = read_state(wb)
+    assert back is not None and back.tune_check is None and back.ratings == state.ratings

@@ -1,5 +1,6 @@
 """The Watch list sheet: its sections, plain headers, what-to-do lines, and names kept as text."""
 import csv
+import dataclasses
 import datetime as dt
 import itertools
 import shutil
@@ -68,7 +69,7 @@ def saved(tmp_path, watch):
 
 def test_sections_in_order_with_plain_headers(saved, watch):
     ws = load_workbook(saved)[WATCH_SHEET]
-    titles = ["Separate pools", "Divisions", "Players held by the starting rating", "Suggested linking matches"]
+    titles = ["Separate pools", "Divisions", "Held back", "Suggested linking matches"]
     rows = [column_a(ws).index(t) for t in titles]
     assert rows == sorted(rows)  # the separate pool is called out first
     for title, headers in zip(titles, (POOL_HEADERS, DIVISION_HEADERS, HELD_HEADERS, MATCH_HEADERS)):
@@ -90,7 +91,7 @@ def test_rows_carry_the_numbers_and_what_to_do(saved, watch):
     assert ws.cell(row + 1, headers.index("Linked share") + 1).number_format == "0%"
     assert first["What to do"] == valley.what_to_do and "Valley" in first["What to do"]
 
-    row, headers = header_row_after(ws, "Players held by the starting rating")
+    row, headers = header_row_after(ws, "Held back")
     held = {h: ws.cell(row + 1, c).value for c, h in enumerate(headers, start=1)}
     assert held["Player"] == "=Ada Moss" and held["Needs attention"] == "yes"
     assert "outside Valley" in held["What to do"]
@@ -99,6 +100,15 @@ def test_rows_carry_the_numbers_and_what_to_do(saved, watch):
     shown = [ws.cell(row + 1 + k, 1).value for k in range(len(watch.suggestions))]
     assert shown == [m.player_a for m in watch.suggestions] and len(shown) == Settings().linking_matches
     assert ws.cell(row + 1 + len(shown), 1).value is None
+
+
+def test_a_capped_held_back_list_says_how_many_more(tmp_path, watch):
+    wb = Workbook()
+    write_watch(wb, dataclasses.replace(watch, held_not_shown=7))
+    ws = wb[WATCH_SHEET]
+    row, _ = header_row_after(ws, "Held back")
+    assert ws.cell(row + 1 + len(watch.held), 1).value == "and 7 more held back (weaker cases, not listed)"
+    assert column_a(ws).index("Suggested linking matches") > row + 1 + len(watch.held)
 
 
 def test_formula_like_names_stay_text(saved):

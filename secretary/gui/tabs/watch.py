@@ -10,8 +10,9 @@ from secretary.gui.widgets import Table
 PARTS = (
     ("Divisions", views.DIVISION_COLUMNS,
      "How well each division's level is tied to the rest by games between divisions."),
-    ("Players held back", views.HELD_COLUMNS,
-     "Players whose rating the starting assumption is holding back: their results run ahead of it."),
+    ("Held back", views.HELD_COLUMNS,
+     "Players whose results run ahead of their rating: the starting assumption (the prior) is holding them "
+     "back. Strongest cases first."),
     ("Suggested linking matches", views.SUGGESTION_COLUMNS,
      "Matches across divisions that would pin the weakest-tied levels down best."),
 )

@@ -1,0 +1,58 @@
+"""Choose the shipped defaults: the settings with the lowest mean walk-forward predictive log-loss over three sets.
+
+Run from the repository root: ``python tests/bench/choose_defaults.py``.  The
+sets are the invented demo league and the two real sets read from
+``../shared/data`` (badminton men's singles 2018-2021, a public dataset by
+SanderP99, CC0 mirror; men's professional tennis 2019, JeffSackmann/tennis_atp,
+CC BY-NC-SA 4.0), weighted equally (mean of the three per-game predictive
+log-losses), searched by ``secretary.model.tune.tune`` over a list of walks.
+Prints every setting tried with the three scores and the chosen one; the
+result goes into ``secretary/model/records.py`` by hand.
+"""
+from __future__ import annotations
+
+import os
+
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")  # small dense solves on a busy machine
+os.environ.setdefault("OMP_NUM_THREADS", "1")
+
+import argparse  # noqa: E402
+import sys  # noqa: E402
+import time  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+
+from secretary.model.evaluate import prepare  # noqa: E402
+from secretary.model.records import Settings  # noqa: E402
+from secretary.model.tune import tune  # noqa: E402
+from tests.bench.bench_predict import SETS  # noqa: E402
+
+HALF_LIVES = (240.0, 480.0, 960.0, 0.0)
+SPREADS = (110.0, 160.0, 240.0)
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--refine", type=int, default=12, help="walks of local search after the grid")
+    args = parser.parse_args(argv)
+    walks = [prepare(*SETS[name]()[:1], players=SETS[name]()[1]) for name in ("demo", "badminton", "tennis")]
+    start = time.perf_counter()
+
+    def progress(done, total):
+        print(f"  {done}/{total} settings scored, {time.perf_counter() - start:.0f} s", file=sys.stderr, flush=True)
+
+    result = tune(walks, Settings(), half_lives=HALF_LIVES, spreads=SPREADS, refine=args.refine, progress=progress)
+    print("| half-life (days) | skill spread | mean predictive log-loss |")
+    print("|---|---|---|")
+    for h, s, score in sorted(result.tried, key=lambda t: t[2]):
+        print(f"| {h:g} | {s:g} | {score:.5f} |")
+    chosen = result.settings
+    print(f"chosen: half-life {chosen.half_life_days:g} days, skill spread {chosen.skill_spread:g} points "
+          f"(mean {result.new_score:.5f}; the starting settings scored {result.old_score:.5f}); "
+          f"{time.perf_counter() - start:.0f} s")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
