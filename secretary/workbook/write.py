@@ -6,7 +6,7 @@ from typing import Sequence
 
 from openpyxl.chart import LineChart, Reference
 from openpyxl.chart.data_source import AxDataSource, StrRef
-from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.workbook.workbook import Workbook
 
 from secretary.model.records import PlayerRating, Problem, Settings, UpdateLog
@@ -88,8 +88,8 @@ def write_history(wb: Workbook, date: dt.date, ratings: Sequence[PlayerRating]) 
     rows = [[names[k], *(history[d].get(k) for d in dates)] for k in now_rated + others]
     headers = ["Player", *(d.isoformat() for d in dates)]
     ws = replace_sheet(wb, HISTORY_SHEET)
-    write_table(ws, headers, rows, freeze="B2", formats={h: RATING_FORMAT for h in headers[1:]})
-    _add_chart(ws, len(headers), min(CHART_PLAYERS, len(now_rated)))
+    count = write_table(ws, headers, rows, freeze="B2", formats={h: RATING_FORMAT for h in headers[1:]})
+    _add_chart(ws, len(headers), min(CHART_PLAYERS, len(now_rated)), count + 3)
 
 
 def _read_history(wb: Workbook) -> tuple[dict[str, str], dict[dt.date, dict[str, float]]]:
@@ -124,8 +124,9 @@ def _as_date(text: str) -> dt.date | None:
         return None
 
 
-def _add_chart(ws, n_columns: int, n_players: int) -> None:
-    """A line chart of the top players' ratings over the update dates (straight lines)."""
+def _add_chart(ws, n_columns: int, n_players: int, below: int) -> None:
+    """A line chart of the top players' ratings over the update dates (straight lines), from row ``below`` down,
+    on a printed page of its own (a page break above it; it is shorter than a page)."""
     if n_players == 0:
         return
     chart = LineChart()
@@ -143,7 +144,8 @@ def _add_chart(ws, n_columns: int, n_players: int) -> None:
     for series in chart.series:
         series.cat = dates  # the date headers are text, so a text reference (numRef would show 1, 2, 3)
         series.smooth = False  # a rating moves in steps between updates; a curve would invent values
-    ws.add_chart(chart, f"{get_column_letter(n_columns + 2)}2")
+    ws.add_chart(chart, f"A{below}")
+    ws.row_breaks.append(Break(id=below - 1))
 
 
 def write_log(wb: Workbook, entry: UpdateLog) -> None:
