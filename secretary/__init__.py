@@ -5,7 +5,7 @@ The scripting API (names kept stable):
     rate(results, *, centre=1500, scale=400, skill_spread=None,
          half_life_days=None, starting=None) -> Ratings
     race_chance(p, a, b) -> float
-    fair_race(rating_a, rating_b, *, longest=9, scale=400) -> (a, b)
+    fair_race(rating_a, rating_b, *, longest=9, shortest=2, scale=400) -> (a, b)
 """
 from secretary.api import Ratings, fair_race, race_chance, rate
 

@@ -3,11 +3,16 @@ from __future__ import annotations
 
 import datetime as dt
 import numbers
-from typing import Iterable, Mapping
+import operator
+from typing import Iterable, Mapping, Sequence
 
-from secretary.model.league import LeagueFit, fit_league
+import numpy as np
+
+from secretary.model.league import LeagueFit, fit_matches
+from secretary.model.matches import Matches, factorise, from_results
 from secretary.model.races import fair_race, race_chance
 from secretary.model.records import Player, Result, Settings
+from secretary.threads import native_threads_limited
 
 __all__ = ["rate", "race_chance", "fair_race", "Ratings"]
 
@@ -58,6 +63,44 @@ def _check_row(k: int, row) -> Result:
     return Result(date, a.strip(), b.strip(), int(ga), int(gb))
 
 
+class _Unusual(Exception):
+    """A row the column checks do not pass: the row-by-row checks find it (or accept it) instead."""
+
+
+def _columns(rows: Sequence, known: Sequence[str]) -> Matches:
+    """The rows checked and turned into columns by whole-column passes (no per-row Python checks)."""
+    if set(map(len, rows)) - {5}:
+        raise _Unusual
+    m = len(rows)
+    dates, a, b, games_a, games_b = (tuple(map(operator.itemgetter(k), rows)) for k in range(5))
+    if set(map(type, dates)) - {dt.date, dt.datetime} or set(map(type, a + b)) - {str}:
+        raise _Unusual
+    sides = [""] * (2 * m)
+    sides[0::2], sides[1::2] = map(str.strip, a), map(str.strip, b)
+    names, both = factorise(sides, known)
+    idx_a, idx_b = both[0::2].copy(), both[1::2].copy()
+    if set(map(type, games_a + games_b)) - {int} or "" in names[len(known):] or np.any(idx_a == idx_b):
+        raise _Unusual
+    try:
+        ga, gb = np.array(games_a, dtype=np.int64), np.array(games_b, dtype=np.int64)
+    except OverflowError:
+        raise _Unusual from None
+    if np.any(ga < 0) or np.any(gb < 0) or np.any((ga == 0) & (gb == 0)):
+        raise _Unusual
+    return Matches(names, idx_a, idx_b, ga.astype(float), gb.astype(float),
+                   np.fromiter(map(dt.date.toordinal, dates), np.int64, m),
+                   np.zeros(m, dtype=np.int64), ("",) if m else ())
+
+
+def _checked(results: Iterable[tuple], players: Sequence[Player]) -> Matches:
+    """Columns of the checked results; a bad row raises ``ValueError`` naming it."""
+    rows = results if isinstance(results, (list, tuple)) else list(results)
+    try:
+        return _columns(rows, [p.name for p in players])
+    except (_Unusual, TypeError):
+        return from_results([_check_row(k, row) for k, row in enumerate(rows)], players)
+
+
 def rate(
     results: Iterable[tuple],
     *,
@@ -73,7 +116,6 @@ def rate(
     defaults (``Settings``); ``starting`` maps names to known starting ratings.
     A bad row raises ``ValueError`` naming the row and the problem.
     """
-    rows = [_check_row(k, row) for k, row in enumerate(results)]
     defaults = Settings()
     settings = Settings(
         centre=float(centre),
@@ -84,4 +126,5 @@ def rate(
     if settings.scale <= 0 or settings.skill_spread <= 0 or settings.half_life_days < 0:
         raise ValueError("scale and skill_spread must be positive and half_life_days 0 or more")
     players = [Player(name.strip(), starting=float(value)) for name, value in (starting or {}).items()]
-    return Ratings(fit_league(rows, settings, players=players))
+    with native_threads_limited():
+        return Ratings(fit_matches(_checked(results, players), settings, players=players))

@@ -13,6 +13,7 @@ from pathlib import Path
 
 from secretary import __version__
 from secretary.errors import SecretaryError, WorkbookProblems
+from secretary.threads import limit_native_threads
 
 EXIT_DONE, EXIT_PROBLEMS, EXIT_USAGE, EXIT_BUG = 0, 1, 2, 3
 
@@ -297,6 +298,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv=None) -> int:
+    limit_native_threads()
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
@@ -304,6 +306,7 @@ def main(argv=None) -> int:
         return int(stop.code or 0)
     if getattr(args, "run", None) is None:
         return open_window(None)
+    before = _file_mark(getattr(args, "workbook", None))
     try:
         return args.run(args)
     except WorkbookProblems as err:
@@ -314,15 +317,30 @@ def main(argv=None) -> int:
         print(err, file=sys.stderr)
         return EXIT_PROBLEMS
     except KeyboardInterrupt:
-        print("Stopped; the workbook was not changed.", file=sys.stderr)
+        changed = before is not None and _file_mark(args.workbook) != before
+        print("Stopped; " + ("the workbook had already been saved." if changed else "the workbook was not changed."),
+              file=sys.stderr)
         return EXIT_PROBLEMS
     except Exception:  # a bug: never a traceback on screen
         from secretary.userdirs import log_exception
 
         log = log_exception(f"secretary {' '.join(argv or sys.argv[1:])}")
-        print(f"Something went wrong inside secretary; the workbook was not changed. "
+        changed = before is not None and _file_mark(args.workbook) != before
+        said = ("the workbook was saved before the problem, so it holds this run's results"
+                if changed else "the workbook was not changed")
+        print(f"Something went wrong inside secretary; {said}. "
               f"The details are in the log file at {log}", file=sys.stderr)
         return EXIT_BUG
+
+
+def _file_mark(path) -> tuple[int, int] | None:
+    """Size and modification time of the file at ``path`` (a symbolic link's target), to tell truthfully
+    whether a run that failed had already saved it; None when there is no such file."""
+    try:
+        info = Path(path).stat() if path else None
+    except OSError:
+        return None
+    return (info.st_size, info.st_mtime_ns) if info else None
 
 
 def open_window(workbook) -> int:

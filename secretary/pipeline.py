@@ -28,7 +28,7 @@ from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fin
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
 from secretary.report.notice import write_notice_pdf
-from secretary.workbook import fidelity, graft, save, schema, state
+from secretary.workbook import fidelity, graft, save, schema, state, toolsheets
 from secretary.workbook.fixtures_sheet import write_fixture_columns
 from secretary.workbook.notice_sheet import write_notice
 from secretary.workbook.read import LeagueBook, read_workbook
@@ -153,14 +153,19 @@ def run_update(
     ``Cancelled`` when the cancel flag is set, ``FileRefused`` when the file
     cannot be read or must not be overwritten.
     """
+    path = Path(path) if dry_run or out is not None else save.writable_workbook(path)
+    if out is not None and Path(out).suffix.lower() not in (".xlsx", ".xlsm"):
+        raise FileRefused(f"--out must name an Excel workbook ending in .xlsx (got {Path(out).name}); "
+                          "nothing was written.")
     try:
-        return _update(Path(path), out, dry_run, progress or _quiet, cancel, now, graft_it=True)
+        return _update(path, out, dry_run, progress or _quiet, cancel, now, graft_it=True)
     except graft.GraftRefused:
-        return _update(Path(path), out, dry_run, progress or _quiet, cancel, now, graft_it=False)
+        return _update(path, out, dry_run, progress or _quiet, cancel, now, graft_it=False)
 
 
 def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, graft_it: bool) -> UpdateOutcome:
     _step(progress, cancel, "Reading the workbook", 0.0)
+    stamp_read = save.file_stamp(path) if path.is_file() else None
     book = read_workbook(path)
     if book.has_errors:
         raise WorkbookProblems(book.problems)
@@ -204,28 +209,46 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
         previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check))
 
+    clash = toolsheets.clash_note(toolsheets.of_workbook(wb))
     written = backup = pdf = card = None
     reason = "Dry run: nothing was written."
     if not dry_run:
         _step(progress, cancel, "Saving the workbook safely", 0.9)
-        saved = graft.save_grafted(path, wb) if graft_it else save.save_workbook(wb, target)
+        expect = stamp_read if target == path else None
+        saved = graft.save_grafted(path, wb, expect=expect) if graft_it else save.save_workbook(wb, target, expect=expect)
         written, backup = saved.path, saved.backup
         reason = saved.reason
         if companion:
             reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
-        try:
-            pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
-            if forecasts:
-                card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
-        except OSError as exc:  # the workbook is saved; a PDF held open by a viewer must not undo that
-            reason += (f" The printouts could not be written ({exc.strerror or exc}); if a PDF is open in "
-                       "a viewer, close it and run `secretary notice` to print the notice board again.")
+        pdf, card, failed = _printouts(written, breakdown, ratings, settings, watch, forecasts)
+        reason += failed
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + ((advice,) if advice else ()))
+        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + tuple(n for n in (advice, clash) if n))
+
+
+def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):
+    """The notice board and handicap card PDFs, after the workbook is saved: a failure here is reported
+    truthfully ("saved; the printouts failed because ...") and never undoes the save."""
+    pdf = card = None
+    try:
+        pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
+        if forecasts:
+            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
+    except OSError as exc:  # e.g. a PDF held open by a viewer
+        return pdf, card, (f" The workbook was saved; the printouts failed because {exc.strerror or exc}. "
+                           "If a PDF is open in a viewer, close it and run `secretary notice` to print the "
+                           "notice board again.")
+    except Exception:  # a bug in the printouts: logged, and said truthfully
+        from secretary.userdirs import log_exception
+
+        log = log_exception("printouts after a saved update")
+        return pdf, card, (" The workbook was saved; the printouts failed because of a problem inside the "
+                           f"tool (details in {log}). Run `secretary notice` to try printing again.")
+    return pdf, card, ""
 
 
 def _tune_check(book: LeagueBook, fit: LeagueFit, published, progress: Progress, cancel):
@@ -251,7 +274,7 @@ def _update_log(book: LeagueBook, fit: LeagueFit, breakdown: Breakdown, stamp: s
 
 def _was_updated_before(book: LeagueBook) -> bool:
     """The tool's Ratings sheet is there, so a missing record means it was deleted."""
-    return schema.RATINGS_SHEET in book.sheet_names
+    return schema.RATINGS_SHEET in book.tool_sheets
 
 
 @dataclass(frozen=True)
@@ -328,16 +351,28 @@ def _checked_book(path: str | Path) -> LeagueBook:
     return book
 
 
+def _history_book(path: str | Path, what: str) -> LeagueBook:
+    """The checked workbook, refused in plain words when its history is too short to predict from."""
+    book = _checked_book(path)
+    weeks = {r.date.isocalendar()[:2] for r in book.results if not r.void}
+    if len(weeks) < 2:
+        raise SecretaryError(
+            f"{Path(path).name} has rated results from {len(weeks)} week{'s' if len(weeks) != 1 else ''}: "
+            f"{what} predicts each week from the weeks before it, so it needs results from at least two "
+            "different weeks.")
+    return book
+
+
 def evaluate_workbook(path: str | Path, *, cancel: CancelFlag | None = None) -> Evaluation:
     """How well the ratings would have predicted the league's own history, week by week."""
-    book = _checked_book(path)
+    book = _history_book(path, "the check")
     return evaluate(book.results, book.settings, players=book.players, cancel=cancel)
 
 
 def tune_workbook(path: str | Path, *, apply: bool = False, progress: Progress | None = None,
                   cancel: CancelFlag | None = None) -> Tuning:
     """Choose half-life and skill spread by walk-forward log-loss; write them only when ``apply``."""
-    book = _checked_book(path)
+    book = _history_book(path, "tuning")
     report = (lambda done, total: progress("Trying settings", done / max(total, 1))) if progress else None
     tuning = tune(book.results, book.settings, players=book.players, progress=report, cancel=cancel)
     if apply and tuning.improved:

@@ -20,8 +20,11 @@ import threading
 
 from secretary.gui.jobs import JOBS
 from secretary.gui.worker import failure_of, receive, send
+from secretary.threads import limit_native_threads
+
 
 def main() -> int:
+    limit_native_threads()
     # The protocol owns the real standard output; anything printed by a library goes to stderr instead.
     out = os.fdopen(os.dup(sys.stdout.fileno()), "wb")
     os.dup2(sys.stderr.fileno(), sys.stdout.fileno())

@@ -100,6 +100,14 @@ class LaplacianPattern:
         lower = upper.T
         return lambda v: diag * v + upper @ v + lower @ v
 
+    def dense(self, h, prior_sd: float) -> np.ndarray:
+        """``H`` as a dense array (small leagues: cheaper than building the sparse matrix first)."""
+        H = np.zeros((self.n, self.n))
+        H[self.pairs.i, self.pairs.j] = -h  # pairs are distinct, so plain assignment is exact
+        H[self.pairs.j, self.pairs.i] = -h
+        H[np.diag_indices(self.n)] = self.diagonal(h, prior_sd)
+        return H
+
     def matrix(self, h, prior_sd: float) -> sp.csr_matrix:
         """``H`` as a sparse matrix for pair weights ``h``."""
         upper = self.upper(h)
@@ -139,7 +147,7 @@ def _gradient_and_curvature(pairs: Pairs, r, mu, prior_sd: float):
 def _newton_step(pattern: LaplacianPattern, h, prior_sd: float, g: np.ndarray, gmax: float) -> np.ndarray:
     diag = pattern.diagonal(h, prior_sd)
     if pattern.n <= DENSE_LIMIT:
-        H = pattern.matrix(h, prior_sd).toarray()
+        H = pattern.dense(h, prior_sd)
         return -sla.cho_solve(sla.cho_factor(H, check_finite=False), g, check_finite=False)
     # Inexact Newton: Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
     rtol = min(0.1, np.sqrt(gmax)) * 0.1

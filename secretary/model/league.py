@@ -8,7 +8,6 @@ never the clock), fits the MAP and its Laplace uncertainty, and returns a
 from __future__ import annotations
 
 import datetime as dt
-from collections import Counter
 from dataclasses import dataclass
 from typing import Iterable, Mapping, Sequence
 
@@ -16,6 +15,7 @@ import numpy as np
 
 from secretary.model.diagnose import Diagnosis, diagnose
 from secretary.model.fit import fit_map, hessian
+from secretary.model.matches import Matches, from_results, home_divisions, last_played
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
@@ -97,25 +97,12 @@ class LeagueFit:
         return self.group_names[self.group[self.index(name)]]
 
 
-def home_divisions(results: Sequence[Result], players: Sequence[Player]) -> dict[str, str]:
-    """Each player's group: the Players sheet's division, else the division they played most in."""
-    counts: dict[str, Counter] = {}
-    for res in results:
-        for name in (res.player_a, res.player_b):
-            counts.setdefault(name, Counter())[res.division] += 1
-    home = {name: c.most_common(1)[0][0] for name, c in counts.items()}
-    home.update({p.name: p.division for p in players if p.division})
-    return home
-
-
 def fit_league(
     results: Iterable[Result],
     settings: Settings = Settings(),
     *,
     players: Sequence[Player] = (),
-    reference_date: dt.date | None = None,
-    start: Mapping[str, float] | None = None,
-    with_uncertainty: bool = True,
+    **options,
 ) -> LeagueFit:
     """Fit every rating jointly from all rated (non-void) results.
 
@@ -124,43 +111,49 @@ def fit_league(
     results : the matches; void ones are skipped
     settings : centre, scale, skill spread (points) and half-life (days)
     players : optional Players-sheet records (divisions, starting ratings, players yet to play)
-    reference_date : date ages are measured from; default the newest result's date
+    options : ``reference_date``, ``start``, ``with_uncertainty``, as for ``fit_matches``
+    """
+    return fit_matches(from_results(results, players), settings, players=players, **options)
+
+
+def fit_matches(
+    matches: Matches,
+    settings: Settings = Settings(),
+    *,
+    players: Sequence[Player] = (),
+    reference_date: dt.date | None = None,
+    start: Mapping[str, float] | None = None,
+    with_uncertainty: bool = True,
+) -> LeagueFit:
+    """Fit every rating jointly from matches already in columns (``Matches``).
+
+    Parameters
+    ----------
+    matches : the rated matches
+    settings, players : as for ``fit_league``
+    reference_date : date ages are measured from; default the newest match's date
     start : optional warm start, strengths (log-odds) by name
     with_uncertainty : skip the ± computation when only the optimum is needed
     """
-    rated = [res for res in results if not res.void]
-    names: dict[str, int] = {}
-    for p in players:
-        names.setdefault(p.name, len(names))
-    for res in rated:
-        names.setdefault(res.player_a, len(names))
-        names.setdefault(res.player_b, len(names))
-    order = tuple(names)
+    order = matches.names
     n = len(order)
-    ref = reference_date or (max(res.date for res in rated) if rated else None)
-
-    idx_a = np.fromiter((names[res.player_a] for res in rated), np.int64, len(rated))
-    idx_b = np.fromiter((names[res.player_b] for res in rated), np.int64, len(rated))
-    games_a = np.fromiter((res.games_a for res in rated), float, len(rated))
-    games_b = np.fromiter((res.games_b for res in rated), float, len(rated))
-    age = np.fromiter(((ref - res.date).days for res in rated), float, len(rated)) if rated else np.zeros(0)
-    pairs = aggregate(idx_a, idx_b, games_a, games_b, n, age_weights(np.maximum(age, 0.0), settings.half_life_days))
+    ref = reference_date or (dt.date.fromordinal(int(matches.day.max())) if len(matches) else None)
+    age = (ref.toordinal() - matches.day).astype(float) if len(matches) else np.zeros(0)
+    pairs = aggregate(matches.idx_a, matches.idx_b, matches.games_a, matches.games_b, n,
+                      age_weights(np.maximum(age, 0.0), settings.half_life_days))
 
     ppl = points_per_logodds(settings.scale)
     starting = {p.name: p.starting for p in players if p.starting is not None}
-    mu = np.array([to_strength(starting.get(name, settings.centre), settings.centre, settings.scale) for name in order])
+    mu = np.full(n, 0.0)
+    for k, name in enumerate(order):
+        if name in starting:
+            mu[k] = to_strength(starting[name], settings.centre, settings.scale)
     prior_sd = settings.skill_spread / ppl
 
-    home = home_divisions(rated, players)
-    group_names = tuple(sorted({home.get(name, "") for name in order}))
+    home = home_divisions(matches, players)
+    group_names = tuple(sorted(set(home)))
     group_of = {g: k for k, g in enumerate(group_names)}
-    group = np.array([group_of[home.get(name, "")] for name in order], dtype=np.int64)
-
-    last: dict[str, dt.date] = {}
-    for res in rated:
-        for name in (res.player_a, res.player_b):
-            if name not in last or res.date > last[name]:
-                last[name] = res.date
+    group = np.fromiter((group_of[h] for h in home), np.int64, n)
 
     x0 = None if start is None else np.array([start.get(name, mu[k]) for k, name in enumerate(order)])
     fit = fit_map(pairs, mu, prior_sd, start=x0)
@@ -175,7 +168,7 @@ def fit_league(
         pairs=pairs,
         group=group,
         group_names=group_names,
-        last_played=tuple(last.get(name) for name in order),
+        last_played=last_played(matches),
         diagnosis=diagnose(pairs),
         iterations=fit.iterations,
     )

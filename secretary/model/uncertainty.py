@@ -1,9 +1,19 @@
 """Laplace uncertainty: the posterior covariance is ``H^-1`` at the optimum.
 
 Each player's ± is ``sqrt((H^-1)_kk)`` (log-odds; convert to points at the
-edge).  Exact (dense Cholesky inverse) up to ``EXACT_LIMIT`` players; above
-that a two-level approximation (documented in ``approximate_variance``) whose
-error against the exact value is measured in the tests.
+edge).  Everything here works on "the diagonal of the inverse of a sparse
+symmetric positive definite matrix" (``inverse_diagonal``), so any Hessian
+(players alone, or players with division levels) goes through the same path:
+
+- up to ``EXACT_LIMIT`` unknowns: exact, from a dense Cholesky factor;
+- above: a two-level approximation (``approximate_variance``) corrected by a
+  few exact probes: ``PROBES`` unknowns, spread over how much of their
+  approximate variance comes from beyond themselves, get their exact value by
+  conjugate-gradient solves ``H x = e_k``; a quadratic in that share, fitted
+  to the probes' exact/approximate ratios, rescales every other value.
+  Measured error of the ± against the exact value: median 0.1-0.3 %, worst
+  2.5 %, mean within 0.1 % (no bias) on sparse, uneven and busy leagues of
+  3,500 players (tests/model/test_uncertainty.py).
 """
 from __future__ import annotations
 
@@ -16,71 +26,120 @@ from scipy.linalg import lapack
 from secretary.model.fit import LaplacianPattern, pair_curvature
 from secretary.model.pairs import Pairs
 
-EXACT_LIMIT = 3000
+EXACT_LIMIT = 1500  # the dense factor costs ~0.1 s here and grows as n^3
+PROBES = 40  # exact values that calibrate the approximation above EXACT_LIMIT
+PROBE_RTOL = 1e-8  # relative residual of each probe's solve
 
 
 def exact_variance(H) -> np.ndarray:
-    """``diag(H^-1)`` by a dense Cholesky factor and its inverse (O(n^3), exact)."""
+    """``diag(H^-1)`` by a dense Cholesky factor ``H = C C^T``: squared column norms of ``C^-1`` (exact)."""
     dense = H.toarray() if sp.issparse(H) else np.array(H, dtype=float)
     if dense.size == 0:  # a league with nobody in it yet
         return np.zeros(0)
     c, info = lapack.dpotrf(dense, lower=1, clean=1, overwrite_a=1)
     if info != 0:
         raise np.linalg.LinAlgError("Hessian is not positive definite")
-    inv, info = lapack.dpotri(c, lower=1, overwrite_c=1)
+    inv, info = lapack.dtrtri(c, lower=1, overwrite_c=1)
     if info != 0:
         raise np.linalg.LinAlgError("Hessian inverse failed")
-    return np.diag(inv).copy()
+    return np.einsum("ij,ij->j", inv, inv)  # (C^-T C^-1)_kk = sum_i (C^-1)_ik^2
 
 
-def approximate_variance(pairs: Pairs, h, prior_sd: float, groups) -> np.ndarray:
-    """``diag(H^-1)`` approximated in two levels, O(pairs + groups^3).
+def approximate_variance(H, groups, parts: bool = False):
+    """``diag(H^-1)`` approximated in two levels, O(nonzeros + groups^3).
 
-    ``Var r_k ~ 1/H_kk  +  sum_j h_kj^2 / (H_kk^2 H_jj)  +  w_k^T C w_k``:
-    the player's own conditional variance, the local uncertainty of the
-    players they met, and the uncertainty of the group levels those players
-    belong to, where ``w_kg = sum_{j in g} h_kj / H_kk`` and
+    ``Var r_k ~ 1/H_kk  +  sum_j H_kj^2 / (H_kk^2 H_jj)  +  w_k^T C w_k``:
+    the unknown's own conditional variance, the local uncertainty of its
+    neighbours, and the uncertainty of the group levels those neighbours
+    belong to, where ``w_kg = -sum_{j in g, j != k} H_kj / H_kk`` and
     ``C = (B^T H B)^-1`` is the covariance of rigid group shifts (``B`` the
     group indicator matrix).  Groups should be the divisions (or the
     connected pools): the slow, poorly determined directions of ``H``.
+    With ``parts`` the three terms are returned separately.
     """
-    n = pairs.n_players
+    H = sp.csr_matrix(H)
+    n = H.shape[0]
     groups = np.asarray(groups, dtype=np.int64)
-    diag = np.bincount(pairs.i, h, n) + np.bincount(pairs.j, h, n) + 1.0 / prior_sd**2
+    diag = H.diagonal()
+    off = H - sp.diags(diag)
     local = 1.0 / diag
-    neighbours = np.bincount(pairs.i, h**2 * local[pairs.j], n) + np.bincount(pairs.j, h**2 * local[pairs.i], n)
-    neighbours *= local**2
+    neighbours = (off.multiply(off) @ local) * local**2
     n_groups = int(groups.max()) + 1 if n else 0
-    # Coarse precision B^T H B: prior mass on the diagonal, cross-group pair weights as a Laplacian.
-    gi, gj = groups[pairs.i], groups[pairs.j]
-    cross = gi != gj
-    link = np.bincount(gi[cross] * n_groups + gj[cross], h[cross], n_groups * n_groups).reshape(n_groups, n_groups)
-    coarse = -(link + link.T).astype(float)
-    coarse[np.diag_indices(n_groups)] -= coarse.sum(axis=1)
-    coarse[np.diag_indices(n_groups)] += np.bincount(groups, minlength=n_groups) / prior_sd**2
-    cov = sla.inv(coarse)
-    # w_k: share of player k's curvature coming from each group's players (dense n x groups when small).
-    if n * n_groups <= 5_000_000:
-        share = (np.bincount(pairs.i * n_groups + gj, h, n * n_groups)
-                 + np.bincount(pairs.j * n_groups + gi, h, n * n_groups)).reshape(n, n_groups)
-        share *= local[:, None]
-        level = np.einsum("kg,kg->k", share @ cov, share)
-    else:
-        rows = np.concatenate([pairs.i, pairs.j])
-        share = sp.csr_matrix((np.concatenate([h, h]) * local[rows], (rows, np.concatenate([gj, gi]))),
-                              shape=(n, n_groups))
-        level = np.asarray(share.multiply(share @ cov).sum(axis=1)).ravel()
+    B = sp.csr_matrix((np.ones(n), (np.arange(n), groups)), shape=(n, max(n_groups, 1)))
+    cov = sla.inv((B.T @ H @ B).toarray()) if n else np.zeros((0, 0))
+    share = sp.csr_matrix(-(off @ B).multiply(local[:, None]))  # w_kg
+    level = np.asarray(share.multiply(share @ cov).sum(axis=1)).ravel() if n else np.zeros(0)
+    if parts:
+        return local, neighbours, level
     return local + neighbours + level
 
 
+def block_solve(H, columns: np.ndarray, rtol: float = PROBE_RTOL, maxiter: int | None = None) -> np.ndarray:
+    """``H^-1 E`` for the unit vectors ``e_k`` (k in ``columns``), by block Jacobi-preconditioned CG.
+
+    Each column runs its own conjugate-gradient recursion; they share every
+    sparse product.  A column stops moving once its residual is below
+    ``rtol`` (of ``|e_k| = 1``).
+    """
+    H = sp.csr_matrix(H)
+    n, m = H.shape[0], len(columns)
+    inv_diag = 1.0 / H.diagonal()
+    x = np.zeros((n, m))
+    r = np.zeros((n, m))
+    r[columns, np.arange(m)] = 1.0
+    z = r * inv_diag[:, None]
+    p = z.copy()
+    rz = np.einsum("ij,ij->j", r, z)
+    for _ in range(maxiter or 10 * n):
+        active = np.sqrt(np.einsum("ij,ij->j", r, r)) > rtol
+        if not active.any():
+            return x
+        q = H @ p
+        curvature = np.einsum("ij,ij->j", p, q)
+        if np.any(curvature[active] <= 0.0):
+            raise np.linalg.LinAlgError("the matrix is not positive definite")
+        alpha = np.where(active, rz / np.where(active, curvature, 1.0), 0.0)
+        x += p * alpha
+        r -= q * alpha
+        np.multiply(r, inv_diag[:, None], out=z)
+        rz, rz_old = np.einsum("ij,ij->j", r, z), rz
+        p *= np.where(active, rz / np.where(rz_old > 0, rz_old, 1.0), 0.0)
+        p += z
+    raise np.linalg.LinAlgError("the probe solves did not converge")
+
+
+def probed_variance(H, groups, probes: int = PROBES) -> np.ndarray:
+    """The two-level approximation, rescaled by exact values at ``probes`` unknowns (see the module)."""
+    local, neighbours, level = approximate_variance(H, groups, parts=True)
+    approx = local + neighbours + level
+    n = len(approx)
+    share = 1.0 - local / approx  # how much of the variance comes from beyond the unknown itself
+    order = np.argsort(share, kind="stable")
+    chosen = np.unique(order[np.linspace(0, n - 1, min(probes, n)).round().astype(np.int64)])
+    exact = block_solve(H, chosen)[chosen, np.arange(len(chosen))]
+    basis = np.column_stack([np.ones(n), share, share**2])
+    coef = np.linalg.lstsq(basis[chosen], exact / approx[chosen], rcond=None)[0]
+    out = approx * (basis @ coef)
+    out[chosen] = exact
+    return out
+
+
+def inverse_diagonal(H, groups=None) -> np.ndarray:
+    """``diag(H^-1)`` of a sparse SPD matrix: exact up to ``EXACT_LIMIT`` unknowns, probe-corrected above.
+
+    ``groups`` labels each unknown's group (division) for the approximation; one group when None.
+    """
+    n = H.shape[0]
+    if n <= EXACT_LIMIT:
+        return exact_variance(H)
+    groups = np.zeros(n, dtype=np.int64) if groups is None else groups
+    return probed_variance(H, groups)
+
+
 def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None) -> np.ndarray:
-    """Posterior variance of every strength (log-odds squared): exact up to ``EXACT_LIMIT`` players."""
-    h = pair_curvature(pairs, r)
-    if pairs.n_players <= EXACT_LIMIT:
-        return exact_variance(LaplacianPattern(pairs).matrix(h, prior_sd))
-    if groups is None:
-        groups = np.zeros(pairs.n_players, dtype=np.int64)
-    return approximate_variance(pairs, h, prior_sd, groups)
+    """Posterior variance of every strength (log-odds squared), from the Hessian at ``r``."""
+    H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
+    return inverse_diagonal(H, groups)
 
 
 DENSE_CONTRASTS = 1000  # players up to which a dense Cholesky factor is quicker than a sparse LU

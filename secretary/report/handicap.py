@@ -64,7 +64,8 @@ def write_handicap_pdf(path: str | Path, forecasts: Sequence[FixtureForecast], s
     story = layout.title_block(title, f"Fair races for the fixtures from {when}")
     story.append(layout.para(
         "A fair race gives both players about an even chance: each player races to the number shown. "
-        "The chance is for the race the fixture is set at (the usual race when none is set)."))
+        "The chance is for the race the fixture is set at (the usual race when none is set), allowing for how "
+        "sure each rating is; the last column says when it could be far off."))
     if not ordered:
         story.append(layout.para("There are no fixtures in the Fixtures sheet yet."))
     for day, group in groupby(ordered, key=lambda fc: fc.fixture.date):

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import os
+import secrets
 import unicodedata
 from functools import lru_cache
 from pathlib import Path
@@ -193,9 +194,16 @@ def build(path: str | Path, story: list, settings: Settings, title: str, footer:
         canvas.drawRightString(doc.pagesize[0] - MARGIN, 9 * mm, label)
         canvas.restoreState()
 
+    # Written beside the target and swapped in whole: a failure midway never leaves half a PDF.
+    temp = path.with_name(f".~secretary-{secrets.token_hex(6)}.pdf")
     doc = SimpleDocTemplate(
-        str(path), pagesize=page_size(settings), leftMargin=MARGIN, rightMargin=MARGIN,
+        str(temp), pagesize=page_size(settings), leftMargin=MARGIN, rightMargin=MARGIN,
         topMargin=MARGIN, bottomMargin=MARGIN + 4 * mm, title=printable(title, regular), author="secretary",
     )
-    doc.build(story, onFirstPage=on_page, onLaterPages=on_page)
+    try:
+        doc.build(story, onFirstPage=on_page, onLaterPages=on_page)
+        os.replace(temp, path)
+    finally:
+        if temp.exists():
+            temp.unlink()
     return path

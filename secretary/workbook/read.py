@@ -12,15 +12,13 @@ import openpyxl
 
 from secretary.errors import FileRefused, SecretaryError
 from secretary.model.records import Fixture, Player, Problem, PublishedState, Result, Settings
-from secretary.workbook import guard, schema
-from secretary.workbook.cells import SheetCells, read_cells
+from secretary.workbook import guard, schema, toolsheets
+from secretary.workbook.cells import SheetCells
+from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.dates import parse_date
 from secretary.workbook.names import CloseIndex, Mention, clean, merge_aliases, name_key, resolve
 
-try:  # written by the engineer who owns saving; until then there is no state to read
-    from secretary.workbook.state import read_state
-except ImportError:  # pragma: no cover - depends on the other module being present
-    read_state = None
+from secretary.workbook.state import read_state, state_from_rows
 
 HEADER_SEARCH_ROWS = 10  # a title line or two above the headers is allowed
 OUTLIER_ROWS = 5  # at most this many rows dated far after the rest count as typing slips
@@ -50,6 +48,7 @@ class LeagueBook:
     problems: tuple[Problem, ...]
     state: PublishedState | None = None
     sheet_names: tuple[str, ...] = ()
+    tool_sheets: dict[str, str] = field(default_factory=dict)  # role -> name of the tool's sheets (see toolsheets)
     layouts: Mapping[str, SheetLayout] = field(default_factory=dict)  # by schema sheet name
     formula_cells: tuple[tuple[str, int, int], ...] = ()  # (sheet, row, column) without saved value
 
@@ -162,12 +161,27 @@ class _Reader:
 
 def read_workbook(path: str | Path, *, wb=None) -> LeagueBook:
     """Read the league workbook at ``path``; ``wb`` may be the same file already loaded (not read-only)."""
-    path = guard.check_readable(path)
-    values_wb = _load(path, data_only=True)
+    path = guard.check_readable(path)  # before any reader opens the file
+    values_wb = _open_values(path)
     try:
         return _read(path, values_wb, wb)
     finally:
         values_wb.close()
+
+
+def _damaged(path: Path, exc: Exception) -> FileRefused:
+    return FileRefused(
+        f"{path.name} could not be read as an Excel workbook ({type(exc).__name__}: {exc}). "
+        "Open it in your spreadsheet program, save it as .xlsx and try again.")
+
+
+def _open_values(path: Path) -> ValuesBook:
+    try:
+        return ValuesBook(path)
+    except SecretaryError:
+        raise
+    except Exception as exc:  # the readers' many ways of saying "damaged"
+        raise _damaged(path, exc) from None
 
 
 def _load(path: Path, data_only: bool):
@@ -178,23 +192,25 @@ def _load(path: Path, data_only: bool):
     except SecretaryError:
         raise
     except Exception as exc:  # the library's many ways of saying "damaged"
-        raise FileRefused(
-            f"{path.name} could not be read as an Excel workbook ({type(exc).__name__}: {exc}). "
-            "Open it in your spreadsheet program, save it as .xlsx and try again.") from None
+        raise _damaged(path, exc) from None
 
 
-def _sheet_cells(ws, path: Path) -> SheetCells:
-    """A sheet's saved values; the formula cells too when the fast scan could read it."""
-    fast = read_cells(ws)
+def _sheet_cells(values_wb: ValuesBook, title: str, path: Path) -> SheetCells:
+    """A sheet's saved values; the formula cells too when they are known without openpyxl."""
+    fast = values_wb.read_cells(title)
     if fast is not None:
         return fast
+    slow_wb = _load(path, data_only=True)  # error values, or a sheet calamine cannot read
     try:
+        ws = slow_wb[title]
         ws.reset_dimensions()  # some programs write a wrong size; read what is really there
         return SheetCells(list(ws.iter_rows(values_only=True)), None)
     except Exception as exc:
         raise FileRefused(
-            f"The sheet '{ws.title}' in {path.name} is damaged ({type(exc).__name__}: {exc}). "
+            f"The sheet '{title}' in {path.name} is damaged ({type(exc).__name__}: {exc}). "
             "Open the workbook in your spreadsheet program, save it and try again.") from None
+    finally:
+        slow_wb.close()
 
 
 def _read(path: Path, values_wb, wb) -> LeagueBook:
@@ -204,7 +220,7 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
     for spec in schema.INPUT_SHEETS:
         title = titles.get(schema.header_key(spec.name))
         if title is not None:
-            sheets[spec.name] = _Sheet(spec, title, _sheet_cells(values_wb[title], path), reader)
+            sheets[spec.name] = _Sheet(spec, title, _sheet_cells(values_wb, title, path), reader)
         elif spec.required:
             reader.add("error", spec.name, None, None, ", ".join(values_wb.sheetnames),
                        f"the workbook has no sheet called '{spec.name}'",
@@ -216,11 +232,12 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
     formula_cells = _check_formulas(path, wb, sheets, reader)
     results, players, fixtures = _link_names(rows, players, fixtures, sheets, reader)
     _check_results(results, sheets.get(schema.RESULTS.name), reader)
-    state = _read_state(wb if wb is not None else values_wb, reader)
+    tool = toolsheets.of_package(path)
+    state = _read_state(wb, values_wb, tool, reader)
     problems = sorted(reader.problems, key=lambda p: (not p.is_error, _SHEET_ORDER.get(p.sheet, 9), p.row or 0))
     return LeagueBook(
         path=path, results=results, players=players, settings=settings, fixtures=fixtures,
-        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames),
+        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames), tool_sheets=tool,
         layouts={name: sheet.layout() for name, sheet in sheets.items()},
         formula_cells=formula_cells)
 
@@ -618,11 +635,14 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
                    f"{dated[cut].date.isoformat()})", "Check the year.")
 
 
-def _read_state(wb, reader: _Reader) -> PublishedState | None:
-    if read_state is None or schema.STATE_SHEET not in wb.sheetnames:
+def _read_state(wb, values_wb: ValuesBook, tool: dict[str, str], reader: _Reader) -> PublishedState | None:
+    title = tool.get(schema.STATE_SHEET)
+    if title is None or title not in values_wb.sheetnames:
         return None
     try:
-        return read_state(wb)
+        if wb is not None:
+            return read_state(wb)
+        return state_from_rows(values_wb.rows(title))
     except SecretaryError as exc:
         reader.add("warning", schema.STATE_SHEET, None, None, "", f"the tool's hidden sheet could not be read ({exc})",
                    "Nothing to do: this update's breakdown of changes starts afresh.")

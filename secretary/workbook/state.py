@@ -16,7 +16,7 @@ from openpyxl.workbook.workbook import Workbook
 
 from secretary.model.records import PublishedState, Settings, TuneCheck
 from secretary.workbook.schema import STATE_SHEET
-from secretary.workbook.style import put, replace_sheet
+from secretary.workbook.style import put, replace_sheet, tool_sheet
 
 FORMAT = 1
 _CHUNK = 30000  # characters per cell, under Excel's 32 767
@@ -78,14 +78,23 @@ def _parse_tune_check(doc: object) -> TuneCheck | None:
 
 def read_state(wb: Workbook) -> PublishedState | None:
     """The state written by the previous update; None when absent or damaged (never raises)."""
-    if STATE_SHEET not in wb.sheetnames:
+    ws = tool_sheet(wb, STATE_SHEET)
+    if ws is None:
         return None
     try:
-        ws = wb[STATE_SHEET]
+        rows = ws.iter_rows(max_col=2, values_only=True)
+    except Exception:
+        return None
+    return state_from_rows(rows)
+
+
+def state_from_rows(rows) -> PublishedState | None:
+    """The state from the state sheet's rows (values of columns A and B, row 1 first); None when damaged."""
+    try:
         chunks = [
             row[1]
-            for row in ws.iter_rows(min_row=3, max_col=2, values_only=True)
-            if row[0] == "data" and isinstance(row[1], str)
+            for number, row in enumerate(rows, start=1)
+            if number >= 3 and len(row) >= 2 and row[0] == "data" and isinstance(row[1], str)
         ]
         return _parse(json.loads("".join(chunks)))
     except Exception:  # a damaged or hand-edited sheet only costs the breakdown

@@ -27,6 +27,7 @@ from secretary.workbook.style import (
     header_row,
     remove_sheet,
     replace_sheet,
+    tool_sheet,
     write_table,
 )
 
@@ -96,9 +97,9 @@ def _read_history(wb: Workbook) -> tuple[dict[str, str], dict[dt.date, dict[str,
     """The existing history: names by folded key, and per date the ratings by folded key."""
     names: dict[str, str] = {}
     history: dict[dt.date, dict[str, float]] = {}
-    if HISTORY_SHEET not in wb.sheetnames:
+    ws = tool_sheet(wb, HISTORY_SHEET)
+    if ws is None:
         return names, history
-    ws = wb[HISTORY_SHEET]
     columns = {}
     for col, text in enumerate(header_row(ws)[1:], start=1):
         day = _as_date(text)
@@ -151,8 +152,8 @@ def _add_chart(ws, n_columns: int, n_players: int, below: int) -> None:
 def write_log(wb: Workbook, entry: UpdateLog) -> None:
     """Append one row to the Update log (earlier rows are kept)."""
     old_rows = []
-    if LOG_SHEET in wb.sheetnames:
-        ws = wb[LOG_SHEET]
+    ws = tool_sheet(wb, LOG_SHEET)
+    if ws is not None:
         where = {h.casefold(): i for i, h in enumerate(header_row(ws))}
         for row in ws.iter_rows(min_row=2, values_only=True):
             if any(v is not None for v in row):

@@ -23,11 +23,9 @@ from __future__ import annotations
 import argparse
 import json
 import resource
-import statistics
 import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
@@ -37,6 +35,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parents[1]))
 
+from busy import timed  # noqa: E402
 from make_league import make_games  # noqa: E402
 
 from secretary.model.fit import fit_map  # noqa: E402
@@ -47,15 +46,6 @@ SIZES = [(5_000, 200), (50_000, 2_000), (1_000_000, 20_000)]
 LARGE = (10_000_000, 100_000)
 PRIOR_SD = 1.0
 POINTS = 400 / np.log(10)
-
-
-def timed(fn, repeat):
-    times, out = [], None
-    for _ in range(repeat):
-        start = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times), out
 
 
 def run_ours_raw(g, repeat):
@@ -76,11 +66,12 @@ def run_ours_solve(g, repeat):
     return t, fit.r
 
 
-def sklearn_problem(g):
+def sklearn_problem(g, weights=None):
+    """Rows ``e_i - e_j`` per pair and side, labels, and the side's (weighted) games as sample weights."""
     import scipy.sparse as sp
 
     n = len(g.strengths)
-    pairs = aggregate(g.idx_a, g.idx_b, g.games_a, g.games_b, n)
+    pairs = aggregate(g.idx_a, g.idx_b, g.games_a, g.games_b, n, weights)
     m = len(pairs.i)
     rows = np.r_[np.arange(m), np.arange(m)]
     X1 = sp.csr_matrix((np.r_[np.ones(m), -np.ones(m)], (rows, np.r_[pairs.i, pairs.j])), shape=(m, n))

@@ -2,91 +2,118 @@
 
 Run by hand (not part of the test command):
 
-    python tests/bench/bench_update.py [--sizes 2000 20000 100000] [--repeat 3]
+    python tests/bench/bench_update.py [--sizes 2000 20000 100000] [--repeat 3] [--conditions idle busy]
+    python tests/bench/bench_update.py --sizes 1000000 --repeat 1      # a federation's archive
 
 For each generated league workbook (tests/bench/make_league.py) it times, as
-the median of --repeat runs on fresh copies:
+the median of --repeat runs on fresh copies, each in its own process (so that
+its peak memory, the maximum resident set size, is its own):
 
   bare       openpyxl.load_workbook + save of the same file (the floor any
              tool that edits the workbook pays)
   update     the whole weekly update on a workbook that was updated before
-             (read + check, fit, breakdown, watch list, write, safe save, PDF)
+             (read + check, fit, breakdown, watch list, write, safe save, PDF),
+             with the native thread limit the command line sets
   stages     where the update's time goes (from its progress callback)
+
+once with the machine as it is ("idle") and once with one core kept busy by
+another program (tests/bench/busy.py); ratios are from the same condition.
 """
 from __future__ import annotations
 
 import argparse
+import json
+import os
 import shutil
 import statistics
+import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
+REPO = HERE.parents[1]
 sys.path.insert(0, str(HERE))
-sys.path.insert(0, str(HERE.parents[1]))
+sys.path.insert(0, str(REPO))
 
-import openpyxl  # noqa: E402
+import busy  # noqa: E402
 from make_league import make_league_workbook  # noqa: E402
 
-from secretary.pipeline import run_update  # noqa: E402
+STAGES = ["Reading the workbook", "Rating every player", "Working out why ratings changed",
+          "Looking for divisions that need linking", "Writing the sheets", "Saving the workbook safely"]
+SHORT = ["read", "fit", "why", "watch", "write", "save+pdf"]
 
-
-class StageClock:
-    """Records how long each stage of the update took, from the progress callback."""
-
-    def __init__(self):
-        self.marks = []
-
-    def __call__(self, stage, fraction):
-        self.marks.append((stage, time.perf_counter()))
-
-    def durations(self):
-        return {a[0]: b[1] - a[1] for a, b in zip(self.marks, self.marks[1:])}
-
-
-def bare(path: Path, out: Path) -> float:
+CHILD = r"""
+import json, sys, time
+from pathlib import Path
+if sys.argv[1] == "bare":
+    import openpyxl
     start = time.perf_counter()
-    wb = openpyxl.load_workbook(path)
-    wb.save(out)
-    return time.perf_counter() - start
-
-
-def one_update(source: Path, folder: Path):
-    work = folder / "league.xlsx"
-    shutil.copyfile(source, work)
-    clock = StageClock()
+    openpyxl.load_workbook(sys.argv[2]).save(sys.argv[3])
+    print(json.dumps({"seconds": time.perf_counter() - start}))
+else:
+    from secretary.threads import limit_native_threads
+    limit_native_threads()  # as the command line does
+    from secretary.pipeline import run_update
+    marks = []
     start = time.perf_counter()
-    run_update(work, progress=clock)
-    return time.perf_counter() - start, clock.durations()
+    run_update(Path(sys.argv[2]), progress=lambda stage, fraction: marks.append((stage, time.perf_counter())))
+    end = time.perf_counter()
+    stages = {a[0]: b[1] - a[1] for a, b in zip(marks, marks[1:] + [("end", end)])}
+    print(json.dumps({"seconds": end - start, "stages": stages}))
+"""
+
+
+def in_child(*args: str) -> dict:
+    """Run CHILD with ``args``; its JSON answer plus its own peak memory in MB."""
+    env = dict(os.environ, PYTHONPATH=str(REPO))
+    proc = subprocess.Popen([sys.executable, "-c", CHILD, *args], stdout=subprocess.PIPE, env=env)
+    out = proc.stdout.read()
+    _, status, usage = os.wait4(proc.pid, 0)
+    proc.returncode = os.waitstatus_to_exitcode(status)
+    if proc.returncode:
+        raise RuntimeError(f"benchmark child failed: {args}")
+    answer = json.loads(out)
+    answer["peak_mb"] = usage.ru_maxrss / 1024
+    return answer
+
+
+def measure(source: Path, folder: Path, repeat: int) -> tuple[dict, dict]:
+    bare = [in_child("bare", str(source), str(folder / "bare.xlsx")) for _ in range(repeat)]
+    runs = []
+    for _ in range(repeat):
+        work = folder / "league.xlsx"
+        shutil.copyfile(source, work)
+        runs.append(in_child("update", str(work)))
+    return bare, runs
 
 
 def main():
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--sizes", type=int, nargs="+", default=[2_000, 20_000, 100_000])
     parser.add_argument("--repeat", type=int, default=3)
+    busy.add_argument(parser)
     args = parser.parse_args()
-    stage_names = ["Reading the workbook", "Rating every player", "Working out why ratings changed",
-                   "Looking for divisions that need linking", "Writing the sheets", "Saving the workbook safely"]
-    short = ["read", "fit", "why", "watch", "write", "save+pdf"]
-    print(f"{'rows':>8} {'players':>8} | {'bare load+save':>14} {'update':>8} {'ratio':>6} | "
-          + " ".join(f"{s:>8}" for s in short))
+    print(f"{'condition':>14} {'rows':>9} {'players':>8} | {'bare load+save':>14} {'update':>8} {'ratio':>6} "
+          f"{'peak MB':>8} | " + " ".join(f"{s:>8}" for s in SHORT))
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
+        sources = {}
         for rows in args.sizes:
             players = max(60, rows // 40)
             source = tmp / f"league-{rows}.xlsx"
             make_league_workbook(source, rows, players, seed=1)
-            # A workbook that has been updated once, so every update has a previous one to explain.
-            run_update(source)
-            bare_times = [bare(source, tmp / "bare.xlsx") for _ in range(args.repeat)]
-            runs = [one_update(source, tmp) for _ in range(args.repeat)]
-            update = statistics.median(t for t, _ in runs)
-            stages = {name: statistics.median(d.get(name, 0.0) for _, d in runs) for name in stage_names}
-            floor = statistics.median(bare_times)
-            print(f"{rows:>8,} {players:>8,} | {floor:>13.2f}s {update:>7.2f}s {update / floor:>5.2f}x | "
-                  + " ".join(f"{stages[n]:>7.2f}s" for n in stage_names), flush=True)
+            in_child("update", str(source))  # updated once, so every update has a previous one to explain
+            sources[rows] = (source, players)
+        for condition in busy.conditions(args.conditions):
+            for rows, (source, players) in sources.items():
+                bare, runs = measure(source, tmp, args.repeat)
+                floor = statistics.median(b["seconds"] for b in bare)
+                update = statistics.median(r["seconds"] for r in runs)
+                peak = max(r["peak_mb"] for r in runs)
+                stages = [statistics.median(r["stages"].get(name, 0.0) for r in runs) for name in STAGES]
+                print(f"{condition:>14} {rows:>9,} {players:>8,} | {floor:>13.2f}s {update:>7.2f}s "
+                      f"{update / floor:>5.2f}x {peak:>8.0f} | " + " ".join(f"{s:>7.2f}s" for s in stages), flush=True)
 
 
 if __name__ == "__main__":

@@ -14,7 +14,7 @@ import pytest
 from tests.workbook.league_books import D, good_results, write_book
 from secretary.model.records import Fixture, Player, PublishedState, Result, Settings
 from secretary.workbook import schema
-from secretary.workbook.cells import read_cells
+from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.read import read_workbook
 from tests import realdata
 
@@ -139,12 +139,12 @@ def _libreoffice_save(source: Path, folder: Path) -> Path:
     return folder / source.name
 
 
-def test_fast_scan_matches_openpyxl_on_openpyxl_and_libreoffice_files(tmp_path):
+def test_fast_reader_matches_openpyxl_on_openpyxl_and_libreoffice_files(tmp_path):
     wb = openpyxl.Workbook()
     ws = wb.active
     ws.append(["text", "A & B <c>", 3, 2.5, -1e-7, True, None, dt.datetime(2026, 3, 14, 19, 30), dt.date(2026, 3, 15)])
     ws.append([])
-    ws.append(["=1+1", "'quoted", "  spaced  ", "ünïcödé ✓", 1e20, False, "#N/A", 0, "line\nbreak"])
+    ws.append(["=1+1", "'quoted", "  spaced  ", "ünïcödé ✓", 1e20, False, "#N/A as text", 0, "line\nbreak"])
     ws["K7"] = "far"
     ws["B9"].number_format = "0.00"
     ws["B9"] = 1.25
@@ -153,15 +153,36 @@ def test_fast_scan_matches_openpyxl_on_openpyxl_and_libreoffice_files(tmp_path):
     if shutil.which("soffice"):  # the same content as a second program writes it (shared strings, styles)
         files.append(_libreoffice_save(files[0], tmp_path / "lo"))
     for path in files:
-        fast_wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
-        fast = read_cells(fast_wb.active)
-        ws = fast_wb.active
+        values = ValuesBook(path)
+        fast = values.read_cells(values.sheetnames[0])
+        values.close()
+        reference_wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
+        ws = reference_wb.active
         ws.reset_dimensions()
         reference = [tuple(r) for r in ws.iter_rows(values_only=True)]
-        fast_wb.close()
+        reference_wb.close()
         assert fast is not None
         assert _trimmed(fast.rows) == _trimmed(reference), path.name
-    assert read_cells(openpyxl.load_workbook(files[0], read_only=True).active).formulas == {(3, 1)}
+        assert [type(v) for v in _trimmed(fast.rows)[0]] == [type(v) for v in _trimmed(reference)[0]], path.name
+        # openpyxl's file keeps "=1+1" unsaved; LibreOffice saves its value: the formula is known to be there.
+        assert fast.formulas is None
+    plain = write_book(tmp_path / "plain.xlsx")
+    values = ValuesBook(plain)
+    assert values.read_cells("Results").formulas == set()  # no formula anywhere in the sheet
+    values.close()
+
+
+def test_error_values_leave_the_sheet_to_openpyxl(tmp_path):
+    """calamine shows an error value (#N/A) as blank; such a sheet is read by openpyxl, as the cell says."""
+    rows = good_results()
+    rows[1][4] = "#N/A"  # openpyxl stores this as an error value
+    path = write_book(tmp_path / "errors.xlsx", rows)
+    values = ValuesBook(path)
+    assert values.read_cells("Results") is None
+    values.close()
+    book = read_workbook(path)
+    assert [(p.row, p.column, p.found, p.problem) for p in book.errors] == [
+        (3, "Games A", "#N/A", "the games won are not a number")]
 
 
 def _trimmed(rows) -> list[tuple]:
@@ -172,8 +193,8 @@ def _trimmed(rows) -> list[tuple]:
     return out
 
 
-def test_unusual_sheet_xml_falls_back_to_openpyxl(tmp_path):
-    """Cells without a reference are legal; the fast scan leaves such sheets to openpyxl."""
+def test_unusual_sheet_xml_reads_the_same(tmp_path):
+    """Cells without a reference are legal; they read as the cell after the previous one."""
     rows = good_results()
     rows[2][4] = "=1+1"
     path = write_book(tmp_path / "plain.xlsx", rows)
@@ -186,9 +207,6 @@ def test_unusual_sheet_xml_falls_back_to_openpyxl(tmp_path):
                 assert ' r="A2"' in text
                 data = text.replace(' r="A2"', "", 1).encode()
             dst.writestr(item, data)
-    wb = openpyxl.load_workbook(odd, read_only=True, data_only=True)
-    assert read_cells(wb["Results"]) is None
-    wb.close()
     slow, fast = read_workbook(odd), read_workbook(path)
     assert slow.results == fast.results and len(slow.results) == 3
     assert slow.problems == fast.problems
@@ -249,16 +267,13 @@ def test_real_names_written_two_ways_are_merged(tmp_path):
     for r in results:
         ws.append([r.date, r.division, r.player_a, r.player_b, r.games_a, r.games_b])
     wb.save(tmp_path / "badminton.xlsx")
-    start = time.perf_counter()
     book = read_workbook(tmp_path / "badminton.xlsx")
-    seconds = time.perf_counter() - start
     folded = realdata.badminton(fold_case=True)
     assert len(book.results) == len(results)
     read_names = {r.player_a for r in book.results} | {r.player_b for r in book.results}
     assert len(read_names) == len({r.player_a for r in folded} | {r.player_b for r in folded})
     case_warnings = [p for p in book.warnings if "only capitals or spaces differ" in p.problem]
     assert case_warnings and not book.has_errors
-    assert seconds < 5.0
 
 
 @pytest.mark.realdata

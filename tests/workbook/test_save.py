@@ -60,7 +60,8 @@ def _update(path: Path, week: int):
 def _snapshot(path: Path) -> dict:
     """Everything of the secretary's two sheets a save could lose."""
     wb = load_workbook(path)
-    out = {"names": {n: d.attr_text for n, d in wb.defined_names.items()}}
+    # the secretary's names (the tool's own markers of its sheets aside: see toolsheets)
+    out = {"names": {n: d.attr_text for n, d in wb.defined_names.items() if not n.startswith("_secretary_sheet_")}}
     for name in ("Results", S.NOTES):
         ws = wb[name]
         out[name] = {
@@ -310,7 +311,8 @@ def test_content_openpyxl_would_lose_sends_the_outputs_to_a_companion(league):
     assert wb.sheetnames[:2] == ["Results", S.NOTES] and "Fees" in wb.defined_names  # caller's workbook restored
     companion = load_workbook(outcome.path)
     assert companion.sheetnames == [RATINGS_SHEET, HISTORY_SHEET, LOG_SHEET, STATE_SHEET]
-    assert companion.active.title == RATINGS_SHEET and not companion.defined_names
+    assert companion.active.title == RATINGS_SHEET
+    assert all(n.startswith("_secretary_sheet_") for n in companion.defined_names)  # only the tool's markers
     assert read_state(companion).reference_date == dt.date(2026, 3, 5)
     second = save_workbook(wb, league)
     assert second.companion and second.backup is not None and second.backup.parent.name == "backups"

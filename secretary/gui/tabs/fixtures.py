@@ -30,9 +30,9 @@ class FixturesTab:
             text = "The workbook has no fixtures: add matches to a Fixtures sheet to see their chances here."
         else:
             past = sum(1 for r in rows if "past" in r.tags)
-            text = (f"{plural(len(rows), 'fixture')}" + (f" ({past} past: dated before the latest results, {views.day(latest)})"
-                                                         if past else "")
-                    + ". A fair race is the handicap that makes the match closest to even; chances are estimates, "
-                    "not promises. The handicap card (League menu) prints them.")
+            when = f" ({past} past: dated before the latest results, {views.day(latest)})" if past else ""
+            text = (f"{plural(len(rows), 'fixture')}{when}. A fair race is the handicap that makes the match "
+                    "closest to even; chances allow for how sure each rating is, and are estimates, not promises. "
+                    "The handicap card (League menu) prints them.")
         self.summary.configure(text=text)
         self.table.show(rows)
