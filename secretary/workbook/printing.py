@@ -17,7 +17,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from secretary.model.records import Settings
 from secretary.workbook import schema
-from secretary.workbook.style import header_row
+from secretary.workbook.style import header_row, tool_sheet
 
 PAPER = {"A4": Worksheet.PAPERSIZE_A4, "Letter": Worksheet.PAPERSIZE_LETTER}
 LINE_POINTS = 15.0  # height of one line of 11-point text
@@ -106,9 +106,10 @@ def set_up_watch(ws: Worksheet, paper: str) -> None:
 def set_up_printing(wb: Workbook, settings: Settings) -> None:
     """Page setup for every tool sheet the update wrote (the Notice board sets up its own)."""
     for name, (landscape, wrapped) in TABLE_SHEETS.items():
-        if name in wb.sheetnames:
-            ws = wb[name]
+        ws = tool_sheet(wb, name)
+        if ws is not None:
             wide = name == schema.HISTORY_SHEET and ws.max_column > HISTORY_PORTRAIT + 1
             set_up_table(ws, settings.paper, landscape or wide, wrapped)
-    if schema.WATCH_SHEET in wb.sheetnames:
-        set_up_watch(wb[schema.WATCH_SHEET], settings.paper)
+    watch = tool_sheet(wb, schema.WATCH_SHEET)
+    if watch is not None:
+        set_up_watch(watch, settings.paper)

@@ -146,7 +146,7 @@ def _add_chart(ws, n_columns: int, n_players: int, below: int) -> None:
         series.cat = dates  # the date headers are text, so a text reference (numRef would show 1, 2, 3)
         series.smooth = False  # a rating moves in steps between updates; a curve would invent values
     ws.add_chart(chart, f"A{below}")
-    ws.row_breaks.append(Break(id=below - 1))
+    ws.row_breaks.append(Break(id=below - 2))  # after the table: the empty row above the chart starts its page
 
 
 def write_log(wb: Workbook, entry: UpdateLog) -> None:
