@@ -33,6 +33,14 @@ def documents_folder() -> Path:
     return documents if documents.is_dir() else Path.home()
 
 
+DEMO_FOLDER = "League secretary demo"
+
+
+def demo_folder() -> Path:
+    """Where File > Open the demo league makes the demo (a second one goes beside it, numbered)."""
+    return documents_folder() / DEMO_FOLDER
+
+
 def log_file() -> Path:
     """The log of unexpected errors (with their tracebacks), for a bug report."""
     return user_folder() / "secretary.log"

@@ -12,9 +12,9 @@ from pathlib import Path
 from tkinter import font as tkfont
 from tkinter import ttk
 
-from secretary import __version__, pipeline
+from secretary import __version__
 from secretary.errors import SecretaryError
-from secretary.gui import recent, views
+from secretary.gui import recent, views, welcome
 from secretary.gui.dialogs import Dialogs
 from secretary.gui.look import set_dpi_awareness, style_window
 from secretary.gui.settings_dialog import SettingsDialog
@@ -26,7 +26,7 @@ from secretary.gui.tabs.watch import WatchTab
 from secretary.gui.widgets import Scheduler, button
 from secretary.gui.worker import Worker
 from secretary.model.sentences import plural
-from secretary.userdirs import documents_folder, log_file
+from secretary.userdirs import documents_folder
 
 POLL_MS = 50
 TITLE = "League secretary"
@@ -100,7 +100,7 @@ class App:
         files.add_command(label="Open the demo league in a folder of my choice\u2026",
                           command=lambda: self.open_demo(True))
         files.add_separator()
-        files.add_command(label="Restore previous version\u2026", command=self.restore_previous)
+        files.add_command(label="Restore an earlier version\u2026", command=self.restore_previous)
         files.add_separator()
         files.add_command(label="Quit", accelerator="Ctrl+Q", command=self.close)
         bar.add_cascade(label="File", menu=files)
@@ -114,8 +114,8 @@ class App:
         bar.add_cascade(label="League", menu=league)
         helps = tk.Menu(bar, tearoff=False)
         helps.add_command(label="The weekly routine", command=lambda: self.dialogs.info("The weekly routine", ROUTINE))
-        helps.add_command(label="Where is the log file?", command=lambda: self.dialogs.info(
-            "Log file", f"Unexpected errors are written with their details to:\n{log_file()}"))
+        helps.add_command(label="Where are my files? (workbook, backups, log file)",
+                          command=lambda: welcome.show_where(self))
         helps.add_command(label="About", command=lambda: self.dialogs.info(
             "About", f"secretary {__version__}\nWeekly player ratings for a cue-sports league."))
         bar.add_cascade(label="Help", menu=helps)
@@ -348,6 +348,8 @@ class App:
     def _checked(self, checked) -> None:
         self.checked = checked
         self.problems.show(checked.problems, checked.layouts)
+        from secretary import pipeline  # imported on first use: the window draws without loading the engine
+
         notice = pipeline.notice_pdf_path(self.path).exists()
         self.session = self.session.but(checked=True, errors=len(checked.errors), update_failed=False,
                                         notice_exists=notice)
@@ -399,6 +401,8 @@ class App:
         """Step 4: open the PDF notice board in the system's viewer."""
         if self.path is None:
             return
+        from secretary import pipeline
+
         pdf = self.updated.notice_pdf if self.updated is not None else pipeline.notice_pdf_path(self.path)
         if self._show_pdf("notice board", pdf, "There is no notice board yet: update the ratings first."):
             self.session = self.session.but(printed=True)
@@ -409,6 +413,8 @@ class App:
         if self.path is None:
             self.dialogs.info("Handicap card", "Open a workbook and update its ratings first.")
             return
+        from secretary import pipeline
+
         pdf = self.updated.handicap_pdf if self.updated is not None else pipeline.handicap_pdf_path(self.path)
         self._show_pdf("handicap card", pdf, "There is no handicap card yet: it is made by the update when the "
                        "workbook has fixtures to come (a Fixtures sheet).")
@@ -482,11 +488,20 @@ class App:
         if self.path is None:
             self.dialogs.info("Restore", "Open a workbook first.")
             return
-        if not self.dialogs.ask_yes_no("Restore previous version", (
-                f"Put back the previous version of {self.path.name} from its backups folder?\n"
-                "The version it replaces is kept as a backup too, so this can be undone.")):
+        from secretary.workbook.save import backup_versions  # loaded when needed: the window starts fast
+
+        versions = [v for v in backup_versions(self.path) if not v.current]
+        if not versions:
+            self.dialogs.info("Restore", f"No earlier version of {self.path.name} that differs from it is kept.")
             return
-        self._start("restore", self.worker.child.call("restore", self.path), "Restoring\u2026")
+        choice = self.dialogs.choose("Restore an earlier version", (
+            f"Which version of {self.path.name} should come back from its backups folder?\n"
+            "The version it replaces is kept as a backup too, so this can be undone."),
+            [f"{v.kept_at:%d %b %Y, %H:%M:%S}  ({v.size / 1024:,.0f} KB)" for v in versions])
+        if choice is None:
+            return
+        self._start("restore", self.worker.child.call("restore", self.path, versions[choice].number),
+                    "Restoring\u2026")
 
     def open_settings(self) -> SettingsDialog | None:
         if self.checked is None:
@@ -527,5 +542,7 @@ def run(workbook: str | Path | None = None) -> int:
     app = App(root)
     if workbook is not None:
         app.open_workbook(Path(workbook))
+    else:
+        welcome.offer(app)  # first run: the demo league, a new workbook, and where the files live
     root.mainloop()
     return 0

@@ -12,6 +12,7 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from secretary import pipeline
+from secretary.userdirs import DEMO_FOLDER
 from secretary.model.breakdown import PlayerChange
 from secretary.model.fixtures import FixtureForecast
 from secretary.model.linkage import WatchList
@@ -97,15 +98,12 @@ def save_settings(path, values, progress, cancel) -> Path:
     return pipeline.save_settings(path, values)
 
 
-def restore(path, progress, cancel) -> Path:
-    return pipeline.restore(path)
+def restore(path, pick, progress, cancel) -> Path:
+    return pipeline.restore(path, pick=pick)
 
 
 def new_league(path, progress, cancel) -> Path:
     return pipeline.new_league(path)
-
-
-DEMO_FOLDER = "League secretary demo"
 
 
 def make_demo(folder, progress, cancel) -> Path:

@@ -45,6 +45,9 @@ class RecordingDialogs:
     def ask_yes_no(self, title, message):
         return bool(self._record("ask_yes_no", title, message))
 
+    def choose(self, title, message, options):
+        return self._record("choose", title, message, options)
+
     def ask_open_workbook(self, folder=None):
         return self._record("ask_open_workbook", folder)
 

@@ -268,6 +268,7 @@ def test_restore_and_demo_from_the_file_menu(app, user_home):
     assert app.session.updated and app.updated.new_rows > 0 and app.changes.updated.changes  # What changed is filled
     assert str(demo.parent) in app.status.cget("text")  # the window says where it is
     app.dialogs.answers["ask_yes_no"] = True
+    app.dialogs.answers["choose"] = 0  # the newest version that differs from the workbook now
     app.restore_previous()
     settle(app)
     assert not app.session.updated and app.session.checked  # back to before the second update: a week to rate
