@@ -34,6 +34,7 @@ from secretary.workbook.fixtures_sheet import write_fixture_columns
 from secretary.workbook.notice_sheet import write_notice
 from secretary.workbook.read import LeagueBook, read_workbook
 from secretary.workbook.template import new_workbook
+from secretary.workbook.printing import set_up_printing
 from secretary.workbook.watch_sheet import write_watch
 from secretary.workbook.why_sheet import write_why
 from secretary.workbook.write import write_history, write_log, write_problems, write_ratings
@@ -214,6 +215,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     write_history(wb, log.reference_date, ratings)
     write_log(wb, log)
     write_problems(wb, book.warnings)
+    set_up_printing(wb, settings)
     if book.fixtures and not companion and not graft_it:
         write_fixture_columns(wb, forecasts, settings)
     state.write_state(wb, PublishedState(

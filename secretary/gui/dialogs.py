@@ -2,12 +2,11 @@
 from __future__ import annotations
 
 import os
+import shutil
 import subprocess
 import sys
 from pathlib import Path
 from tkinter import filedialog, messagebox
-
-from secretary.errors import FileRefused
 
 WORKBOOKS = [("Excel workbooks", "*.xlsx *.xlsm"), ("All files", "*")]
 
@@ -47,21 +46,30 @@ class Dialogs:
                                        mustexist=False)
         return Path(name) if name else None
 
-    def open_externally(self, path: Path) -> None:
-        """Show a file (the PDF notice board) in the computer's own viewer."""
-        open_with_system(path)
+    def open_externally(self, path: Path) -> bool:
+        """Show a file (a PDF) or a folder with the computer's own program; False when none opened."""
+        return open_with_system(path)
 
 
-def open_with_system(path: Path) -> None:
+OPENER_WAIT = 3.0  # seconds: an opener that finds no program says so (non-zero exit) well within this
+
+
+def open_with_system(path: Path) -> bool:
+    """Open with the system's program; False when no program opened it (there is none, or it failed)."""
     try:
         if sys.platform == "win32":
             os.startfile(str(path))  # type: ignore[attr-defined]
-        else:
-            opener = "open" if sys.platform == "darwin" else "xdg-open"
-            subprocess.Popen([opener, str(path)], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    except OSError as exc:
-        raise FileRefused(f"The notice board could not be opened ({exc.strerror or exc}). "
-                          f"Open it yourself: {path}") from None
+            return True
+        opener = "open" if sys.platform == "darwin" else "xdg-open"
+        if shutil.which(opener) is None:
+            return False
+        proc = subprocess.Popen([opener, str(path)], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    except OSError:
+        return False
+    try:
+        return proc.wait(OPENER_WAIT) == 0
+    except subprocess.TimeoutExpired:
+        return True  # still starting the viewer: it found one
 
 
 def choose_from_list(root, title: str, message: str, options: list[str]) -> int | None:
