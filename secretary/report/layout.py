@@ -22,7 +22,9 @@ from secretary.model.records import Settings
 # Fonts with accents and most European letters (Linux, Windows, macOS); the first one found is used.
 _WINDOWS_FONTS = Path(os.environ.get("WINDIR", "C:/Windows")) / "Fonts"
 _MAC_FONTS = Path("/System/Library/Fonts/Supplemental")
+_BUNDLED_FONTS = Path(__file__).resolve().parents[1] / "data" / "fonts"  # only in the desktop app (scripts/build-app)
 FONT_FILES = (
+    ("DejaVuSans", _BUNDLED_FONTS / "DejaVuSans.ttf", _BUNDLED_FONTS / "DejaVuSans-Bold.ttf"),
     ("DejaVuSans", Path("/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf"),
      Path("/usr/share/fonts/truetype/dejavu/DejaVuSans-Bold.ttf")),
     ("Arial", _WINDOWS_FONTS / "arial.ttf", _WINDOWS_FONTS / "arialbd.ttf"),

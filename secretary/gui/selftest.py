@@ -1,0 +1,82 @@
+"""The window's self-test: ``secretary-app --self-test OUT WORKBOOK`` (hidden; see secretary.launch).
+
+Opens the real window on the workbook, lets it check the workbook and show its
+last update (or runs the update when there is none), then writes what the
+window shows to OUT as JSON and closes.  The bundle's test reads that file, and
+the start-time measurement uses its ``drawn_at`` (wall clock when the window
+was first drawn).  No dialog is ever shown: each one is written down instead.
+"""
+from __future__ import annotations
+
+import json
+import sys
+import time
+import tkinter as tk
+from pathlib import Path
+
+TIMEOUT = 600.0  # seconds: a generous ceiling on a busy machine, so that a broken bundle still ends
+POLL_MS = 50
+
+
+class QuietDialogs:
+    """Stands in for the window's dialogs: shows nothing, writes every call down, answers no."""
+
+    def __init__(self):
+        self.calls: list[list[str]] = []
+
+    def __getattr__(self, name: str):
+        def record(*args):
+            self.calls.append([name, *(str(a) for a in args)])
+            return None
+        return record
+
+
+def shown(app, dialogs: QuietDialogs, times: dict) -> dict:
+    """What the window shows now, in plain texts."""
+    return {
+        "title": app.root.title(),
+        "status": app.status.cget("text"),
+        "steps": [label.cget("text") for label in app.step_labels],
+        "tab": app.notebook.tab(app.notebook.select(), "text"),
+        "headings": [c.heading for c in app.ratings.table.columns],
+        "ratings": [list(row) for row in app.ratings.table.shown_values()],
+        "dialogs": dialogs.calls,
+        **times,
+    }
+
+
+def main(argv: list[str]) -> int:
+    if len(argv) != 2:
+        print("usage: --self-test OUT.json WORKBOOK", file=sys.stderr)
+        return 2
+    from secretary.gui.app import App
+
+    out, workbook = Path(argv[0]), Path(argv[1])
+    root = tk.Tk()
+    dialogs = QuietDialogs()
+    app = App(root, dialogs=dialogs)
+    times: dict[str, float] = {"started_at": time.time()}
+    deadline = time.monotonic() + TIMEOUT
+
+    def drawn(event=None) -> None:
+        if "drawn_at" not in times:
+            root.after_idle(lambda: times.setdefault("drawn_at", time.time()))
+
+    def step() -> None:
+        busy = not app.idle
+        if not busy and app.session.checked and not app.ratings.rows and app.session.errors == 0 \
+                and not app.session.update_failed and not app.session.updated:
+            app.update()  # never updated before: the ratings appear once the update has run
+            busy = True
+        if not busy and app.session.checked and "drawn_at" in times or time.monotonic() > deadline:
+            times["shown_at"] = time.time()
+            out.write_text(json.dumps(shown(app, dialogs, times), indent=1), encoding="utf-8")
+            app.close()
+            return
+        root.after(POLL_MS, step)
+
+    root.bind("<Expose>", drawn, add="+")
+    app.open_workbook(workbook)
+    root.after(POLL_MS, step)
+    root.mainloop()
+    return 0 if app.ratings.rows else 1
