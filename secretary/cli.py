@@ -231,7 +231,8 @@ def cmd_evaluate(args) -> int:
         print(f"  Games involving a player with few games: {ev.few_games:,.0f}, point log-loss {ev.few_log_loss:.4f}.")
     for what, unit, bands in (("each game", "games", ev.predictive.calibration),
                               ("each race", "races", ev.predictive_race.calibration)):
-        print(f"  Calibration of the predictive chance of {what}: when it was in each band, how often it happened:")
+        print(f"  Calibration of the predictive chance of {what}: when the favourite's chance was in each band,")
+        print("  how often the favourite won:")
         print(f"    {'band':>9} {unit:>8} {'predicted':>10} {'happened':>9}")
         for band in bands:
             if band.games:
