@@ -8,9 +8,10 @@ from __future__ import annotations
 import tkinter as tk
 from tkinter import ttk
 
+from secretary import userdirs
 from secretary.gui import recent
 from secretary.gui.widgets import button
-from secretary.userdirs import log_file, user_folder
+from secretary.userdirs import log_file
 
 TITLE = "Welcome to League secretary"
 INTRO = ("This program works out your league's player ratings from the results you keep in an Excel workbook, "
@@ -20,8 +21,8 @@ INTRO = ("This program works out your league's player ratings from the results y
 
 
 def demo_folder():
-    """Where File > Open the demo league puts its copy."""
-    return user_folder() / "demo league"
+    """Where File > Open the demo league puts it (a folder the secretary can find, not the hidden user folder)."""
+    return userdirs.demo_folder()
 
 
 def where_text() -> str:

@@ -144,6 +144,7 @@ class PublishedState:
     settings: Settings = field(default_factory=Settings)
     previous: "PublishedState | None" = None  # the update before, so its breakdown can be rebuilt
     tune_check: TuneCheck | None = None  # the last check of whether tuning would pay off
+    inputs: str = ""  # digest of everything the update read (rows, settings, players, ...) and the tool's version
 
 
 def _digest(*parts: object) -> str:

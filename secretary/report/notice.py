@@ -10,12 +10,12 @@ from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.platypus import CondPageBreak, KeepTogether, Spacer
 
 from secretary.model.breakdown import Breakdown
+from secretary.model.notice import PART_COLOURS as PART_HEX
 from secretary.model.notice import PART_NAMES, Notice, NoticeDivision, NoticeLine, build_notice, long_date
 from secretary.model.records import PlayerRating, Settings
 from secretary.report import layout
 
-# Okabe-Ito colours: told apart with every common kind of colour blindness.
-PART_COLOURS = tuple(colors.HexColor(c) for c in ("#0072B2", "#E69F00", "#009E73", "#CC79A7"))
+PART_COLOURS = tuple(colors.HexColor(c) for c in PART_HEX)
 HOW_IT_WORKS = (
     "Everyone's rating is worked out together, from all the results at once: a win counts for more "
     "against a strong player than against a weak one, and how strong each player is comes from "

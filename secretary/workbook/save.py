@@ -160,31 +160,80 @@ def save_workbook(wb: Workbook, path: str | Path, *, keep: int = 10, expect: Fil
     return SaveOutcome(target, backup, True, reason)
 
 
-def restore_previous(path: str | Path, *, keep: int = 10) -> Path:
-    """Bring back the newest backup; the current file is backed up first, so a restore can be undone."""
+@dataclass(frozen=True)
+class BackupVersion:
+    """One earlier version kept in the backups folder."""
+
+    number: int  # 1 = the newest, as `secretary restore --list` shows it
+    path: Path
+    kept_at: dt.datetime  # when it was replaced by a newer version
+    size: int
+    current: bool  # the same content as the workbook now
+
+
+def backup_versions(path: str | Path) -> list[BackupVersion]:
+    """The earlier versions of the workbook, newest first, numbered from 1."""
     path = Path(path)
-    backups = backups_of(path)
-    if not backups:
+    now = file_stamp(path).digest if path.is_file() else None
+    out = []
+    for item in backups_of(path):
+        try:
+            kept_at = dt.datetime.strptime(re.search(r"-(\d{8}-\d{6})(?:-\d+)?$", item.stem).group(1), "%Y%m%d-%H%M%S")
+        except ValueError:  # digits that are no date: not one of the tool's backups
+            continue
+        size = item.stat().st_size
+        same = now is not None and size == path.stat().st_size and file_stamp(item).digest == now
+        out.append(BackupVersion(len(out) + 1, item, kept_at, size, same))
+    return out
+
+
+def restore_previous(path: str | Path, *, pick: str | int | None = None) -> Path:
+    """Bring back an earlier version: `pick` is its number in `backup_versions` or the start of its date
+    and time ("2026-03-14" or "2026-03-14 20:15"); by default the newest that differs from the workbook now.
+    The current file is kept as a backup first (so a restore can be undone), and no version is pruned."""
+    path = writable_workbook(path)
+    versions = backup_versions(path)
+    if not versions:
         raise FileRefused(
             f"There is no earlier version of {path.name} to restore: the '{BACKUP_FOLDER}' folder "
             f"beside it holds no copy of it."
         )
+    chosen = _chosen_version(path, versions, pick)
     _refuse_if_open(path)
-    previous = backups[0]
     temp = _new_temp(path)
     try:
-        shutil.copyfile(previous, temp)
+        shutil.copyfile(chosen.path, temp)
         _copy_mode(path, temp)
         if not zipfile.is_zipfile(temp):
-            raise FileRefused(f"The backup {previous.name} is damaged and cannot be restored; try an older one.")
+            raise FileRefused(f"The backup {chosen.path.name} is damaged and cannot be restored; try an older one.")
         if path.exists():
             _backup(path)
         _replace(temp, path)
     except BaseException:
         _remove(temp)
         raise
-    _prune(path, keep)
-    return previous
+    return chosen.path
+
+
+def _chosen_version(path: Path, versions: list[BackupVersion], pick: str | int | None) -> BackupVersion:
+    if pick is None:
+        differing = [v for v in versions if not v.current]
+        if not differing:
+            raise FileRefused(f"Every earlier version of {path.name} kept is the same as the workbook now; "
+                              "nothing was changed.")
+        return differing[0]
+    text = str(pick).strip()
+    if text.isdigit():
+        found = [v for v in versions if v.number == int(text)]
+    else:
+        found = [v for v in versions if f"{v.kept_at:%Y-%m-%d %H:%M:%S}".startswith(text.replace("T", " "))]
+    if not found:
+        raise FileRefused(
+            f"No earlier version of {path.name} is numbered or dated '{text[:40]}'. "
+            f"List them with: secretary restore --list \"{path.name}\"")
+    if found[0].current:
+        raise FileRefused(f"Version {found[0].number} is the same as {path.name} now; nothing was changed.")
+    return found[0]
 
 
 def _save_checked(wb: Workbook, target: Path, keep: int, expect: FileStamp | None = None) -> Path | None:
@@ -388,19 +437,39 @@ def _backup(path: Path) -> Path:
     except OSError as exc:
         raise _backup_refused(exc, path, folder) from exc
     stamp = dt.datetime.now().strftime("%Y%m%d-%H%M%S")
-    # Within one second, number on from the newest backup of that second (never reuse a pruned name).
-    same_second = [b for b in backups_of(path) if b.name.startswith(f"{path.stem}-{stamp}")]
-    if not same_second:
-        dest = folder / f"{path.stem}-{stamp}{path.suffix}"
-    else:
-        last = re.search(r"-(\d+)$", same_second[0].stem[len(path.stem) + 1 + len(stamp):])
-        dest = folder / f"{path.stem}-{stamp}-{int(last.group(1)) + 1 if last else 2}{path.suffix}"
+    same = _same_backup(path)
+    if same is not None:  # this version is kept already: it moves up to now, so the ten kept stay distinct
+        dest = _backup_name(path, folder, stamp)
+        os.replace(same, dest)
+        return dest
+    dest = _backup_name(path, folder, stamp)
     try:
         shutil.copy2(path, dest)
     except OSError as exc:
         _remove(dest)
         raise _backup_refused(exc, path, folder) from exc
     return dest
+
+
+def _same_backup(path: Path) -> Path | None:
+    """The backup with the same content as the file at `path`, if one is kept."""
+    size, digest = path.stat().st_size, None
+    for item in backups_of(path):
+        if item.stat().st_size == size:
+            digest = digest or file_stamp(path).digest
+            if file_stamp(item).digest == digest:
+                return item
+    return None
+
+
+def _backup_name(path: Path, folder: Path, stamp: str) -> Path:
+    """backups/<stem>-<date-time><ext>, numbered on within one second."""
+    # Within one second, number on from the newest backup of that second (never reuse a pruned name).
+    same_second = [b for b in backups_of(path) if b.name.startswith(f"{path.stem}-{stamp}")]
+    if not same_second:
+        return folder / f"{path.stem}-{stamp}{path.suffix}"
+    last = re.search(r"-(\d+)$", same_second[0].stem[len(path.stem) + 1 + len(stamp):])
+    return folder / f"{path.stem}-{stamp}-{int(last.group(1)) + 1 if last else 2}{path.suffix}"
 
 
 def _backup_refused(exc: OSError, path: Path, folder: Path) -> FileRefused:
@@ -411,7 +480,7 @@ def _backup_refused(exc: OSError, path: Path, folder: Path) -> FileRefused:
 
 
 def _prune(path: Path, keep: int) -> None:
-    """Keep the newest `keep` backups; a failure here never undoes a good save."""
+    """Keep the newest `keep` backups (each a distinct version); a failure here never undoes a good save."""
     for old in backups_of(path)[keep:]:
         _remove(old)
 

@@ -55,6 +55,7 @@ def _document(state: PublishedState) -> dict:
         "settings": _settings(state.settings),
         "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
         "rows": [[identity, fp] for identity, fp in state.rows],
+        "inputs": state.inputs,
     }
 
 
@@ -119,6 +120,7 @@ def _parse(doc: dict) -> PublishedState | None:
         rows=rows,
         settings=settings,
         tune_check=_parse_tune_check(doc.get("tune_check")),
+        inputs=str(doc.get("inputs", "")),
     )
 
 

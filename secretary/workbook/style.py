@@ -156,7 +156,9 @@ def write_table(
 def _shown_length(value: object) -> int:
     if isinstance(value, float):
         return len(f"{value:.1f}")
-    if isinstance(value, (dt.date, dt.datetime)):
+    if isinstance(value, dt.datetime):
+        return len(TIME_FORMAT)  # "2026-04-16 10:30": a date's width would print as "###"
+    if isinstance(value, dt.date):
         return 10
     return len(str(value))
 

@@ -6,7 +6,7 @@ from typing import Sequence
 
 from openpyxl.chart import LineChart, Reference
 from openpyxl.chart.data_source import AxDataSource, StrRef
-from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.workbook.workbook import Workbook
 
 from secretary.model.records import PlayerRating, Problem, Settings, UpdateLog
@@ -31,12 +31,12 @@ from secretary.workbook.style import (
     write_table,
 )
 
-RATINGS_HEADERS = ("Rank", "Player", "Division", "Rating", "±", "Games", "Change", "Last played", "Note")
+RATINGS_HEADERS = ("Rank", "Player", "Division", "Rating", "±", "Weighted games", "Change", "Last played", "Note")
 LOG_HEADERS = (
     "Time", "Version", "Reference date", "Rows read", "Rows rated",
     "New rows", "Changed rows", "Removed rows", "Settings", "Warnings",
 )
-PROBLEM_HEADERS = ("Severity", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
+PROBLEM_HEADERS = ("Kind", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
 CHART_PLAYERS = 10
 NEW_NOTE = "new this update"
 FEW_GAMES_NOTE = "few games: rating still uncertain"
@@ -69,7 +69,7 @@ def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Setti
     ws = replace_sheet(wb, RATINGS_SHEET)
     write_table(
         ws, RATINGS_HEADERS, rows, freeze="C2",
-        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Games": GAMES_FORMAT,
+        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT,
                  "Change": CHANGE_FORMAT, "Last played": DATE_FORMAT},
     )
 
@@ -89,8 +89,8 @@ def write_history(wb: Workbook, date: dt.date, ratings: Sequence[PlayerRating]) 
     rows = [[names[k], *(history[d].get(k) for d in dates)] for k in now_rated + others]
     headers = ["Player", *(d.isoformat() for d in dates)]
     ws = replace_sheet(wb, HISTORY_SHEET)
-    write_table(ws, headers, rows, freeze="B2", formats={h: RATING_FORMAT for h in headers[1:]})
-    _add_chart(ws, len(headers), min(CHART_PLAYERS, len(now_rated)))
+    count = write_table(ws, headers, rows, freeze="B2", formats={h: RATING_FORMAT for h in headers[1:]})
+    _add_chart(ws, len(headers), min(CHART_PLAYERS, len(now_rated)), count + 3)
 
 
 def _read_history(wb: Workbook) -> tuple[dict[str, str], dict[dt.date, dict[str, float]]]:
@@ -125,8 +125,9 @@ def _as_date(text: str) -> dt.date | None:
         return None
 
 
-def _add_chart(ws, n_columns: int, n_players: int) -> None:
-    """A line chart of the top players' ratings over the update dates (straight lines)."""
+def _add_chart(ws, n_columns: int, n_players: int, below: int) -> None:
+    """A line chart of the top players' ratings over the update dates (straight lines), from row ``below`` down,
+    on a printed page of its own (a page break above it; it is shorter than a page)."""
     if n_players == 0:
         return
     chart = LineChart()
@@ -144,7 +145,8 @@ def _add_chart(ws, n_columns: int, n_players: int) -> None:
     for series in chart.series:
         series.cat = dates  # the date headers are text, so a text reference (numRef would show 1, 2, 3)
         series.smooth = False  # a rating moves in steps between updates; a curve would invent values
-    ws.add_chart(chart, f"{get_column_letter(n_columns + 2)}2")
+    ws.add_chart(chart, f"A{below}")
+    ws.row_breaks.append(Break(id=below - 2))  # after the table: the empty row above the chart starts its page
 
 
 def write_log(wb: Workbook, entry: UpdateLog) -> None:

@@ -18,14 +18,14 @@ def test_the_welcome_offers_the_demo_and_says_where_the_files_live(app, user_hom
     assert offered.window.winfo_viewable() and offered.window.title() == welcome.TITLE
     texts = [w.cget("text") for w in offered.window.winfo_children()[0].winfo_children() if w.winfo_class() == "TLabel"]
     place = texts[-1]
-    assert "backups" in place and str(user_home / "demo league") in place and str(log_file()) in place
+    assert "backups" in place and str(user_home / "League secretary demo") in place and str(log_file()) in place
     assert [b.cget("text") for b in offered.buttons.values()] == [
         "Try the demo league", "New league workbook\u2026", "Open my workbook\u2026", "Close"]
     screenshot(offered.window, "welcome")
     offered.buttons["demo"].invoke()
-    settle(app)
+    settle(app, 300)
     assert not offered.window.winfo_exists()
-    assert app.path == user_home / "demo league" / "Demo league.xlsx" and app.session.checked
+    assert app.path == user_home / "League secretary demo" / "league.xlsx" and app.session.checked
     assert not welcome.first_run() and welcome.offer(app) is None  # once a workbook was opened, no more welcome
 
 

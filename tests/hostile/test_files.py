@@ -149,6 +149,7 @@ def test_the_secretarys_lookup_into_ratings_shows_this_weeks_value_when_opened(t
     wb = openpyxl.load_workbook(league)
     mine = wb.create_sheet("Mine", 0)
     mine["A1"] = '=VLOOKUP("Ada Finch",Ratings!B:D,3,FALSE)'
+    wb["Results"].append(["2026-03-28", "Premier", "Ada Finch", "Dev Pike", 5, 1])  # this week's result
     wb.save(league)
     _as_excel_saved_it(league, "A1", "999")
     code, out = run("update", league)

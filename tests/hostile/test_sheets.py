@@ -82,7 +82,7 @@ def test_a_workbook_last_updated_before_the_markers_keeps_its_tool_sheets(tmp_pa
         for name, data in parts.items():
             z.writestr(name, data)
     names = openpyxl.load_workbook(league).sheetnames
-    code, out = run("update", league)
+    code, out = run("update", league, "--force")
     assert code == 0, out
     assert openpyxl.load_workbook(league).sheetnames == names and "(tool)" not in out
     assert "Since the last update: 0 new" in out  # the state was found and read

@@ -236,7 +236,7 @@ def test_backups_keep_the_newest_ten_and_restore_can_be_undone(league):
     restored = restore_previous(league)
     assert restored == backups[0]
     assert read_state(load_workbook(league)).reference_date == dt.date(2026, 3, 5) + dt.timedelta(weeks=10)
-    assert len(backups_of(league)) == 10
+    assert len(backups_of(league)) == 11  # the version replaced is kept too: a restore evicts no version
     restore_previous(league)  # undo: the version before the restore comes back
     assert read_state(load_workbook(league)).reference_date == dt.date(2026, 3, 5) + dt.timedelta(weeks=11)
 
