@@ -165,3 +165,21 @@ def test_home_division_rules_are_recorded():
     assert fit.division("Cal") == "Hill"
     rule = dict(zip(fit.names, fit.home_rule))
     assert rule == {"Ann": "played most", "Bea": "played most", "Cal": "Players sheet", "Dee": "no results"}
+
+
+def test_api_rates_with_division_levels_and_without_them_as_one_pool():
+    import secretary
+
+    rows, players = tiered_league(8)
+    tuples = [(r.date, r.player_a, r.player_b, r.games_a, r.games_b) for r in rows]
+    divisions = {p.name: p.division for p in players}
+    rated = secretary.rate(tuples, divisions=divisions, division_spread=100.0, starting_levels={"Hill": 50.0})
+    fit = fit_league([Result(r.date, r.player_a, r.player_b, r.games_a, r.games_b) for r in rows],
+                     Settings(division_spread=100.0), players=players, starting_levels={"Hill": 50.0})
+    for name in fit.names:
+        assert rated.rating(name) == pytest.approx(fit.rating(name), abs=1e-9)
+    assert rated.level("Hill") == pytest.approx(fit.level_points("Hill"), abs=1e-9)
+    assert rated.level_sd("Valley") == pytest.approx(fit.level_sd("Valley"), rel=1e-9)
+    plain = secretary.rate(tuples)  # no divisions: one pool, today's model
+    one_pool = fit_league([Result(r.date, r.player_a, r.player_b, r.games_a, r.games_b) for r in rows])
+    assert np.abs(np.array([plain.rating(n) for n in one_pool.names]) - one_pool.ratings).max() <= 1e-9
