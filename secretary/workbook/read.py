@@ -16,11 +16,12 @@ from secretary.workbook import guard, schema, toolsheets
 from secretary.workbook.cells import SheetCells
 from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.dates import parse_date
-from secretary.workbook.names import CloseIndex, Mention, clean, merge_aliases, name_key, resolve
+from secretary.workbook.names import MAX_NAME_LENGTH, CloseIndex, Mention, clean, merge_aliases, name_key, resolve
 
 from secretary.workbook.state import read_state, state_from_rows
 
 HEADER_SEARCH_ROWS = 10  # a title line or two above the headers is allowed
+SHOWN_LENGTH = 80  # characters of a cell's value shown in a message at most
 OUTLIER_ROWS = 5  # at most this many rows dated far after the rest count as typing slips
 _SHEET_ORDER = {spec.name: i for i, spec in enumerate(schema.INPUT_SHEETS)}
 _FORMULA_FIX = "Open and save the workbook in your spreadsheet program, or type the value."
@@ -75,7 +76,10 @@ def shown(value: object) -> str:
         return value.isoformat()
     if isinstance(value, float) and value.is_integer():
         return str(int(value))
-    return str(value)
+    text = str(value)
+    if len(text) > SHOWN_LENGTH:  # a message shows the start of a long value, never all of it
+        return f"{text[:SHOWN_LENGTH - 20]}... ({len(text):,} characters)"
+    return text
 
 
 def _blank(value: object) -> bool:
@@ -378,6 +382,9 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
         players.append(spelling)
         if not spelling:
             fault(key, "", "the player's name is blank", "Write the player's name.", blank=True)
+        elif len(spelling) > MAX_NAME_LENGTH:
+            fault(key, spelling, f"this name is {len(spelling):,} characters long; a player's name has at most "
+                  f"{MAX_NAME_LENGTH}", "Write the player's name alone in the cell.")
     if players[0] and players[1] and name_key(players[0]) == name_key(players[1]):
         fault("player_b", values["player_b"], "a player cannot play against themself",
               "Check the two names.")
@@ -390,6 +397,11 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
             fault(key, values[key], f"the games won are {wrong}",
                   "Write the games (racks or frames) won, a whole number of 0 or more.", blank=wrong == "blank")
         games.append(number)
+        if number is not None and number > settings.longest_race and not void:
+            fault(key, values[key], f"{number} games won in one match is more than the Longest race "
+                  f"({settings.longest_race}) on the Settings sheet",
+                  "Correct the score; if matches in this league really run longer, raise 'Longest race' "
+                  "on the Settings sheet.")
     if games == [0, 0] and not void and ok:
         fault("games_b", values["games_b"], "both players won 0 games",
               "Write the real score, or start the Note with 'void' to keep the row unrated.")
@@ -551,8 +563,15 @@ def _division_spellings(spellings) -> dict[str, str]:
 
 def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _Reader) -> None:
     index = CloseIndex([p.name for p in players] + list(first_row))
+    listed = CloseIndex([p.name for p in players])
     for display, mention in first_row.items():
         if name_key(display) not in known:
+            slip = listed.matches(display, n=1)
+            if slip:  # one typing slip from a listed player: an error, with the listed spelling to write
+                reader.add("error", schema.RESULTS.name, mention.row, mention.column, mention.spelling,
+                           f"not in Players, but spelled like '{slip[0]}'",
+                           f"Write '{slip[0]}' if it is that player, or add '{display}' to Players.")
+                continue
             close = index.matches(display)
             hint = f"; close spellings: {', '.join(close)}" if close else ""
             reader.add("warning", schema.RESULTS.name, mention.row, mention.column, mention.spelling,
@@ -624,7 +643,13 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
                        "if they really played twice that day, nothing to do.")
         else:
             seen[key] = r.row
-    dated = sorted(results, key=lambda r: r.date, reverse=True)
+    today = dt.date.today()  # the one place the clock is read: a result cannot be dated after today
+    for r in results:
+        if r.date > today and not r.void:
+            reader.add("error", sheet.spec.name, r.row, sheet.header("date"), r.date,
+                       f"this date is after today ({today.isoformat()})",
+                       "Check the date (often the year); a match is entered once it has been played.")
+    dated = sorted((r for r in results if r.date <= today), key=lambda r: r.date, reverse=True)
     cut = 0
     for i in range(min(OUTLIER_ROWS, len(dated) - 1)):
         if (dated[i].date - dated[i + 1].date).days > 365:
