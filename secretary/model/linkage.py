@@ -50,18 +50,17 @@ from dataclasses import dataclass
 from typing import Iterable
 
 import numpy as np
-import scipy.linalg as sla
 import scipy.sparse.linalg as spla
 from scipy.special import expit
 
-from secretary.model.fit import LaplacianPattern, conjugate_gradient, pair_curvature
+from secretary.model.fit import LaplacianPattern, conjugate_gradient, joint_hessian, pair_curvature
 from secretary.model.linking_matches import LinkingMatch, expected_race_games, suggest_matches
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
 from secretary.model.watch_sentences import NO_DIVISION, division_todo, held_todo, pool_todo
 
 __all__ = ["DivisionLink", "HeldPlayer", "LinkingMatch", "Pool", "WatchList", "watch_list", "NO_DIVISION",
-           "HessianSolver", "LevelSolver", "Contrasts", "level_vectors", "expected_race_games"]
+           "HessianSolver", "Contrasts", "level_vectors", "expected_race_games"]
 
 # Players up to which solves use a sparse LU factor; above, Jacobi-preconditioned CG.  Leagues
 # whose divisions mix at random fill the factor in badly (10,000 players: 30 M entries, 40 s),
@@ -234,45 +233,22 @@ class HessianSolver:
         return conjugate_gradient(self._H.dot, b, self._inv_diag, self.rtol, 20 * self.n)
 
 
-class LevelSolver:
-    """Solves ``H x = b`` for ``H = K - B diag(beta) B^T`` by Woodbury, with solves of ``K``.
-
-    ``H^-1 = K^-1 + K^-1 B M^-1 B^T K^-1`` with ``M = diag(1 / beta) - B^T K^-1 B``
-    (positive definite whenever ``H`` is).
-    """
-
-    def __init__(self, base: HessianSolver, group: np.ndarray, beta: np.ndarray):
-        n, n_groups = base.n, len(beta)
-        self.base, self.n = base, n
-        self.B = np.zeros((n, n_groups))
-        self.B[np.arange(n), group] = 1.0
-        self.KB = base.solve(self.B).reshape(self.B.shape)
-        self._M = sla.cho_factor(np.diag(1.0 / beta) - self.B.T @ self.KB)
-
-    def solve(self, b) -> np.ndarray:
-        """``H^-1 b`` for a vector or for each column of a matrix."""
-        x = self.base.solve(b).reshape(np.shape(b))
-        return x + self.KB @ sla.cho_solve(self._M, self.B.T @ x)
-
-
 def division_spread(fit) -> float:
-    """The fit's prior SD of division levels, log-odds (0 = one pool)."""
-    return getattr(fit.settings, "division_spread", 0.0) / points_per_logodds(fit.settings.scale)
+    """The fit's prior SD of division levels, log-odds (0 when the levels are fixed: one pool)."""
+    return fit.levels.sd if fit.levels is not None else 0.0
 
 
-def posterior_solver(fit, method: str = "auto", tau: float | None = None):
-    """A solver for the posterior precision ``H`` of the strengths, and the pair weights ``n p (1 - p)``.
+def posterior_solver(fit, method: str = "auto"):
+    """A solver for the fit's posterior precision ``H``, and the pair weights ``n p (1 - p)``.
 
-    ``tau``: the prior SD of division levels in log-odds (default: the fit's Division spread).
+    ``H`` is over the strengths, and with free division levels over ``(r, L)``
+    (``fit.hessian``: the players' block bordered by one row per division).
     """
     h = pair_curvature(fit.pairs, fit.r)
-    base = HessianSolver(LaplacianPattern(fit.pairs).matrix(h, fit.prior_sd), method)
-    tau = division_spread(fit) if tau is None else tau
-    if tau <= 0 or base.n == 0:
-        return base, h
-    s2, t2 = fit.prior_sd**2, tau**2
-    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
-    return LevelSolver(base, fit.group, t2 / (s2 * (s2 + sizes * t2))), h
+    H = LaplacianPattern(fit.pairs).matrix(h, fit.prior_sd)
+    if fit.levels is not None:
+        H = joint_hessian(H, fit.levels, fit.prior_sd)
+    return HessianSolver(H, method), h
 
 
 # ---------------------------------------------------------------------------
@@ -281,21 +257,22 @@ def posterior_solver(fit, method: str = "auto", tau: float | None = None):
 
 @dataclass(frozen=True)
 class Contrasts:
-    """Quantities with posterior variance ``offset + w^T H^-1 w`` per column ``w`` of ``vectors``.
+    """Quantities ``w . x`` over the unknowns ``x`` of ``H`` (strengths, then any free levels).
 
-    ``prior`` is the variance of the same quantities under the prior alone
-    (log-odds squared).
+    ``prior`` is their variance under the prior alone and ``offset`` the part of
+    it no game can reach (``Var(c . L | r)`` for a level; 0 for an average
+    strength), both in log-odds squared.
     """
 
-    vectors: np.ndarray  # (n_players, k)
+    vectors: np.ndarray  # (n_unknowns, k)
     offset: np.ndarray  # (k,)
     prior: np.ndarray  # (k,)
 
     def variance(self, solver) -> tuple[np.ndarray, np.ndarray]:
-        """Posterior variances (k,) and ``X = H^-1 W`` (n_players, k)."""
+        """Posterior variances ``w^T H^-1 w`` (k,) and ``X = H^-1 W`` (n_unknowns, k)."""
         W = self.vectors
         X = solver.solve(W).reshape(W.shape) if W.size else W.copy()
-        return self.offset + np.einsum("ij,ij->j", W, X), X
+        return np.einsum("ij,ij->j", W, X), X
 
     def shares(self, var: np.ndarray, s2: float) -> np.ndarray:
         """The share of what games can pin down that they do: ``1 - (Var_post - offset) / (Var_prior - offset)``.
@@ -321,34 +298,46 @@ def level_vectors(members: np.ndarray) -> np.ndarray:
     return members / sizes - (1.0 / n if n else 0.0)
 
 
-def average_contrasts(members: np.ndarray, group: np.ndarray, n_groups: int, s2: float, t2: float) -> Contrasts:
-    """Each set's average strength minus the league's; prior covariance ``s^2 I + tau^2 B B^T``."""
+def average_contrasts(fit, members: np.ndarray) -> Contrasts:
+    """Each set's average strength minus the league's; prior covariance ``s^2 I + tau^2 B B^T``.
+
+    With free levels the vectors carry zeros in the levels' rows of ``H``.
+    """
     U = level_vectors(members)
-    per_division = np.zeros((n_groups, U.shape[1]))
-    np.add.at(per_division, group, U)
-    prior = s2 * np.sum(U**2, axis=0) + t2 * np.sum(per_division**2, axis=0)
+    per_division = np.zeros((len(fit.group_names), U.shape[1]))
+    np.add.at(per_division, fit.group, U)
+    prior = fit.prior_sd**2 * np.sum(U**2, axis=0) + division_spread(fit) ** 2 * np.sum(per_division**2, axis=0)
+    if fit.levels is not None:
+        U = np.vstack([U, np.zeros_like(per_division)])
     return Contrasts(U, np.zeros(U.shape[1]), prior)
 
 
-def level_contrasts(group: np.ndarray, sizes: np.ndarray, s2: float, t2: float) -> Contrasts:
-    """Each division's level minus the other divisions' average level (``tau^2 = t2 > 0``)."""
-    D = len(sizes)
-    C = (np.eye(D) * D - 1.0) / (D - 1) if D > 1 else np.zeros((D, D))
-    shrink = t2 / (s2 + sizes * t2)
-    W = (C * shrink[None, :])[:, group].T
-    return Contrasts(W, np.sum(C**2 * (s2 * shrink)[None, :], axis=1), t2 * np.sum(C**2, axis=1))
+def against_the_rest(D: int) -> np.ndarray:
+    """Row d: division d's level minus the other divisions' average level (D >= 2)."""
+    return (np.eye(D) * D - 1.0) / (D - 1)
 
 
-def division_contrasts(fit, tau: float | None = None) -> Contrasts:
-    """The divisions' levels against the rest: level contrasts with Division spread, else averages.
+def level_contrasts(fit) -> Contrasts:
+    """Each division's level minus the other divisions' average level (free levels only).
 
-    ``tau``: the prior SD of division levels in log-odds (default: the fit's Division spread).
+    The vectors are ``c`` in the levels' rows of the joint ``H``; the offset is
+    ``Var(c . L | r)``, the part no game can see.
     """
+    s2, t2 = fit.prior_sd**2, division_spread(fit) ** 2
+    sizes = fit.levels.sizes
+    D = len(sizes)
+    C = against_the_rest(D)
+    hidden = t2 * s2 / (s2 + sizes * t2)  # Var(L_d | r)
+    vectors = np.vstack([np.zeros((len(fit.names), D)), C.T])
+    return Contrasts(vectors, np.sum(C**2 * hidden[None, :], axis=1), t2 * np.sum(C**2, axis=1))
+
+
+def division_contrasts(fit) -> Contrasts:
+    """The divisions against the rest: their levels with free levels, else their average strengths."""
+    if fit.levels is not None:
+        return level_contrasts(fit)
     n_groups = len(fit.group_names)
-    s2, t2 = fit.prior_sd**2, (division_spread(fit) if tau is None else tau) ** 2
-    if t2 > 0 and len(fit.names):
-        return level_contrasts(fit.group, np.bincount(fit.group, minlength=n_groups), s2, t2)
-    return average_contrasts(fit.group[:, None] == np.arange(n_groups)[None, :], fit.group, n_groups, s2, t2)
+    return average_contrasts(fit, fit.group[:, None] == np.arange(n_groups)[None, :])
 
 
 # ---------------------------------------------------------------------------
@@ -426,19 +415,17 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
     ppl = points_per_logodds(fit.settings.scale)
     cross_games, player_cross = _cross_games(fit)
     recent = _recent_cross_games(fit, results) if results is not None else None
-    ratings = fit.ratings
-    mean_rating = float(ratings.mean()) if len(ratings) else fit.settings.centre
+    level, relative = _levels(fit)
     rows = []
     for g, name in enumerate(fit.group_names):
         inside = np.flatnonzero(fit.group == g)
         linkers = inside[player_cross[inside] > 0]
         linkers = linkers[np.argsort(-player_cross[linkers], kind="stable")]
-        level = float(ratings[inside].mean()) if len(inside) else fit.settings.centre
         rows.append(DivisionLink(
             division=name,
             players=len(inside),
-            level=level,
-            relative_level=level - mean_rating,
+            level=float(level[g]),
+            relative_level=float(relative[g]),
             level_sd=float(np.sqrt(max(var[g], 0.0)) * ppl),
             prior_sd=float(np.sqrt(prior[g]) * ppl),
             linked_share=float(share[g]),
@@ -451,6 +438,21 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
         ))
     rows.sort(key=lambda d: (not d.flagged, d.linked_share, d.division))
     return rows
+
+
+def _levels(fit) -> tuple[np.ndarray, np.ndarray]:
+    """Each division's level and its level against the rest, points.
+
+    Free levels: ``centre + L_d`` and ``L_d`` minus the other levels' average.
+    One pool: the players' mean rating and that minus the league's mean rating.
+    """
+    ppl, centre = points_per_logodds(fit.settings.scale), fit.settings.centre
+    if fit.levels is not None:
+        return centre + fit.level * ppl, against_the_rest(len(fit.level)) @ fit.level * ppl
+    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
+    mean = np.bincount(fit.group, fit.ratings, len(fit.group_names)) / np.maximum(sizes, 1)
+    mean[sizes == 0] = centre
+    return mean, mean - (float(fit.ratings.mean()) if len(fit.names) else centre)
 
 
 def _whole_pools(fit) -> np.ndarray:
@@ -487,9 +489,7 @@ def _pools(fit, solver) -> list[Pool]:
     separate = [k for k in range(1, len(sizes)) if sizes[k] >= 2 and not whole[k]]
     if not separate:
         return []
-    members = pool[:, None] == np.array(separate)[None, :]
-    contrasts = average_contrasts(members, fit.group, len(fit.group_names), fit.prior_sd**2,
-                                  division_spread(fit) ** 2)
+    contrasts = average_contrasts(fit, pool[:, None] == np.array(separate)[None, :])
     var, _ = contrasts.variance(solver)
     ppl = points_per_logodds(fit.settings.scale)
     out = []

@@ -102,7 +102,7 @@ class _Search:
 
     def __init__(self, fit, solver, cand, targets, X, var):
         m = len(cand)
-        E = np.zeros((fit.pairs.n_players, m))
+        E = np.zeros((solver.n, m))  # the strengths' rows (the levels' rows of a joint H stay 0)
         E[cand, np.arange(m)] = 1.0
         S = solver.solve(E).reshape(E.shape)[cand]
         self.S = 0.5 * (S + S.T)
