@@ -6,13 +6,14 @@ Anything else: the command line, exactly as ``secretary ...``.
 
 Two hidden first arguments serve the app itself: ``--background-worker`` makes
 this executable the window's background process (a frozen app has no
-``python -m secretary.gui.child``), and ``--self-test OUT WORKBOOK`` opens the
+``python -m secretary.gui.child``), and ``--self-test OUT WORKBOOK [--print]`` opens the
 window on a workbook, waits until its ratings are shown, writes what the
 window shows to OUT (JSON) and closes: the bundle's test and start-time
 measurement use it.
 """
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
 
@@ -41,8 +42,26 @@ def hide_own_console() -> None:
         pass  # a console left showing is untidy, never harmful
 
 
+def restore_system_libraries() -> None:
+    """Programs the app starts (the PDF viewer) get the system's own libraries, never the app's copies.
+
+    The bundle's start-up points the library path at the app's folder; an older copy of a library there
+    can break a newer system program.  This process has loaded its libraries already; the background
+    process is the app's executable again, which sets the path for itself.
+    """
+    if not getattr(sys, "frozen", False):
+        return
+    for name in ("LD_LIBRARY_PATH", "DYLD_LIBRARY_PATH"):
+        original = os.environ.pop(f"{name}_ORIG", None)
+        if original is None:
+            os.environ.pop(name, None)
+        else:
+            os.environ[name] = original
+
+
 def main(argv: list[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
+    restore_system_libraries()
     if argv[:1] == [CHILD_ARGUMENT]:
         from secretary.gui.child import main as child_main
 

@@ -64,3 +64,18 @@ def test_a_frozen_app_starts_itself_as_the_background_process(monkeypatch):
     assert worker.child_command() == [sys.executable, "-m", "secretary.gui.child"]
     monkeypatch.setattr(sys, "frozen", True, raising=False)  # what PyInstaller's bootloader sets
     assert worker.child_command() == [sys.executable, worker.CHILD_ARGUMENT]
+
+
+def test_programs_a_frozen_app_starts_get_the_system_libraries(monkeypatch):
+    from secretary.launch import restore_system_libraries
+
+    monkeypatch.setenv("LD_LIBRARY_PATH", "/opt/app/_internal")
+    restore_system_libraries()  # from the source: nothing to undo
+    assert os.environ["LD_LIBRARY_PATH"] == "/opt/app/_internal"
+    monkeypatch.setattr(sys, "frozen", True, raising=False)
+    restore_system_libraries()  # the bundle's start-up had no library path of the user's to keep
+    assert "LD_LIBRARY_PATH" not in os.environ
+    monkeypatch.setenv("LD_LIBRARY_PATH", "/opt/app/_internal:/usr/local/lib")
+    monkeypatch.setenv("LD_LIBRARY_PATH_ORIG", "/usr/local/lib")
+    restore_system_libraries()
+    assert os.environ["LD_LIBRARY_PATH"] == "/usr/local/lib" and "LD_LIBRARY_PATH_ORIG" not in os.environ

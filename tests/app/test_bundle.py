@@ -13,6 +13,7 @@ import shutil
 import subprocess
 import sys
 import tarfile
+import time
 from pathlib import Path
 
 import openpyxl
@@ -109,15 +110,32 @@ def test_bundled_demo_gives_the_same_ratings_and_pdfs_as_the_source(demo, tmp_pa
     assert "DejaVuSans" in fonts and "DejaVuSans-Bold" in fonts  # the bundled font, embedded
 
 
-def test_bundled_window_shows_the_ratings(app, demo, display, tmp_path):
-    out = tmp_path / "shown.json"
-    done = subprocess.run([str(app / "secretary"), "--self-test", str(out), str(demo / "league.xlsx")],
-                          env=bare_env(tmp_path, display), capture_output=True, text=True, timeout=900)
+OPENER = """#!/bin/sh
+# stands in for the desktop's opener (xdg-open): writes down what it was given, and the library path it got
+printf '%s\\n%s\\n' "$1" "${LD_LIBRARY_PATH-unset}" > "$OPENED.part" && mv "$OPENED.part" "$OPENED"
+"""
+
+
+def test_bundled_window_shows_the_ratings_and_prints(app, demo, display, tmp_path):
+    out, opened, bin_folder = tmp_path / "shown.json", tmp_path / "opened.txt", tmp_path / "bin"
+    bin_folder.mkdir()
+    (bin_folder / "xdg-open").write_text(OPENER, encoding="utf-8")
+    (bin_folder / "xdg-open").chmod(0o755)
+    env = bare_env(tmp_path, display) | {"PATH": f"{bin_folder}:/usr/bin:/bin", "OPENED": str(opened)}
+    done = subprocess.run([str(app / "secretary"), "--self-test", str(out), str(demo / "league.xlsx"), "--print"],
+                          env=env, capture_output=True, text=True, timeout=900)
     assert done.returncode == 0, done
     shown = json.loads(out.read_text(encoding="utf-8"))
+    deadline = time.monotonic() + 60
+    while not opened.exists() and time.monotonic() < deadline:
+        time.sleep(0.1)
+    pdf, library_path = opened.read_text(encoding="utf-8").splitlines()
+    assert pdf == str(demo / "league - notice board.pdf") and shown["printed"]
+    assert library_path == "unset"  # the viewer gets the system's libraries, not the app's copies
     sheet = ratings_sheet(demo / "league.xlsx")
     assert [(r[1], r[2], r[5]) for r in shown["ratings"]] == [(p, f"{r:.0f}", d) for p, d, r, _ in sheet]
-    assert shown["tab"] == "Ratings" and shown["dialogs"] == [] and "showing the ratings of the last update" in shown["status"]
+    assert shown["tab"] == "Ratings" and shown["dialogs"] == [["open_externally", pdf]]
+    assert shown["status"] == "The notice board is open in your PDF viewer: league - notice board.pdf"
     assert shown["title"] == "league.xlsx - League secretary" and shown["drawn_at"] <= shown["shown_at"]
 
 
