@@ -67,7 +67,8 @@ LEAGUE_NIGHT = "League night"
 VOID_NOTE = f"{schema.VOID_PREFIX} - player taken ill"
 
 # Division: (mean strength, spread within the division, race to), strengths in log-odds.
-# The spreads give the league a rating SD of about 150 points, as real leagues show.
+# The spreads are invented (not measured from any league): they give the demo a rating SD of
+# about 150 points.
 LEVELS = {
     PREMIER: (0.90, 0.55, 5),
     ONE: (0.15, 0.55, 5),

@@ -77,7 +77,8 @@ def summary(outcome) -> list[str]:
             lines.append(f"  {bd.note}")
     else:
         c = bd.changes
-        lines.append(f"  Since the last update: {len(c.new)} new, {len(c.edited)} edited, {len(c.removed)} removed result rows.")
+        since = f"At the last update ({book.state.updated_at})" if outcome.unchanged else "Since the last update"
+        lines.append(f"  {since}: {len(c.new)} new, {len(c.edited)} edited, {len(c.removed)} removed result rows.")
         movers = sorted((p for p in bd.players if not p.is_new), key=lambda p: -abs(p.change))[:5]
         if movers:
             lines.append("  Biggest changes: " + "; ".join(
@@ -95,7 +96,7 @@ def summary(outcome) -> list[str]:
         if len(book.warnings) > 5:
             lines.append(f"    ... and {len(book.warnings) - 5} more")
     if outcome.written is None:
-        lines.append("  Dry run: nothing was written.")
+        lines.append(f"  {outcome.reason}")
     else:
         lines.append(f"  {outcome.reason}")
         lines.append(f"  Ratings written to: {outcome.written}")
@@ -125,7 +126,7 @@ def _print_problems(problems, stream=None) -> None:
 def cmd_update(args) -> int:
     from secretary.pipeline import run_update
 
-    outcome = run_update(args.workbook, out=args.out, dry_run=args.dry_run, progress=ProgressBar())
+    outcome = run_update(args.workbook, out=args.out, dry_run=args.dry_run, progress=ProgressBar(), force=args.force)
     print("\n".join(summary(outcome)))
     return EXIT_DONE
 
@@ -150,10 +151,22 @@ def cmd_new(args) -> int:
 
 
 def cmd_restore(args) -> int:
-    from secretary.pipeline import restore
+    from secretary.pipeline import backup_versions, restore
 
-    backup = restore(args.workbook)
-    print(f"Restored {args.workbook} from {backup.name}. The version it replaced was kept as a backup too.")
+    if args.list:
+        versions = backup_versions(args.workbook)
+        if not versions:
+            print(f"No earlier versions of {Path(args.workbook).name} are kept yet.")
+            return EXIT_DONE
+        print(f"Earlier versions of {Path(args.workbook).name} kept in its backups folder (newest first):")
+        for v in versions:
+            print(f"  {v.number:>2}  {v.kept_at:%Y-%m-%d %H:%M:%S}  {v.size / 1024:,.0f} KB"
+                  + ("  (the same as the workbook now)" if v.current else ""))
+        print(f"Bring one back with: secretary restore \"{args.workbook}\" --pick NUMBER (or --pick \"DATE TIME\").")
+        return EXIT_DONE
+    backup = restore(args.workbook, pick=args.pick)
+    print(f"Restored {args.workbook} from {backup.name}. The version it replaced was kept as a backup too; "
+          "no earlier version was removed.")
     return EXIT_DONE
 
 
@@ -218,7 +231,8 @@ def cmd_evaluate(args) -> int:
         print(f"  Games involving a player with few games: {ev.few_games:,.0f}, point log-loss {ev.few_log_loss:.4f}.")
     for what, unit, bands in (("each game", "games", ev.predictive.calibration),
                               ("each race", "races", ev.predictive_race.calibration)):
-        print(f"  Calibration of the predictive chance of {what}: when it was in each band, how often it happened:")
+        print(f"  Calibration of the predictive chance of {what}: when the favourite's chance was in each band,")
+        print("  how often the favourite won:")
         print(f"    {'band':>9} {unit:>8} {'predicted':>10} {'happened':>9}")
         for band in bands:
             if band.games:
@@ -255,6 +269,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("workbook", help="the league workbook (.xlsx or .xlsm)")
     p.add_argument("--dry-run", action="store_true", help="do everything except write: shows what the update would do")
     p.add_argument("--out", metavar="FILE", help="write the updated workbook to FILE instead of over the original")
+    p.add_argument("--force", action="store_true",
+                   help="rebuild the sheets and printouts even when nothing is new since the last update")
     p.set_defaults(run=cmd_update)
 
     p = sub.add_parser("check", help="only check the workbook for problems; nothing is written")
@@ -265,8 +281,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("workbook", help="the file to create (it must not exist yet)")
     p.set_defaults(run=cmd_new)
 
-    p = sub.add_parser("restore", help="bring back the previous version of the workbook from its backups folder")
+    p = sub.add_parser("restore", help="bring back an earlier version of the workbook from its backups folder")
     p.add_argument("workbook", help="the league workbook")
+    p.add_argument("--list", action="store_true", help="list the earlier versions kept, numbered, newest first")
+    p.add_argument("--pick", metavar="N|DATE",
+                   help="the version to bring back: its number in --list, or its date and time (e.g. \"2026-03-14 20:15\"); "
+                        "default: the newest that differs from the workbook now")
     p.set_defaults(run=cmd_restore)
 
     p = sub.add_parser("open", help="open the window (with the workbook, if given)")
@@ -306,6 +326,7 @@ def main(argv=None) -> int:
         return int(stop.code or 0)
     if getattr(args, "run", None) is None:
         return open_window(None)
+    before = _file_mark(getattr(args, "workbook", None))
     try:
         return args.run(args)
     except WorkbookProblems as err:
@@ -316,15 +337,30 @@ def main(argv=None) -> int:
         print(err, file=sys.stderr)
         return EXIT_PROBLEMS
     except KeyboardInterrupt:
-        print("Stopped; the workbook was not changed.", file=sys.stderr)
+        changed = before is not None and _file_mark(args.workbook) != before
+        print("Stopped; " + ("the workbook had already been saved." if changed else "the workbook was not changed."),
+              file=sys.stderr)
         return EXIT_PROBLEMS
     except Exception:  # a bug: never a traceback on screen
         from secretary.userdirs import log_exception
 
         log = log_exception(f"secretary {' '.join(argv or sys.argv[1:])}")
-        print(f"Something went wrong inside secretary; the workbook was not changed. "
+        changed = before is not None and _file_mark(args.workbook) != before
+        said = ("the workbook was saved before the problem, so it holds this run's results"
+                if changed else "the workbook was not changed")
+        print(f"Something went wrong inside secretary; {said}. "
               f"The details are in the log file at {log}", file=sys.stderr)
         return EXIT_BUG
+
+
+def _file_mark(path) -> tuple[int, int] | None:
+    """Size and modification time of the file at ``path`` (a symbolic link's target), to tell truthfully
+    whether a run that failed had already saved it; None when there is no such file."""
+    try:
+        info = Path(path).stat() if path else None
+    except OSError:
+        return None
+    return (info.st_size, info.st_mtime_ns) if info else None
 
 
 def open_window(workbook) -> int:

@@ -8,6 +8,7 @@ stage has finished; a cancelled or failed update leaves the workbook as it was.
 from __future__ import annotations
 
 import csv
+import hashlib
 import datetime as dt
 import shutil
 from dataclasses import dataclass, replace
@@ -28,11 +29,12 @@ from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fin
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
 from secretary.report.notice import write_notice_pdf
-from secretary.workbook import fidelity, graft, save, schema, state
+from secretary.workbook import fidelity, graft, save, schema, state, toolsheets
 from secretary.workbook.fixtures_sheet import write_fixture_columns
 from secretary.workbook.notice_sheet import write_notice
 from secretary.workbook.read import LeagueBook, read_workbook
 from secretary.workbook.template import new_workbook
+from secretary.workbook.printing import set_up_printing
 from secretary.workbook.watch_sheet import write_watch
 from secretary.workbook.why_sheet import write_why
 from secretary.workbook.write import write_history, write_log, write_problems, write_ratings
@@ -64,6 +66,7 @@ class UpdateOutcome:
     forecasts: tuple[FixtureForecast, ...]
     log: UpdateLog
     notes: tuple[str, ...]  # the pre-fit diagnosis in league words
+    unchanged: bool = False  # nothing new since the last update: nothing written, its account shown
 
 
 def _quiet(stage: str, fraction: float) -> None:
@@ -140,6 +143,7 @@ def run_update(
     progress: Progress | None = None,
     cancel: CancelFlag | None = None,
     now: dt.datetime | None = None,
+    force: bool = False,
 ) -> UpdateOutcome:
     """The weekly update of the workbook at ``path``.
 
@@ -151,19 +155,36 @@ def run_update(
     Raises ``WorkbookProblems`` (nothing written) when the checks find errors,
     ``Cancelled`` when the cancel flag is set, ``FileRefused`` when the file
     cannot be read or must not be overwritten.
+
+    An update with nothing new (the same rows, settings and players as the last
+    update read, by the same version of the tool) writes nothing, leaves the
+    printouts alone and returns the last update's account (``unchanged``);
+    ``force`` rebuilds everything anyway.
     """
+    path = Path(path) if dry_run or out is not None else save.writable_workbook(path)
+    if out is not None and Path(out).suffix.lower() not in (".xlsx", ".xlsm"):
+        raise FileRefused(f"--out must name an Excel workbook ending in .xlsx (got {Path(out).name}); "
+                          "nothing was written.")
     try:
-        return _update(Path(path), out, dry_run, progress or _quiet, cancel, now, graft_it=True)
+        return _update(path, out, dry_run, progress or _quiet, cancel, now, graft_it=True, force=force)
     except graft.GraftRefused:
-        return _update(Path(path), out, dry_run, progress or _quiet, cancel, now, graft_it=False)
+        return _update(path, out, dry_run, progress or _quiet, cancel, now, graft_it=False, force=force)
 
 
-def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, graft_it: bool) -> UpdateOutcome:
+def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, graft_it: bool,
+            force: bool = False) -> UpdateOutcome:
     _step(progress, cancel, "Reading the workbook", 0.0)
+    stamp_read = save.file_stamp(path) if path.is_file() else None
     book = read_workbook(path)
     if book.has_errors:
         raise WorkbookProblems(book.problems)
     published = _stored_state(path, book)
+    if not force and out is None and _nothing_new(book, published):
+        progress("Done", 1.0)
+        return _outcome(path, _published_from(book, published), unchanged=True, reason=(
+            f"Nothing new since the last update ({published.updated_at}): the same result rows, settings "
+            "and players, so nothing was written and the printouts were left as they were. "
+            "To rebuild everything anyway, update with --force."))
     settings = book.settings
     graft_it = graft_it and out is None and not book.fixtures
 
@@ -194,36 +215,56 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     write_history(wb, log.reference_date, ratings)
     write_log(wb, log)
     write_problems(wb, book.warnings)
+    set_up_printing(wb, settings)
     if book.fixtures and not companion and not graft_it:
         write_fixture_columns(wb, forecasts, settings)
     state.write_state(wb, PublishedState(
         updated_at=stamp, reference_date=log.reference_date,
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
         rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
-        previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check))
+        previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check,
+        inputs=inputs_digest(book)))
 
+    clash = toolsheets.clash_note(toolsheets.of_workbook(wb))
     written = backup = pdf = card = None
     reason = "Dry run: nothing was written."
     if not dry_run:
         _step(progress, cancel, "Saving the workbook safely", 0.9)
-        saved = graft.save_grafted(path, wb) if graft_it else save.save_workbook(wb, target)
+        expect = stamp_read if target == path else None
+        saved = graft.save_grafted(path, wb, expect=expect) if graft_it else save.save_workbook(wb, target, expect=expect)
         written, backup = saved.path, saved.backup
         reason = saved.reason
         if companion:
             reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
-        try:
-            pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
-            if forecasts:
-                card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
-        except OSError as exc:  # the workbook is saved; a PDF held open by a viewer must not undo that
-            reason += (f" The printouts could not be written ({exc.strerror or exc}); if a PDF is open in "
-                       "a viewer, close it and run `secretary notice` to print the notice board again.")
+        pdf, card, failed = _printouts(written, breakdown, ratings, settings, watch, forecasts)
+        reason += failed
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + ((advice,) if advice else ()))
+        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + tuple(n for n in (advice, clash) if n))
+
+
+def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):
+    """The notice board and handicap card PDFs, after the workbook is saved: a failure here is reported
+    truthfully ("saved; the printouts failed because ...") and never undoes the save."""
+    pdf = card = None
+    try:
+        pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
+        if forecasts:
+            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
+    except OSError as exc:  # e.g. a PDF held open by a viewer
+        return pdf, card, (f" The workbook was saved; the printouts failed because {exc.strerror or exc}. "
+                           "If a PDF is open in a viewer, close it and run `secretary notice` to print the "
+                           "notice board again.")
+    except Exception:  # a bug in the printouts: logged, and said truthfully
+        from secretary.userdirs import log_exception
+
+        log = log_exception("printouts after a saved update")
+        return pdf, card, (" The workbook was saved; the printouts failed because of a problem inside the "
+                           f"tool (details in {log}). Run `secretary notice` to try printing again.")
+    return pdf, card, ""
 
 
 def _tune_check(book: LeagueBook, fit: LeagueFit, published, progress: Progress, cancel):
@@ -249,7 +290,7 @@ def _update_log(book: LeagueBook, fit: LeagueFit, breakdown: Breakdown, stamp: s
 
 def _was_updated_before(book: LeagueBook) -> bool:
     """The tool's Ratings sheet is there, so a missing record means it was deleted."""
-    return schema.RATINGS_SHEET in book.sheet_names
+    return schema.RATINGS_SHEET in book.tool_sheets
 
 
 @dataclass(frozen=True)
@@ -268,7 +309,6 @@ def _published(path: str | Path, what: str) -> Published:
     if book.has_errors:
         raise WorkbookProblems(book.problems)
     stored = _stored_state(Path(path), book)
-    book = replace(book, state=stored)
     if stored is None:
         raise SecretaryError(f"{Path(path).name} has not been updated yet: run the update first, then the {what}.")
     changes = compare_rows(book.results, stored.rows)
@@ -276,18 +316,41 @@ def _published(path: str | Path, what: str) -> Published:
         raise SecretaryError(
             f"The results or settings in {Path(path).name} changed since the last update, so the published "
             f"ratings are not current. Run the update first, then the {what}.")
+    return _published_from(book, stored)
+
+
+def _published_from(book: LeagueBook, stored: PublishedState) -> Published:
+    book = replace(book, state=stored)
     fit = fit_league(book.results, book.settings, players=book.players)
     breakdown = explain_changes(book.results, book.state.previous, book.settings, book.players, current=fit)
     return Published(book, fit, _published_ratings(fit, breakdown), breakdown)
 
 
+def inputs_digest(book: LeagueBook) -> str:
+    """A digest of everything an update reads from the workbook, and of the tool's version."""
+    digest = hashlib.blake2b(digest_size=16)
+    for part in (__version__, repr(book.settings), repr(book.players), repr(book.fixtures),
+                 repr(getattr(book, "divisions", ())), *(fingerprint(r) for r in book.results)):
+        digest.update(part.encode("utf-8", "surrogatepass") + b"\x1f")
+    return digest.hexdigest()
+
+
+def _nothing_new(book: LeagueBook, published: PublishedState | None) -> bool:
+    """The last update read exactly this and its sheets are still there: an update would change nothing."""
+    return (published is not None and bool(published.inputs) and schema.RATINGS_SHEET in book.tool_sheets
+            and published.inputs == inputs_digest(book))
+
+
 def last_update(path: str | Path) -> UpdateOutcome:
     """What the last update published, rebuilt without writing anything; refuses when it is not current."""
-    pub = _published(path, "review")
-    path = Path(path)
+    return _outcome(Path(path), _published(path, "review"), reason="Showing the last update (nothing was written).")
+
+
+def _outcome(path: Path, pub: Published, *, reason: str, unchanged: bool = False) -> UpdateOutcome:
+    """An outcome that shows the last update's account without writing anything."""
     notice, card = notice_pdf_path(path), handicap_pdf_path(path)
     return UpdateOutcome(
-        path=path, written=None, companion=False, reason="Showing the last update (nothing was written).",
+        path=path, written=None, companion=False, reason=reason, unchanged=unchanged,
         backup=None, notice_pdf=notice if notice.exists() else None, handicap_pdf=card if card.exists() else None,
         book=pub.book, fit=pub.fit, ratings=pub.ratings, breakdown=pub.breakdown,
         watch=watch_list(pub.fit, pub.book.results), forecasts=forecast_fixtures(pub.book.fixtures, pub.fit),
@@ -326,16 +389,28 @@ def _checked_book(path: str | Path) -> LeagueBook:
     return book
 
 
+def _history_book(path: str | Path, what: str) -> LeagueBook:
+    """The checked workbook, refused in plain words when its history is too short to predict from."""
+    book = _checked_book(path)
+    weeks = {r.date.isocalendar()[:2] for r in book.results if not r.void}
+    if len(weeks) < 2:
+        raise SecretaryError(
+            f"{Path(path).name} has rated results from {len(weeks)} week{'s' if len(weeks) != 1 else ''}: "
+            f"{what} predicts each week from the weeks before it, so it needs results from at least two "
+            "different weeks.")
+    return book
+
+
 def evaluate_workbook(path: str | Path, *, cancel: CancelFlag | None = None) -> Evaluation:
     """How well the ratings would have predicted the league's own history, week by week."""
-    book = _checked_book(path)
+    book = _history_book(path, "the check")
     return evaluate(book.results, book.settings, players=book.players, cancel=cancel)
 
 
 def tune_workbook(path: str | Path, *, apply: bool = False, progress: Progress | None = None,
                   cancel: CancelFlag | None = None) -> Tuning:
     """Choose half-life and skill spread by walk-forward log-loss; write them only when ``apply``."""
-    book = _checked_book(path)
+    book = _history_book(path, "tuning")
     report = (lambda done, total: progress("Trying settings", done / max(total, 1))) if progress else None
     tuning = tune(book.results, book.settings, players=book.players, progress=report, cancel=cancel)
     if apply and tuning.improved:
@@ -349,9 +424,14 @@ def new_league(path: str | Path) -> Path:
     return new_workbook(path)
 
 
-def restore(path: str | Path) -> Path:
-    """Bring back the previous version of the workbook from its backups."""
-    return save.restore_previous(path)
+def restore(path: str | Path, pick: str | int | None = None) -> Path:
+    """Bring back an earlier version of the workbook from its backups (see ``save.restore_previous``)."""
+    return save.restore_previous(path, pick=pick)
+
+
+def backup_versions(path: str | Path) -> list[save.BackupVersion]:
+    """The earlier versions kept of the workbook, newest first."""
+    return save.backup_versions(path)
 
 
 def append_results_csv(path: str | Path, csv_path: str | Path) -> int:

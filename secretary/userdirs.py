@@ -21,6 +21,26 @@ def user_folder() -> Path:
     return base
 
 
+def documents_folder() -> Path:
+    """A folder the secretary can find with their file manager (not hidden): Documents, else the home folder.
+
+    Under ``SECRETARY_HOME`` (tests, portable use) it is that folder, so that nothing lands elsewhere.
+    """
+    override = os.environ.get("SECRETARY_HOME")
+    if override:
+        return Path(override)
+    documents = Path.home() / "Documents"
+    return documents if documents.is_dir() else Path.home()
+
+
+DEMO_FOLDER = "League secretary demo"
+
+
+def demo_folder() -> Path:
+    """Where File > Open the demo league makes the demo (a second one goes beside it, numbered)."""
+    return documents_folder() / DEMO_FOLDER
+
+
 def log_file() -> Path:
     """The log of unexpected errors (with their tracebacks), for a bug report."""
     return user_folder() / "secretary.log"

@@ -82,7 +82,7 @@ def test_update_writes_outputs_and_a_second_update_without_new_results_changes_n
     second = ratings_sheet(demo_copy)
     assert first.keys() == second.keys()
     assert all(abs(first[n] - second[n]) < 1e-9 for n in first)
-    assert "0 new, 0 edited, 0 removed" in capsys.readouterr().out
+    assert "Nothing new since the last update" in capsys.readouterr().out  # and so nothing written
 
 
 def test_dry_run_writes_nothing(demo_copy, capsys):

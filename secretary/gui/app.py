@@ -9,11 +9,12 @@ import sys
 import gc
 import tkinter as tk
 from pathlib import Path
+from tkinter import font as tkfont
 from tkinter import ttk
 
-from secretary import __version__, pipeline
+from secretary import __version__
 from secretary.errors import SecretaryError
-from secretary.gui import recent, views
+from secretary.gui import recent, views, welcome
 from secretary.gui.dialogs import Dialogs
 from secretary.gui.look import set_dpi_awareness, style_window
 from secretary.gui.settings_dialog import SettingsDialog
@@ -24,7 +25,8 @@ from secretary.gui.tabs.ratings import RatingsTab
 from secretary.gui.tabs.watch import WatchTab
 from secretary.gui.widgets import Scheduler, button
 from secretary.gui.worker import Worker
-from secretary.userdirs import log_file, user_folder
+from secretary.model.sentences import plural
+from secretary.userdirs import documents_folder
 
 POLL_MS = 50
 TITLE = "League secretary"
@@ -33,7 +35,8 @@ STEP_TIPS = (
     "Work out every player's rating from all the results and write the ratings, the reasons and the "
     "notice board back into the workbook (the previous version is kept). Ctrl+U or F5.",
     "See each player's change split into its four parts, biggest changes first.",
-    "Open the printable notice board (a PDF) in your PDF viewer, ready to print. Ctrl+P.",
+    "Open the printable notice board (a PDF) in your PDF viewer, ready to print. Ctrl+P. "
+    "The handicap card for the coming fixtures is in the League menu.",
 )
 ROUTINE = """\
 Each week:
@@ -61,10 +64,10 @@ class App:
         self.updated = None  # jobs.Updated: the last update's results
         self.session = views.Session()
         self.closed = False
+        self.where = ""  # where a new workbook was put: said once, after its check
         style_window(root)
         root.title(TITLE)
-        root.geometry("1024x720")
-        root.minsize(800, 560)
+        self._place()
         self._menus()
         self._steps()
         self._status_line()  # packed before the tabs so that a small window never squeezes it out
@@ -78,6 +81,14 @@ class App:
 
     # ------------------------------------------------------------ building
 
+    def _place(self) -> None:
+        """As big as suits the screen (or as last time), on the screen, its bottom edge above a taskbar."""
+        screen = (self.root.winfo_screenwidth(), self.root.winfo_screenheight())
+        width, height = views.window_size(screen, recent.saved_size())
+        x, y = max(0, (screen[0] - width) // 2), max(0, (screen[1] - 80 - height) // 2)
+        self.root.geometry(f"{width}x{height}+{x}+{y}")
+        self.root.minsize(*views.smallest_size(screen))
+
     def _menus(self) -> None:
         bar = tk.Menu(self.root)
         files = tk.Menu(bar, tearoff=False)
@@ -89,7 +100,7 @@ class App:
         files.add_command(label="Open the demo league in a folder of my choice\u2026",
                           command=lambda: self.open_demo(True))
         files.add_separator()
-        files.add_command(label="Restore previous version\u2026", command=self.restore_previous)
+        files.add_command(label="Restore an earlier version\u2026", command=self.restore_previous)
         files.add_separator()
         files.add_command(label="Quit", accelerator="Ctrl+Q", command=self.close)
         bar.add_cascade(label="File", menu=files)
@@ -97,13 +108,14 @@ class App:
         league.add_command(label="Check the results", command=self.check)
         league.add_command(label="Update the ratings", accelerator="Ctrl+U", command=self.update)
         league.add_command(label="Print the notice board", accelerator="Ctrl+P", command=self.print_notice)
+        league.add_command(label="Print the handicap card", command=self.print_card)
         league.add_separator()
         league.add_command(label="Settings\u2026", command=self.open_settings)
         bar.add_cascade(label="League", menu=league)
         helps = tk.Menu(bar, tearoff=False)
         helps.add_command(label="The weekly routine", command=lambda: self.dialogs.info("The weekly routine", ROUTINE))
-        helps.add_command(label="Where is the log file?", command=lambda: self.dialogs.info(
-            "Log file", f"Unexpected errors are written with their details to:\n{log_file()}"))
+        helps.add_command(label="Where are my files? (workbook, backups, log file)",
+                          command=lambda: welcome.show_where(self))
         helps.add_command(label="About", command=lambda: self.dialogs.info(
             "About", f"secretary {__version__}\nWeekly player ratings for a cue-sports league."))
         bar.add_cascade(label="Help", menu=helps)
@@ -126,20 +138,40 @@ class App:
         self.open_button.grid(row=0, column=0, sticky="ew", padx=(0, 12))
         self.workbook_label = ttk.Label(strip, text="No workbook open", style="Muted.TLabel")
         self.workbook_label.grid(row=1, column=0, sticky="w")
-        self.step_buttons, self.step_labels = [], []
+        self.step_buttons, self.step_labels, self.arrows = [], [], []
+        self.strip = strip
         actions = (self.check, self.update, self.review, self.print_notice)
         for i, (name, action, tip) in enumerate(zip(views.STEPS, actions, STEP_TIPS)):
             if i:
-                ttk.Label(strip, text="\u2192", font="SecretaryBold").grid(row=0, column=2 * i, padx=2)
+                self.arrows.append(ttk.Label(strip, text="\u2192", font="SecretaryBold"))
+                self.arrows[-1].grid(row=0, column=2 * i, padx=2)
             b = button(strip, f"{i + 1}  {name}", action, tip, style="Step.TButton")
             b.grid(row=0, column=2 * i + 1, sticky="ew")
-            label = ttk.Label(strip, text="", style="waiting.TLabel")
+            label = ttk.Label(strip, text="", style="waiting.TLabel", justify="left")
             label.grid(row=1, column=2 * i + 1, sticky="w", padx=4)
             self.step_buttons.append(b)
             self.step_labels.append(label)
         for i in range(4):
-            strip.columnconfigure(2 * i + 1, weight=1)
+            strip.columnconfigure(2 * i + 1, weight=1, uniform="step")
+        strip.bind("<Configure>", lambda e: self._fit_steps(e.width), add="+")
         ttk.Separator(self.root).pack(fill="x")
+
+    def _fit_steps(self, width: int) -> None:
+        """The longest step names that fit the strip's width; the state lines under them wrap."""
+        font = tkfont.nametofont("SecretaryBold")
+        b = self.step_buttons[0]
+        overhead = b.winfo_reqwidth() - font.measure(b.cget("text"))
+        fixed = 20 + self.open_button.winfo_reqwidth() + 12 + sum(a.winfo_reqwidth() + 4 for a in self.arrows)
+        column = (width - fixed) / 4
+
+        def fits(names) -> bool:
+            return all(font.measure(f"{i + 1}  {n}") + overhead <= column for i, n in enumerate(names))
+
+        for i, name in enumerate(views.step_names(fits)):
+            if self.step_buttons[i].cget("text") != f"{i + 1}  {name}":
+                self.step_buttons[i].configure(text=f"{i + 1}  {name}")
+        for label in self.step_labels:
+            label.configure(wraplength=max(80, int(column) - 8))
 
     def _tabs(self) -> None:
         self.notebook = ttk.Notebook(self.root)
@@ -158,7 +190,7 @@ class App:
     def _status_line(self) -> None:
         line = ttk.Frame(self.root, padding=(8, 4))
         line.pack(fill="x", side="bottom")
-        self.status = ttk.Label(line, text="", anchor="w")
+        self.status = ttk.Label(line, text="", anchor="w", justify="left")
         self.status.pack(side="left", fill="x", expand=True)
         self.cancel_button = button(line, "Cancel", self.cancel,
                                     "Stop the work now; the workbook is left exactly as it was.")
@@ -166,6 +198,9 @@ class App:
         self.progress = ttk.Progressbar(line, length=200, maximum=100, mode="determinate")
         self.progress.pack(side="right", padx=8)
         self.cancel_button.state(["disabled"])
+        # Long messages wrap onto a second line rather than run off the window's edge.
+        line.bind("<Configure>", lambda e: self.status.configure(wraplength=max(200, e.width - 40 - (
+            self.progress.winfo_reqwidth() + self.cancel_button.winfo_reqwidth()))), add="+")
 
     def _keys(self) -> None:
         for keys, action in ((("<Control-o>", "<Control-O>"), self.choose_workbook),
@@ -201,6 +236,9 @@ class App:
             text = views.STATE_WORDS[states[i]] + ("  \u2190 next" if i == upcoming else "")
             if i == 1 and states[i] == views.DONE and self.session.update_note:
                 text += f"  ({self.session.update_note})"
+            running = views.RUNNING_WORDS.get(self.worker.job) if busy else None
+            if running is not None and running[0] == i:
+                text, style = running[1], "waiting"
             label.configure(text=text, style=f"{style}.TLabel")
         first = self.path is None
         self.open_button.configure(style="Next.TButton" if first else "TButton")
@@ -215,7 +253,7 @@ class App:
 
     def _clear(self) -> None:
         self.checked = self.updated = None
-        self.problems.show(())
+        self.problems.clear()
         self.ratings.clear()
         self.changes.show(None)
         self.watch.clear()
@@ -262,6 +300,9 @@ class App:
             self._shown_last(value)
         elif job in ("new", "demo"):
             self.open_workbook(value)
+            if job == "demo":
+                self.where = (f" The demo league is {value.name} in {value.parent} (updated twice, so What changed "
+                              "shows the second week).")
         elif job == "restore":
             self.say(f"Restored the previous version (from {value.name}); checking it again.")
             self.session = views.Session(opened=True)
@@ -276,7 +317,8 @@ class App:
         self.cancel_button.state(["disabled"])
         self.say(failure.message)
         if job == "last" and failure.kind == "refused":  # results or settings changed since the last update
-            self.session = self.session.but(updated=False, reviewed=False, printed=False, update_note="")
+            self.session = self.session.but(updated=False, reviewed=False, printed=False, update_note="",
+                                            waiting_results=True)
             when = views.stamp_day(self.checked.updated_at if self.checked is not None else None)
             self.say(f"{self.path.name}: new results are waiting for an update. The results or settings changed "
                      f"since the last update ({when}), so choose 2 Update the ratings to include them.")
@@ -286,6 +328,9 @@ class App:
             self.session = self.session.but(checked=True, errors=errors, update_failed=job == "update")
             self.notebook.select(self.problems.frame)
         elif failure.kind != "cancelled":
+            if job == "check":  # the workbook could not be read at all: no list of problems to show
+                self.session = self.session.but(checked=False)
+                self.problems.clear(failure.message)
             if job == "update":
                 self.session = self.session.but(update_failed=True)
             self.dialogs.error("The work stopped", failure.message)
@@ -297,15 +342,19 @@ class App:
         """Step 1: read the workbook and list its problems."""
         if self.path is None:
             return self.choose_workbook()
-        self._start("check", self.worker.child.call("check", self.path), f"Checking {self.path.name}\u2026")
+        if self._start("check", self.worker.child.call("check", self.path), f"Checking {self.path.name}\u2026"):
+            self.problems.clear(f"Checking {self.path.name}\u2026")
 
     def _checked(self, checked) -> None:
         self.checked = checked
         self.problems.show(checked.problems, checked.layouts)
+        from secretary import pipeline  # imported on first use: the window draws without loading the engine
+
         notice = pipeline.notice_pdf_path(self.path).exists()
         self.session = self.session.but(checked=True, errors=len(checked.errors), update_failed=False,
                                         notice_exists=notice)
-        self.say(f"{self.path.name}: {checked.result_rows} result rows. " + views.problems_summary(checked.problems))
+        self.say(f"{self.path.name}: {plural(checked.result_rows, 'result row')}. "
+                 + views.problems_summary(checked.problems) + self.where)
         if checked.problems:
             self.notebook.select(self.problems.frame)
         if checked.updated_at and not checked.errors:  # updated before: show that update if it is still current
@@ -324,12 +373,13 @@ class App:
         self.ratings.show(updated)
         self.changes.show(updated)
         self.watch.show(updated.watch)
-        self.fixtures.show(updated.forecasts)
+        self.fixtures.show(updated.forecasts, updated.latest_result)
         self.session = self.session.but(checked=True, errors=0, updated=True, update_failed=False, reviewed=False,
-                                        printed=False, notice_exists=updated.notice_pdf is not None, update_note="")
+                                        printed=False, notice_exists=updated.notice_pdf is not None, update_note="",
+                                        waiting_results=False)
         self.notebook.select(self.ratings.frame)
         notes = " ".join(updated.notes)
-        self.say(f"Ratings updated for {len(updated.ratings)} players. {updated.reason} {notes}".strip())
+        self.say(f"Ratings updated for {plural(len(updated.ratings), 'player')}. {updated.reason} {notes}".strip())
 
     def _shown_last(self, updated) -> None:
         """The last update, still current, shown as if it had just run: step 2 is done already."""
@@ -337,8 +387,10 @@ class App:
         when = views.stamp_day(updated.checked.updated_at)
         self.session = self.session.but(update_note=f"last update {when}")
         warnings = len(updated.checked.problems)
-        self.say(f"{self.path.name}: showing the ratings of the last update ({when}) for {len(updated.ratings)} "
-                 "players; nothing was written." + (f" {warnings} warning(s) under Problems." if warnings else ""))
+        self.say(f"{self.path.name}: showing the ratings of the last update ({when}) for "
+                 f"{plural(len(updated.ratings), 'player')}; nothing was written."
+                 + (f" {plural(warnings, 'warning')} under Problems." if warnings else "") + self.where)
+        self.where = ""
 
     def review(self) -> None:
         """Step 3: look at what changed."""
@@ -349,18 +401,46 @@ class App:
         """Step 4: open the PDF notice board in the system's viewer."""
         if self.path is None:
             return
+        from secretary import pipeline
+
         pdf = self.updated.notice_pdf if self.updated is not None else pipeline.notice_pdf_path(self.path)
+        if self._show_pdf("notice board", pdf, "There is no notice board yet: update the ratings first."):
+            self.session = self.session.but(printed=True)
+            self.refresh_steps()
+
+    def print_card(self) -> None:
+        """The handicap card for the coming fixtures, in the system's viewer."""
+        if self.path is None:
+            self.dialogs.info("Handicap card", "Open a workbook and update its ratings first.")
+            return
+        from secretary import pipeline
+
+        pdf = self.updated.handicap_pdf if self.updated is not None else pipeline.handicap_pdf_path(self.path)
+        self._show_pdf("handicap card", pdf, "There is no handicap card yet: it is made by the update when the "
+                       "workbook has fixtures to come (a Fixtures sheet).")
+
+    def _show_pdf(self, what: str, pdf, missing: str) -> bool:
+        """Open a PDF; when no viewer opens, say where it is and offer its folder. True when it is shown."""
+        title = what[0].upper() + what[1:]
         if pdf is None or not Path(pdf).exists():
-            self.dialogs.info("Notice board", "There is no notice board yet: update the ratings first.")
-            return
+            self.dialogs.info(title, missing)
+            return False
+        pdf = Path(pdf)
         try:
-            self.dialogs.open_externally(Path(pdf))
-        except SecretaryError as err:
-            self.dialogs.error("Notice board", str(err))
-            return
-        self.session = self.session.but(printed=True)
-        self.say(f"The notice board is open in your PDF viewer: {Path(pdf).name}")
-        self.refresh_steps()
+            opened = self.dialogs.open_externally(pdf)
+        except SecretaryError:
+            opened = False
+        if opened is not False:
+            self.say(f"The {what} is open in your PDF viewer: {pdf.name}, in {pdf.parent}")
+            return True
+        self.say(f"No PDF viewer opened. The {what} is saved as {pdf.name} in {pdf.parent}")
+        if self.dialogs.ask_yes_no(title, f"No PDF viewer opened on this computer. The {what} is saved here:\n\n"
+                                   f"{pdf}\n\nOpen the folder that holds it?"):
+            try:
+                self.dialogs.open_externally(pdf.parent)
+            except SecretaryError as err:
+                self.dialogs.error(title, str(err))
+        return True
 
     def cancel(self) -> None:
         if self.worker.busy:
@@ -395,23 +475,33 @@ class App:
             self._start("new", self.worker.child.call("new", path), "Making a blank workbook\u2026")
 
     def open_demo(self, choose: bool) -> None:
-        """Copy the invented demo league into the user folder (or a chosen one) and open it."""
-        folder = user_folder() / "demo league"
+        """The command line's demo (first ratings, then a new week) in the documents folder (or a chosen one)."""
+        folder = documents_folder()
         if choose:
-            folder = self.dialogs.ask_folder("Where should the demo league go?", user_folder())
+            folder = self.dialogs.ask_folder("Where should the demo league go?", folder)
             if folder is None:
                 return
-        self._start("demo", self.worker.child.call("demo", folder), "Copying the demo league\u2026")
+        self._start("demo", self.worker.child.call("demo", folder),
+                    f"Making the demo league in {folder} (two updates)\u2026")
 
     def restore_previous(self) -> None:
         if self.path is None:
             self.dialogs.info("Restore", "Open a workbook first.")
             return
-        if not self.dialogs.ask_yes_no("Restore previous version", (
-                f"Put back the previous version of {self.path.name} from its backups folder?\n"
-                "The version it replaces is kept as a backup too, so this can be undone.")):
+        from secretary.workbook.save import backup_versions  # loaded when needed: the window starts fast
+
+        versions = [v for v in backup_versions(self.path) if not v.current]
+        if not versions:
+            self.dialogs.info("Restore", f"No earlier version of {self.path.name} that differs from it is kept.")
             return
-        self._start("restore", self.worker.child.call("restore", self.path), "Restoring\u2026")
+        choice = self.dialogs.choose("Restore an earlier version", (
+            f"Which version of {self.path.name} should come back from its backups folder?\n"
+            "The version it replaces is kept as a backup too, so this can be undone."),
+            [f"{v.kept_at:%d %b %Y, %H:%M:%S}  ({v.size / 1024:,.0f} KB)" for v in versions])
+        if choice is None:
+            return
+        self._start("restore", self.worker.child.call("restore", self.path, versions[choice].number),
+                    "Restoring\u2026")
 
     def open_settings(self) -> SettingsDialog | None:
         if self.checked is None:
@@ -429,6 +519,7 @@ class App:
             return
         self.worker.cancel.set()
         self.closed = True
+        recent.remember_size(self.root.winfo_width(), self.root.winfo_height())
         self.scheduler.cancel_all()
         for ident in self.root.tk.splitlist(self.root.tk.call("after", "info")):
             self.root.after_cancel(ident)  # the tooltips' own timers too: none may fire after the window is gone
@@ -451,5 +542,7 @@ def run(workbook: str | Path | None = None) -> int:
     app = App(root)
     if workbook is not None:
         app.open_workbook(Path(workbook))
+    else:
+        welcome.offer(app)  # first run: the demo league, a new workbook, and where the files live
     root.mainloop()
     return 0

@@ -5,8 +5,9 @@ import tkinter as tk
 from tkinter import font as tkfont
 
 from secretary.gui import views
+from secretary.model.notice import PART_COLOURS
 
-UP, DOWN, LINE, MUTED = "#2e7d32", "#c62828", "#1f5fa8", "#6b6b6b"
+LINE, MUTED = "#1f5fa8", "#6b6b6b"
 
 
 def draw_history(canvas: tk.Canvas, history, width: int, height: int) -> None:
@@ -34,29 +35,52 @@ def draw_history(canvas: tk.Canvas, history, width: int, height: int) -> None:
         canvas.create_text(width - 4, height - 2, text=views.day(last), anchor="se", fill=MUTED, font=small)
 
 
-def draw_change(canvas: tk.Canvas, x: float, y: float, width: float, change) -> float:
-    """One player's change: headline, the four parts as bars, the sentence; returns the y below it."""
+def chart_left(width: float) -> tuple[float, float]:
+    """Where a change chart's bars start (from the card's left edge) and how wide they are."""
+    normal = tkfont.nametofont("TkDefaultFont")
+    label_w = max(normal.measure(p) for p in views.PARTS) + 8
+    value_w = normal.measure("-0000") + 8
+    return label_w + value_w, max(60.0, width - label_w - value_w)
+
+
+def draw_axis(canvas: tk.Canvas, x: float, y: float, width: float, scale: float) -> float:
+    """The points axis shared by every chart below it (ticks at round values); returns the y below it."""
+    small = tkfont.nametofont("TkSmallCaptionFont")
+    left, chart_w = chart_left(width)
+    zero = x + left + chart_w / 2
+    canvas.create_text(x, y, text="Points", anchor="nw", font=small, fill=MUTED)
+    below = y + small.metrics("linespace") + 2
+    canvas.create_line(x + left, below, x + left + chart_w, below, fill=MUTED)
+    for value in views.axis_ticks(scale):
+        tx = zero + value * (chart_w / 2) / scale
+        canvas.create_line(tx, below - 3, tx, below + 3, fill=MUTED)
+        canvas.create_text(tx, y, text=views.signed(value), anchor="n", font=small, fill=MUTED)
+    return below + 6
+
+
+def draw_change(canvas: tk.Canvas, x: float, y: float, width: float, change, scale: float | None = None) -> float:
+    """One player's change: headline, the four parts as bars (in the printed board's part colours, to
+    ``scale`` points per half-width when given), the sentence naming the player; returns the y below it."""
     normal = tkfont.nametofont("TkDefaultFont")
     bold = tkfont.nametofont("SecretaryBold")
     line = normal.metrics("linespace")
     headline = canvas.create_text(x, y, text=views.change_headline(change), anchor="nw", font=bold, width=width)
     y = canvas.bbox(headline)[3] + 4
     if not change.is_new:
-        label_w = max(normal.measure(p) for p in views.PARTS) + 8
-        value_w = normal.measure("-0000") + 8
-        chart_w = max(60.0, width - label_w - value_w)
-        zero, bars = views.bar_geometry(change.shown[3:7], chart_w)
-        left = x + label_w + value_w
+        left, chart_w = chart_left(width)
+        zero, bars = views.bar_geometry(change.shown[3:7], chart_w, scale)
+        left += x
         top = y
-        for bar in bars:
-            canvas.create_text(x, y + line / 2, text=bar.label, anchor="w", font=normal)
-            colour = UP if bar.value >= 0 else DOWN
+        for bar, colour in zip(bars, PART_COLOURS):
+            canvas.create_rectangle(x, y + 4, x + line - 8, y + line - 4, fill=colour, outline="")
+            canvas.create_text(x + line - 4, y + line / 2, text=bar.label, anchor="w", font=normal)
             canvas.create_text(left - 8, y + line / 2, text=views.signed(bar.value), anchor="e",
-                               font=normal, fill=colour if bar.value else MUTED)
+                               font=normal, fill="#222222" if bar.value else MUTED)
             if bar.x1 - bar.x0 >= 1:
                 canvas.create_rectangle(left + bar.x0, y + 3, left + bar.x1, y + line - 3, fill=colour, outline="")
             y += line
         canvas.create_line(left + zero, top, left + zero, y, fill=MUTED)
         y += 2
-    item = canvas.create_text(x, y, text=change.sentence, anchor="nw", width=width, font=normal, fill="#333333")
+    text = views.named_sentence(change)
+    item = canvas.create_text(x, y, text=text, anchor="nw", width=width, font=normal, fill="#333333")
     return canvas.bbox(item)[3] + 4

@@ -7,12 +7,12 @@ holds only what the window shows; the league's result rows stay behind, and a
 from __future__ import annotations
 
 import datetime as dt
-import shutil
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Mapping
 
 from secretary import pipeline
+from secretary.userdirs import DEMO_FOLDER
 from secretary.model.breakdown import PlayerChange
 from secretary.model.fixtures import FixtureForecast
 from secretary.model.linkage import WatchList
@@ -54,6 +54,9 @@ class Updated:
     written: Path | None
     notice_pdf: Path | None
     history: Mapping[str, list[tuple[dt.date, float]]]
+    handicap_pdf: Path | None = None
+    latest_result: dt.date | None = None  # the newest result's date: fixtures before it are past
+
 
 
 def _checked(book) -> Checked:
@@ -86,7 +89,8 @@ def _updated(outcome: pipeline.UpdateOutcome, workbook: Path | None) -> Updated:
         note=bd.note, new_rows=len(changes.new), edited_rows=len(changes.edited), removed_rows=len(changes.removed),
         watch=outcome.watch, forecasts=outcome.forecasts, divisions=tuple(outcome.fit.group_names),
         notes=outcome.notes, reason=outcome.reason, written=outcome.written, notice_pdf=outcome.notice_pdf,
-        history=pipeline.rating_history(workbook) if workbook else {})
+        history=pipeline.rating_history(workbook) if workbook else {}, handicap_pdf=outcome.handicap_pdf,
+        latest_result=max((p.last_played for p in outcome.ratings if p.last_played), default=None))
 
 
 def save_settings(path, values, progress, cancel) -> Path:
@@ -94,25 +98,24 @@ def save_settings(path, values, progress, cancel) -> Path:
     return pipeline.save_settings(path, values)
 
 
-def restore(path, progress, cancel) -> Path:
-    return pipeline.restore(path)
+def restore(path, pick, progress, cancel) -> Path:
+    return pipeline.restore(path, pick=pick)
 
 
 def new_league(path, progress, cancel) -> Path:
     return pipeline.new_league(path)
 
 
-def copy_demo(folder, progress, cancel) -> Path:
-    """A fresh copy of the invented demo league in ``folder`` (never over an existing file)."""
+def make_demo(folder, progress, cancel) -> Path:
+    """The command line's demo (``secretary demo``) in a new folder inside ``folder``; returns its workbook."""
     folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
-    target, n = folder / "Demo league.xlsx", 1
-    while target.exists():
+    target, n = folder / DEMO_FOLDER, 1
+    while (target / "league.xlsx").exists():  # never over an earlier demo
         n += 1
-        target = folder / f"Demo league ({n}).xlsx"
-    shutil.copyfile(pipeline.DATA / "demo-league.xlsx", target)
-    return target
+        target = folder / f"{DEMO_FOLDER} ({n})"
+    pipeline.run_demo(target, progress=progress)
+    return target / "league.xlsx"
 
 
 JOBS = {"check": check, "update": update, "last": last_update, "settings": save_settings, "restore": restore,
-        "new": new_league, "demo": copy_demo}
+        "new": new_league, "demo": make_demo}

@@ -1,4 +1,4 @@
-"""The workbooks opened lately, remembered in the tool's user folder."""
+"""What the window remembers in the tool's user folder: the workbooks opened lately, and its own size."""
 from __future__ import annotations
 
 import json
@@ -33,3 +33,25 @@ def remember(path: str | Path) -> list[Path]:
     except OSError:
         pass  # not being able to remember is no reason to stop the secretary's work
     return paths[:KEEP]
+
+
+def _settings_file() -> Path:
+    return user_folder() / "window.json"
+
+
+def saved_size() -> tuple[int, int] | None:
+    """The window's size when it was last closed, or None."""
+    try:
+        size = json.loads(_settings_file().read_text(encoding="utf-8")).get("size")
+        width, height = (int(v) for v in size)
+    except (OSError, ValueError, TypeError, AttributeError):
+        return None  # nothing (or nothing sensible) remembered: the window picks a size for the screen
+    return width, height
+
+
+def remember_size(width: int, height: int) -> None:
+    """Keep the window's size for next time."""
+    try:
+        _settings_file().write_text(json.dumps({"size": [int(width), int(height)]}), encoding="utf-8")
+    except OSError:
+        pass

@@ -7,11 +7,16 @@ from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
 from secretary.model.notice import forecast_note
+from secretary.model.sentences import naming, plural
 from secretary.workbook import schema
 
 # ------------------------------------------------------------------ the routine
 
 STEPS = ("Check the results", "Update the ratings", "Review what changed", "Print the notice board")
+SHORT_STEPS = (("Check results", "Update ratings", "Review changes", "Print board"),
+               ("Check", "Update", "Review", "Print"))  # for narrow windows, longest first
+RUNNING_WORDS = {"check": (0, "Checking\u2026"), "update": (1, "Updating\u2026"), "last": (1, "Reading\u2026"),
+                 "settings": (0, "Saving settings\u2026"), "restore": (0, "Restoring\u2026")}
 DONE, ATTENTION, WAITING = "done", "needs attention", "waiting"
 STATE_WORDS = {DONE: "\u2713 Done", ATTENTION: "! Needs attention", WAITING: "Waiting"}
 
@@ -29,6 +34,7 @@ class Session:
     printed: bool = False
     notice_exists: bool = False  # a PDF notice board is already beside the workbook
     update_note: str = ""  # shown under step 2, e.g. "last update 16 Apr 2026"
+    waiting_results: bool = False  # results or settings changed since the ratings shown were published
 
     def but(self, **changes) -> "Session":
         """A copy with some fields changed."""
@@ -38,7 +44,8 @@ class Session:
 def step_states(s: Session) -> tuple[str, ...]:
     """The state of each of the four steps."""
     check = ATTENTION if s.errors else (DONE if s.checked else WAITING)
-    update = DONE if s.updated else (ATTENTION if s.update_failed else WAITING)
+    current = s.updated and not s.errors and not s.waiting_results
+    update = DONE if current else (ATTENTION if s.update_failed else WAITING)
     review = DONE if s.reviewed else WAITING
     printed = DONE if s.printed else WAITING
     return check, update, review, printed
@@ -48,6 +55,31 @@ def steps_enabled(s: Session) -> tuple[bool, ...]:
     """Which steps can be started now."""
     ready = s.opened and s.checked and not s.errors
     return s.opened, ready, s.updated, s.updated or (s.opened and s.notice_exists)
+
+
+def step_names(fits) -> tuple[str, ...]:
+    """The longest set of step names for which ``fits(names)`` holds (the shortest set otherwise)."""
+    for names in (STEPS, *SHORT_STEPS):
+        if fits(names):
+            return names
+    return SHORT_STEPS[-1]
+
+
+def window_size(screen: tuple[int, int], saved: tuple[int, int] | None = None) -> tuple[int, int]:
+    """The window's first size: the remembered one if it still fits, else as much of the screen as suits.
+
+    A taskbar (up to 48 pixels) and a title bar (about 32) are left free, so that the bottom edge,
+    with the status line and Cancel, is on the screen.
+    """
+    most_w, most_h = screen[0], max(400, screen[1] - 80)
+    if saved is not None and 600 <= saved[0] <= most_w and 400 <= saved[1] <= most_h:
+        return saved
+    return min(most_w, 1280), min(most_h, 800)
+
+
+def smallest_size(screen: tuple[int, int]) -> tuple[int, int]:
+    """The smallest the window may be dragged to (never more than the screen allows)."""
+    return min(760, screen[0]), min(460, max(400, screen[1] - 80))
 
 
 def next_step(s: Session) -> int | None:
@@ -115,14 +147,14 @@ ALL_DIVISIONS = "All divisions"
 
 
 def filter_rows(rows: Sequence[Row], search: str = "", division: str = ALL_DIVISIONS,
-                name_index: int = 1, division_index: int = 5) -> list[Row]:
+                name_index: int = 1, division_index: int = 4) -> list[Row]:
     """Rows whose player matches the search and who are in the chosen division."""
     return [r for r in rows
             if matches(str(r.values[name_index]), search)
             and (division in ("", ALL_DIVISIONS) or r.values[division_index] == division)]
 
 
-def divisions_of(rows: Iterable[Row], division_index: int = 5) -> list[str]:
+def divisions_of(rows: Iterable[Row], division_index: int = 4) -> list[str]:
     """The division filter's choices."""
     return [ALL_DIVISIONS] + sorted({str(r.values[division_index]) for r in rows if r.values[division_index]},
                                     key=str.casefold)
@@ -165,11 +197,11 @@ RATING_COLUMNS = (
     Column("rank", "Rank", "Place in the league, best rating first; equal shown ratings share a place.", 3, True),
     Column("player", "Player", "The player's name as the Results sheet writes it.", 16, stretch=True),
     Column("rating", "Rating", "The player's estimated strength in points: higher is stronger.", 5, True),
-    Column("band", "Likely range", "The rating give or take one \u00b1: the true level is probably in here.", 10, True),
     Column("change", "Change", "Points gained or lost since the previous update (blank for a new player).", 5, True),
     Column("division", "Division", "The division the player is counted in.", 10),
     Column("sd", "\u00b1", "How uncertain the rating is, in points: fewer or older games mean a bigger \u00b1.", 3, True),
-    Column("games", "Games", "Games played, with old games counting less (see Half-life in Settings).", 5, True),
+    Column("games", "Weighted games", "Games played, old ones counting less (see Half-life in Settings), "
+           "rounded to whole games: the Weighted games column of the Ratings sheet.", 6, True),
     Column("last", "Last played", "The date of the player's most recent result.", 10, True),
     Column("note", "Note", "New players and ratings that rest on few games are marked here.", 12),
 )
@@ -183,11 +215,11 @@ def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
         if position == 1 or round(p.rating) != round(order[position - 2].rating):
             place = position
         new = p.is_new or p.change is None
-        notes = (["new"] if new else []) + (["few games"] if p.games < few_games else [])
-        values = (place, p.name, p.rating, p.rating, None if new else p.change, p.division, p.sd, p.games,
+        notes = (["new this update"] if new else []) + (["few games"] if p.games < few_games else [])
+        values = (place, p.name, p.rating, None if new else p.change, p.division, p.sd, p.games,
                   p.last_played, ", ".join(notes))
-        shown = (str(place), p.name, points(p.rating), band(p.rating, p.sd), "" if new else signed(p.change),
-                 p.division, points(p.sd), f"{p.games:.1f}", day(p.last_played), values[-1])
+        shown = (str(place), p.name, points(p.rating), "" if new else signed(p.change),
+                 p.division, points(p.sd), f"{p.games:.0f}", day(p.last_played), values[-1])
         rows.append(Row(p.name, values, shown, ("new",) if new else ()))
     if all(row.tags for row in rows):  # first ratings: everyone is new, so colour marks nobody out
         rows = [replace(row, tags=()) for row in rows]
@@ -197,7 +229,8 @@ def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
 # ------------------------------------------------------------------ problems
 
 PROBLEM_COLUMNS = (
-    Column("severity", "Severity", "Errors stop the update until fixed; warnings do not.", 8),
+    Column("severity", "Kind", "Error or warning (the severity): errors stop the update until fixed; "
+           "warnings do not.", 8),
     Column("sheet", "Sheet", "The sheet of the workbook where the problem is.", 9),
     Column("row", "Row", "The row number in that sheet.", 5, True),
     Column("column", "Column", "The column heading in that sheet.", 9),
@@ -257,9 +290,16 @@ def problems_summary(problems: Sequence) -> str:
     if not problems:
         return "No problems found: the results are ready for the update."
     if errors:
-        return (f"{errors} error(s) to fix before the ratings can be updated"
-                + (f", and {warnings} warning(s)." if warnings else "."))
-    return f"{warnings} warning(s); the update can go ahead."
+        return (f"{plural(errors, 'error')} to fix before the ratings can be updated"
+                + (f", and {plural(warnings, 'warning')}." if warnings else "."))
+    return f"{plural(warnings, 'warning')}; the update can go ahead."
+
+
+def problem_detail(problem) -> str:
+    """Everything about one problem, in full, for the pane under the Problems table."""
+    found = "" if problem.found in (None, "") else f"\nFound: {problem.found}"
+    kind = "Error (stops the update)" if problem.is_error else "Warning (the update can go ahead)"
+    return f"{kind}: {problem.problem}{found}\nWhat to do: {problem.fix}"
 
 
 # ------------------------------------------------------------------ what changed
@@ -290,17 +330,40 @@ class Bar:
     x1: float
 
 
-def bar_geometry(shown_parts: Sequence[int], width: float) -> tuple[float, tuple[Bar, ...]]:
+def common_scale(changes: Iterable) -> float:
+    """Points that a chart's half-width stands for: the largest part of any of these changes (at least
+    ``MIN_SCALE``), so that every player's bars are drawn to one scale and can be compared."""
+    return max([MIN_SCALE] + [abs(v) for c in changes if not c.is_new for v in c.shown[3:7]])
+
+
+TICK_STEPS = (5, 10, 20, 25, 50, 100, 200, 250, 500, 1000, 2000, 5000)
+
+
+def axis_ticks(scale: float, most: int = 4) -> list[int]:
+    """Round point values for the axis, from -scale to +scale, with at most ``most`` on each side of 0."""
+    step = next((t for t in TICK_STEPS if scale / t <= most), TICK_STEPS[-1])
+    n = int(scale // step)
+    return [k * step for k in range(-n, n + 1)]
+
+
+def bar_geometry(shown_parts: Sequence[int], width: float,
+                 scale: float | None = None) -> tuple[float, tuple[Bar, ...]]:
     """Bars for the four parts around a zero line in the middle; returns (zero x, bars).
 
-    The half-width stands for the largest part (at least ``MIN_SCALE`` points).
+    The half-width stands for ``scale`` points (shared by all the players shown), or by default for
+    the largest part (at least ``MIN_SCALE`` points).
     """
     zero = width / 2
-    scale = max([MIN_SCALE] + [abs(v) for v in shown_parts])
+    scale = scale or max([MIN_SCALE] + [abs(v) for v in shown_parts])
     k = zero / scale
     bars = tuple(Bar(label, int(v), zero + min(0, v) * k, zero + max(0, v) * k)
                  for label, v in zip(PARTS, shown_parts))
     return zero, bars
+
+
+def named_sentence(c) -> str:
+    """The change's sentence as the secretary reads it: about the player, by name ("Yvette won ...")."""
+    return naming(c.sentence, c.name)
 
 
 def change_headline(c) -> str:
@@ -352,47 +415,61 @@ FIXTURE_COLUMNS = (
     Column("a", "Player A", "The first player named in the Fixtures sheet.", 16, stretch=True),
     Column("b", "Player B", "The second player.", 16, stretch=True),
     Column("race", "Race", "Games each needs to win (the fixture's race, else the usual race).", 6),
-    Column("chance", "A wins", "Player A's chance of winning the match at that race.", 7, True),
+    Column("chance", "Chance A", "Player A's chance of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
-    Column("fair_chance", "A wins (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
-    Column("note", "How sure", "Where the chance could be far off: a player new to the ratings or with few games "
-           "(chances are averaged over each rating's \u00b1).", 24,
+    Column("fair_chance", "Chance A (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
+    Column("note", "Forecast note", "A past fixture (dated before the latest results), or where the chance could "
+           "be far off: a player new to the ratings or with few games (chances are averaged over each rating's "
+           "\u00b1).", 24,
            stretch=True),
 )
 
 
-def fixture_rows(forecasts: Sequence) -> list[Row]:
+PAST = "past: dated before the latest results"
+
+
+def is_past(fixture_date: dt.date | None, latest: dt.date | None) -> bool:
+    """A fixture dated before the newest result is past (played, or not played on the day), not coming."""
+    return fixture_date is not None and latest is not None and fixture_date < latest
+
+
+def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row]:
+    """The Fixtures table; fixtures dated before ``latest`` (the newest result) are marked past."""
     rows = []
     for i, f in enumerate(forecasts):
         fx = f.fixture
-        note = forecast_note(f)
+        past = is_past(fx.date, latest)
+        note = "; ".join(n for n in (PAST if past else "", forecast_note(f)) if n)
         values = (fx.date, fx.player_a, fx.player_b, f"{f.race_a}-{f.race_b}", f.race_chance,
                   f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, note)
         shown = (day(fx.date), fx.player_a, fx.player_b, values[3], percent(f.race_chance), values[5],
                  percent(f.fair_chance), values[7])
-        rows.append(Row(str(i), values, shown, ("uncertain",) if note else ()))
+        rows.append(Row(str(i), values, shown, ("past",) if past else ("uncertain",) if note else ()))
     return rows
 
 
 DIVISION_COLUMNS = (
     Column("division", "Division", "The division (the group whose level is compared with the others).", 14),
     Column("players", "Players", "Players counted in the division.", 6, True),
-    Column("level", "Level", "The division's average rating minus the league's, in points.", 6, True),
-    Column("linked", "Linked share", "How much of the division's level games against other divisions pin "
-           "down: 100% is fully tied in, low values mean its level is a guess.", 9, True),
-    Column("cross", "Games vs others", "Games (older ones counting less) against other divisions.", 9, True),
-    Column("linkers", "Linking players", "How many of its players met someone from another division.", 9, True),
+    Column("level", "Against the rest", "The division's average rating minus the league's, in points.", 6, True),
+    Column("linked", "Linked share", "How well games against other divisions tie the division in: 100% is "
+           "fully tied in, a low share means its level is mostly a guess (the linked share of its level).", 9, True),
+    Column("cross", "Games against other divisions", "Games (older ones counting less) against other "
+           "divisions.", 9, True),
+    Column("linkers", "Players who link it", "How many of its players met someone from another division.", 9,
+           True),
     Column("todo", "What to do", "What would tie this division in better.", 40, stretch=True),
 )
 
 HELD_COLUMNS = (
-    Column("player", "Player", "A player whose results run ahead of their rating.", 16),
+    Column("player", "Player", "A player whose rating is held back: their results run ahead of it, and the "
+           "starting assumption holds them (held by the prior).", 16),
     Column("division", "Division", "The division they are counted in.", 12),
     Column("rating", "Rating", "Their rating now, in points.", 6, True),
     Column("games", "Games", "Games played (older ones counting less).", 6, True),
     Column("won", "Won", "Games won (older ones counting less).", 6, True),
-    Column("expected", "Expected", "Games their rating says they should have won.", 7, True),
-    Column("held", "Points held", "How much further their results alone would move them.", 8, True),
+    Column("expected", "Expected at their rating", "Games their rating says they should have won.", 7, True),
+    Column("held", "Points held back", "How much further their results alone would move them.", 8, True),
     Column("todo", "What to do", "What would settle their rating.", 40, stretch=True),
 )
 
@@ -400,10 +477,10 @@ SUGGESTION_COLUMNS = (
     Column("a", "Player A", "First player of the suggested match.", 16),
     Column("b", "Player B", "Second player.", 16),
     Column("divisions", "Divisions", "Their divisions: a match across divisions ties their levels together.", 18),
-    Column("race", "Race", "The league's usual race.", 5),
-    Column("chance", "A wins a game", "Player A's chance of winning one game.", 9, True),
+    Column("race", "Race to", "The league's usual race.", 5),
+    Column("chance", "A's chance per game", "Player A's chance of winning one game.", 9, True),
     Column("target", "Ties in", "The division whose level this match pins down most.", 12),
-    Column("sd", "\u00b1 of its level", "How uncertain that division's level is now, and after this match "
+    Column("sd", "\u00b1 now \u2192 after", "How uncertain that division's level is now, and after this match "
            "(with the ones above it).", 11),
     Column("todo", "What to do", "The suggestion in plain words.", 36, stretch=True),
 )

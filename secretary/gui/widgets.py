@@ -16,6 +16,7 @@ TAG_COLOURS = {
     "new": {"foreground": "#0b5d1e"},
     "flagged": {"background": "#fff4cc"},
     "uncertain": {"foreground": "#5f5f5f"},
+    "past": {"foreground": "#8a8a8a", "background": "#f0f0f0"},
 }
 
 
@@ -63,9 +64,10 @@ class Table:
                                  height=height, selectmode="browse")
         digit = tkfont.nametofont("TkDefaultFont").measure("0")
         heading_font = tkfont.nametofont("SecretaryBold")
+        self.arrow_width = heading_font.measure(" \u25b2")
         for i, c in enumerate(self.columns):
             self.tree.heading(c.key, text=c.heading, anchor="w", command=lambda i=i: self.sort_by(i))
-            width = max(c.width * digit, heading_font.measure(c.heading + " \u25b2")) + 12
+            width = max(c.width * digit, heading_font.measure(c.heading)) + 14  # sort_by widens for its arrow
             self.tree.column(c.key, width=width, minwidth=3 * digit,
                              stretch=c.stretch, anchor="e" if c.numeric else "w")
         for tag, colours in TAG_COLOURS.items():
@@ -102,6 +104,12 @@ class Table:
     def sort_by(self, index: int) -> None:
         """Sort by a column; a second click on the same heading reverses the order."""
         descending = self.order is not None and self.order[0] == index and not self.order[1]
+        if self.order is None or self.order[0] != index:  # room for the arrow, taken back from the last one
+            if self.order is not None:
+                old = self.columns[self.order[0]].key
+                self.tree.column(old, width=self.tree.column(old, "width") - self.arrow_width)
+            key = self.columns[index].key
+            self.tree.column(key, width=self.tree.column(key, "width") + self.arrow_width)
         self.order = (index, descending)
         for i, c in enumerate(self.columns):
             arrow = (" \u25bc" if descending else " \u25b2") if i == index else ""

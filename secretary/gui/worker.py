@@ -22,6 +22,7 @@ from secretary.userdirs import log_exception
 
 HEADER = struct.Struct("!I")
 CANCEL_POLL = 0.05  # seconds between looks at the cancel flag while the background process works
+CHILD_ARGUMENT = "--background-worker"  # the desktop app's executable acts as the background process
 
 Job = Callable[[Callable[[str, float], None], threading.Event], Any]
 
@@ -146,6 +147,13 @@ def receive(stream):
     return pickle.loads(data) if len(data) == size else None
 
 
+def child_command() -> list[str]:
+    """How to start the background process: ``python -m``, or the desktop app's own executable."""
+    if getattr(sys, "frozen", False):  # a bundled app has no ``python -m``: see secretary.launch
+        return [sys.executable, CHILD_ARGUMENT]
+    return [sys.executable, "-m", "secretary.gui.child"]
+
+
 class Child:
     """The background process (``secretary.gui.child``): started ahead of need, reused for every job."""
 
@@ -159,7 +167,7 @@ class Child:
             env = dict(os.environ, PYTHONPATH=os.pathsep.join(
                 p for p in (package_root, os.environ.get("PYTHONPATH", "")) if p))
             flags = getattr(subprocess, "CREATE_NO_WINDOW", 0)  # no console window on Windows
-            self.proc = subprocess.Popen([sys.executable, "-m", "secretary.gui.child"], stdin=subprocess.PIPE,
+            self.proc = subprocess.Popen(child_command(), stdin=subprocess.PIPE,
                                          stdout=subprocess.PIPE, env=env, creationflags=flags)
         return self.proc
 

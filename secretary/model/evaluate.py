@@ -44,7 +44,7 @@ from secretary.model.scale import points_per_logodds, to_strength
 from secretary.model.fit import hessian
 from secretary.model.uncertainty import contrast_variance, difference_coefficients
 
-BANDS = 10  # calibration bands of width 10 %
+BANDS = 10  # calibration bands of the favourite's chance, 5 % wide from 50 % to 100 %
 
 
 @dataclass(frozen=True)
@@ -171,10 +171,10 @@ class Band:
 
     Attributes
     ----------
-    low, high : band edges, chance per game (0..1)
-    games : games predicted in the band
-    predicted : mean predicted chance per game (NaN when empty)
-    observed : share of those games won by side A (NaN when empty)
+    low, high : band edges of the favourite's chance (0.5..1)
+    games : games (or races) predicted in the band
+    predicted : mean predicted chance of the favoured side (NaN when empty)
+    observed : share of those games won by the favoured side (NaN when empty)
     variance : sum over the band's games of ``p (1 - p)``, the binomial variance of the wins
     """
 
@@ -263,10 +263,18 @@ class Evaluation:
 
 
 def calibration_table(p, games_a, games_b, bands: int = BANDS) -> tuple[Band, ...]:
-    """Calibration by band of predicted chance (per game, weighted by games)."""
-    p = np.asarray(p, float)
-    total = np.asarray(games_a, float) + np.asarray(games_b, float)
-    k = np.minimum((p * bands).astype(np.int64), bands - 1)
+    """Calibration by band of the favourite's predicted chance, 50 % to 100 % (weighted by games).
+
+    Each prediction is turned to the side it favours (``max(p, 1 - p)``, with
+    that side's wins), so the table does not depend on which player a sheet
+    lists first (the tennis set always lists the winner first).
+    """
+    p, games_a, games_b = np.asarray(p, float), np.asarray(games_a, float), np.asarray(games_b, float)
+    flip = p < 0.5
+    p = np.where(flip, 1.0 - p, p)
+    games_a, games_b = np.where(flip, games_b, games_a), np.where(flip, games_a, games_b)
+    total = games_a + games_b
+    k = np.minimum(((p - 0.5) * 2 * bands).astype(np.int64), bands - 1)
     g = np.bincount(k, total, bands)
     wins = np.bincount(k, games_a, bands)
     expected = np.bincount(k, total * p, bands)
@@ -274,7 +282,8 @@ def calibration_table(p, games_a, games_b, bands: int = BANDS) -> tuple[Band, ..
     with np.errstate(invalid="ignore", divide="ignore"):
         pred, obs = expected / g, wins / g
     return tuple(
-        Band(i / bands, (i + 1) / bands, float(g[i]), float(pred[i]), float(obs[i]), float(var[i]))
+        Band(0.5 + i / (2 * bands), 0.5 + (i + 1) / (2 * bands), float(g[i]), float(pred[i]), float(obs[i]),
+             float(var[i]))
         for i in range(bands)
     )
 

@@ -19,6 +19,9 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
     from secretary.model.fixtures import FixtureForecast
 
 PART_NAMES = ("Own results", "Opponents re-rated", "Group shift", "Corrections")
+# Okabe-Ito colours, one per part, told apart with every common kind of colour blindness; the printed
+# board and the window's What changed tab both use them, so that a part looks the same everywhere.
+PART_COLOURS = ("#0072B2", "#E69F00", "#009E73", "#CC79A7")
 NO_DIVISION = "(no division)"
 MONTHS = ("January", "February", "March", "April", "May", "June", "July", "August",
           "September", "October", "November", "December")

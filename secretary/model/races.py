@@ -129,7 +129,7 @@ def fair_race_predictive(mean: float, var: float, longest: int = 9, shortest: in
     return _fairest(a, b, predictive_race_chance(mean, var, a, b))
 
 
-def fair_race(rating_a: float, rating_b: float, *, longest: int = 9, shortest: int = 1,
+def fair_race(rating_a: float, rating_b: float, *, longest: int = 9, shortest: int = 2,
               scale: float = 400.0) -> tuple[int, int]:
     """The ``(a, b)`` race closest to an even match between players rated ``rating_a`` and ``rating_b`` (points)."""
     return fair_race_for_chance(game_chance(rating_a, rating_b, scale), longest, shortest)

@@ -53,8 +53,13 @@ class Fixture:
 
 # Defaults chosen by walk-forward evaluation (see README, "How good are the
 # ratings").  They live here only; every other place reads them from Settings.
-DEFAULT_SKILL_SPREAD = 145.0  # points: `secretary tune demo/league.xlsx` chose 145
-DEFAULT_HALF_LIFE_DAYS = 520.0  # days: the same run chose 523; rounded
+# Run: `python tests/bench/choose_defaults.py` (2026-12-02, one pool: no
+# division levels yet), the lowest mean walk-forward predictive log-loss per
+# game over the demo league and the real badminton and tennis sets: it chose
+# half-life 524 days and skill spread 252 points (mean 0.64220; spreads 240 to
+# 265 and half-lives 480 to 620 all score within 0.00005 of it).  Rounded.
+DEFAULT_SKILL_SPREAD = 250.0  # points
+DEFAULT_HALF_LIFE_DAYS = 520.0  # days
 
 
 @dataclass(frozen=True)
@@ -139,6 +144,7 @@ class PublishedState:
     settings: Settings = field(default_factory=Settings)
     previous: "PublishedState | None" = None  # the update before, so its breakdown can be rebuilt
     tune_check: TuneCheck | None = None  # the last check of whether tuning would pay off
+    inputs: str = ""  # digest of everything the update read (rows, settings, players, ...) and the tool's version
 
 
 def _digest(*parts: object) -> str:

@@ -160,3 +160,30 @@ def sentence(pc: "PlayerChange", context: Context = Context()) -> str:
         else:
             clauses.append(_corrections(shown[3], context))
     return " ".join(lead + clauses)
+
+
+IRREGULAR_PLURALS = {"match": "matches", "division": "divisions", "is": "are", "was": "were", "has": "have"}
+
+
+def plural(n: int, word: str, many: str | None = None) -> str:
+    """A count with its noun in the right number: ``plural(1, "warning")`` -> "1 warning", 2 -> "2 warnings"."""
+    if n == 1:
+        return f"{n} {word}"
+    *lead, last = word.split(" ")
+    return f"{n} {many or ' '.join([*lead, IRREGULAR_PLURALS.get(last) or last + 's'])}"
+
+
+# The printed sentences speak to the player ("You won ..."); the window's reader is the secretary, so
+# there the player is named instead. Every second-person phrase the templates above use is listed here.
+_NAMED = (("You have not played", "{name} has not played"), ("You did not play", "{name} did not play"),
+          ("You won", "{name} won"), ("Players you met", "Players they met"),
+          ("Players you have met", "Players they have met"), ("moves you back", "moves them back"),
+          ("Your", "Their"), ("your", "their"))
+
+
+def naming(text: str, name: str) -> str:
+    """A sentence from ``sentence`` told about the player rather than to them ("Yvette won 4 of 5 ...")."""
+    first = name.split()[0] if name.split() else name
+    for spoken, told in _NAMED:
+        text = text.replace(spoken, told.format(name=first))
+    return text

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import os
+import secrets
 import unicodedata
 from functools import lru_cache
 from pathlib import Path
@@ -21,7 +22,9 @@ from secretary.model.records import Settings
 # Fonts with accents and most European letters (Linux, Windows, macOS); the first one found is used.
 _WINDOWS_FONTS = Path(os.environ.get("WINDIR", "C:/Windows")) / "Fonts"
 _MAC_FONTS = Path("/System/Library/Fonts/Supplemental")
+_BUNDLED_FONTS = Path(__file__).resolve().parents[1] / "data" / "fonts"  # only in the desktop app (scripts/build-app)
 FONT_FILES = (
+    ("DejaVuSans", _BUNDLED_FONTS / "DejaVuSans.ttf", _BUNDLED_FONTS / "DejaVuSans-Bold.ttf"),
     ("DejaVuSans", Path("/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf"),
      Path("/usr/share/fonts/truetype/dejavu/DejaVuSans-Bold.ttf")),
     ("Arial", _WINDOWS_FONTS / "arial.ttf", _WINDOWS_FONTS / "arialbd.ttf"),
@@ -84,15 +87,22 @@ def page_size(settings: Settings) -> tuple[float, float]:
 def styles() -> dict[str, ParagraphStyle]:
     """The text styles: title, subtitle, heading, body, small, cell, cell-right."""
     regular, bold = fonts()
-    body = ParagraphStyle("body", fontName=regular, fontSize=9.5, leading=12.5, textColor=INK, spaceAfter=3)
+    # Body text 12 points (read at arm's length); the wall page's styles are larger, for a metre away.
+    body = ParagraphStyle("body", fontName=regular, fontSize=12, leading=15, textColor=INK, spaceAfter=3)
     return {
+        "walltitle": ParagraphStyle("walltitle", parent=body, fontName=bold, fontSize=26, leading=31, spaceAfter=2),
+        "wallsub": ParagraphStyle("wallsub", parent=body, fontSize=15, leading=19, textColor=MUTED, spaceAfter=8),
+        "wallhead": ParagraphStyle("wallhead", parent=body, fontName=bold, fontSize=19, leading=23,
+                                   spaceBefore=8, spaceAfter=2),
+        "wall": ParagraphStyle("wall", parent=body, fontSize=16, leading=20, spaceAfter=1),
+        "wallnote": ParagraphStyle("wallnote", parent=body, fontSize=14, leading=17.5, spaceAfter=3),
         "title": ParagraphStyle("title", parent=body, fontName=bold, fontSize=18, leading=22, spaceAfter=2),
-        "subtitle": ParagraphStyle("subtitle", parent=body, fontSize=10.5, leading=14, textColor=MUTED, spaceAfter=8),
-        "heading": ParagraphStyle("heading", parent=body, fontName=bold, fontSize=13, leading=16,
+        "subtitle": ParagraphStyle("subtitle", parent=body, fontSize=13, leading=16, textColor=MUTED, spaceAfter=8),
+        "heading": ParagraphStyle("heading", parent=body, fontName=bold, fontSize=15, leading=19,
                                   spaceBefore=10, spaceAfter=5),
-        "boxhead": ParagraphStyle("boxhead", parent=body, fontName=bold, fontSize=10.5, leading=14),
+        "boxhead": ParagraphStyle("boxhead", parent=body, fontName=bold, fontSize=13, leading=16),
         "body": body,
-        "small": ParagraphStyle("small", parent=body, fontSize=8.5, leading=11, textColor=MUTED),
+        "small": ParagraphStyle("small", parent=body, fontSize=10.5, leading=13, textColor=MUTED),
         "cell": ParagraphStyle("cell", parent=body, spaceAfter=0),
         "cellbold": ParagraphStyle("cellbold", parent=body, fontName=bold, spaceAfter=0),
         "right": ParagraphStyle("right", parent=body, spaceAfter=0, alignment=2),
@@ -171,6 +181,11 @@ def frame_width(settings: Settings) -> float:
     return page_size(settings)[0] - 2 * MARGIN
 
 
+def frame_height(settings: Settings) -> float:
+    """The height between the top and bottom margins, points (what ``build`` gives a page's story)."""
+    return page_size(settings)[1] - 2 * MARGIN - 4 * mm - 12  # as in build; 12: the frame's own padding
+
+
 def build(path: str | Path, story: list, settings: Settings, title: str, footer: str) -> Path:
     """Write the PDF with a footer line and page numbers on every page; returns the path."""
     path = Path(path)
@@ -193,9 +208,16 @@ def build(path: str | Path, story: list, settings: Settings, title: str, footer:
         canvas.drawRightString(doc.pagesize[0] - MARGIN, 9 * mm, label)
         canvas.restoreState()
 
+    # Written beside the target and swapped in whole: a failure midway never leaves half a PDF.
+    temp = path.with_name(f".~secretary-{secrets.token_hex(6)}.pdf")
     doc = SimpleDocTemplate(
-        str(path), pagesize=page_size(settings), leftMargin=MARGIN, rightMargin=MARGIN,
+        str(temp), pagesize=page_size(settings), leftMargin=MARGIN, rightMargin=MARGIN,
         topMargin=MARGIN, bottomMargin=MARGIN + 4 * mm, title=printable(title, regular), author="secretary",
     )
-    doc.build(story, onFirstPage=on_page, onLaterPages=on_page)
+    try:
+        doc.build(story, onFirstPage=on_page, onLaterPages=on_page)
+        os.replace(temp, path)
+    finally:
+        if temp.exists():
+            temp.unlink()
     return path

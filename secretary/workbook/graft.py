@@ -25,7 +25,7 @@ from openpyxl.workbook.workbook import Workbook
 
 from secretary.errors import FileRefused
 from secretary.workbook import save
-from secretary.workbook.schema import OUTPUT_SHEETS
+from secretary.workbook import toolsheets
 
 MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 REL_NS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -55,9 +55,10 @@ def graft_outputs(original: str | Path, outputs_wb: Workbook, dest: str | Path) 
     graft_package(original, buffer.getvalue(), dest)
 
 
-def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10) -> save.SaveOutcome:
+def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10,
+                 expect: save.FileStamp | None = None) -> save.SaveOutcome:
     """Graft into `path` safely, as `save.save_workbook` saves: temp file, read back, backup, swap."""
-    path = Path(path)
+    path = save.writable_workbook(path)
     if keep < 1:
         raise ValueError("keep at least one backup")
     save._refuse_if_open(path)
@@ -70,6 +71,7 @@ def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10) -> s
             raise save._plain_os_error(exc, path) from exc
         _check_graft(path, outputs_wb, temp)
         save._copy_mode(path, temp)
+        save.refuse_if_changed(path, expect)
         backup = save._backup(path)
         save._replace(temp, path)
     except BaseException:
@@ -82,9 +84,9 @@ def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10) -> s
 def _check_graft(path: Path, outputs_wb: Workbook, temp: Path) -> None:
     """Read the new file back: the secretary's sheets all there, the tool's sheets cell for cell."""
     try:
-        theirs = [n for n in _sheet_names(path) if n not in OUTPUT_SHEETS]
+        theirs = _secretarys_sheets(path)
         copy = load_tool_sheets(temp)
-        if [n for n in _sheet_names(temp) if n not in OUTPUT_SHEETS] != theirs:
+        if _secretarys_sheets(temp) != theirs:
             raise save._check_failed(path, "its sheets differ")
     except FileRefused:
         raise
@@ -97,11 +99,13 @@ def _check_graft(path: Path, outputs_wb: Workbook, temp: Path) -> None:
             raise save._check_failed(path, f"sheet '{name}' does not read back as written")
 
 
-def _sheet_names(path: Path) -> list[str]:
+def _secretarys_sheets(path: Path) -> list[str]:
+    """The names of the sheets that are not the tool's, in order."""
     with zipfile.ZipFile(path) as z:
         parts = {"_rels/.rels": z.read("_rels/.rels")}
         wb = _xml(z.read(_workbook_part(parts)))
-    return [el.get("name") for el in wb.find(f"{_M}sheets")]
+    tool = set(toolsheets.of_root(wb).values())
+    return [el.get("name") for el in wb.find(f"{_M}sheets") if el.get("name") not in tool]
 
 
 def load_tool_sheets(path: str | Path) -> Workbook:
@@ -112,16 +116,21 @@ def load_tool_sheets(path: str | Path) -> Workbook:
     wb_part = _workbook_part(parts)
     wb = _xml(parts[wb_part])
     holder = wb.find(f"{_M}sheets")
+    tool = set(toolsheets.of_root(wb).values())
     for el in list(holder):
-        if el.get("name") not in OUTPUT_SHEETS:
+        if el.get("name") not in tool:
             holder.remove(el)
     if len(holder) == 0:
         empty = Workbook()
         empty.remove(empty.active)
         return empty
     defined = wb.find(f"{_M}definedNames")
-    if defined is not None:
-        wb.remove(defined)  # they count sheets by position and name the secretary's sheets
+    if defined is not None:  # the others count sheets by position and name the secretary's sheets
+        for d in list(defined):
+            if d.get("localSheetId") is not None or not toolsheets.is_marker(d.get("name")):
+                defined.remove(d)
+        if len(defined) == 0:
+            wb.remove(defined)
     for view in wb.iter(f"{_M}workbookView"):
         view.set("activeTab", "0")
         view.attrib.pop("firstSheet", None)
@@ -244,18 +253,19 @@ class _Graft:
         new_rels = _xml(self.new[_rels_name(self.new_wb_part)])
         new_sheets = self._sheets(self.new_wb, new_rels, self.new_wb_part)
         tool_names = [s["name"] for s in new_sheets]
-        stray = [n for n in tool_names if n not in OUTPUT_SHEETS]
+        stray = [n for n in tool_names if n not in toolsheets.of_root(self.new_wb).values()]
         if stray:
             raise ValueError(f"the outputs workbook holds sheets that are not the tool's: {stray}")
-        removed = [s for s in old_sheets if s["name"] in OUTPUT_SHEETS]
-        kept = [s for s in old_sheets if s["name"] not in OUTPUT_SHEETS]
+        self.old_tool = set(toolsheets.of_root(self.wb).values())
+        removed = [s for s in old_sheets if s["name"] in self.old_tool]
+        kept = [s for s in old_sheets if s["name"] not in self.old_tool]
         clash = {s["name"].casefold() for s in kept} & {n.casefold() for n in tool_names}
         if clash:
             raise self._refuse(f"a sheet of yours is named like one of the tool's ({', '.join(sorted(clash))})")
         self._remove_parts(removed)
         self.styles = _StyleMerge(self)
         added = [self._add_sheet(s) for s in new_sheets]
-        order = _order([s["name"] for s in old_sheets], tool_names)
+        order = _order([s["name"] for s in old_sheets], tool_names, self.old_tool)
         self._rewrite_workbook(old_sheets, kept, removed, added, order)
         self.parts[self.styles.part] = _bytes(self.styles.root)
         self._fix_calc_chain({s["sheetId"] for s in removed})
@@ -440,6 +450,7 @@ class _Graft:
         old_index = [s["name"] for s in old_sheets]
         self._fix_defined_names(old_index, order)
         self._fix_views(old_index, order, by_name)
+        _recalculate_on_open(self.wb)
         self.parts[self.wb_part] = _bytes(self.wb)
 
     def _fix_defined_names(self, old_index, order) -> None:
@@ -451,19 +462,22 @@ class _Graft:
         for d in list(defined):
             local = d.get("localSheetId")
             if local is None:
+                if toolsheets.is_marker(d.get("name")):
+                    defined.remove(d)  # the new markers come with the new sheets
                 continue
             name = old_index[int(local)] if int(local) < len(old_index) else None
-            if name is None or name in OUTPUT_SHEETS:
+            if name is None or name in self.old_tool:
                 defined.remove(d)  # the old tool sheet's own names go with it
             else:
                 d.set("localSheetId", str(order.index(name)))
         new_names = self.new_wb.find(f"{_M}definedNames")
         new_index = [s.get("name") for s in self.new_wb.find(f"{_M}sheets")]
         for d in (new_names if new_names is not None else []):
-            if d.get("localSheetId") is None:
-                raise self._refuse(f"the tool wrote a workbook-wide name '{d.get('name')}'")
             copy = _copy(d)
-            copy.set("localSheetId", str(order.index(new_index[int(d.get("localSheetId"))])))
+            if d.get("localSheetId") is not None:
+                copy.set("localSheetId", str(order.index(new_index[int(d.get("localSheetId"))])))
+            elif not toolsheets.is_marker(d.get("name")):
+                raise self._refuse(f"the tool wrote a workbook-wide name '{d.get('name')}'")
             defined.append(copy)
         if len(defined) == 0:
             defined.getparent().remove(defined)
@@ -493,20 +507,39 @@ class _Graft:
             self.parts[part] = _bytes(chain)
 
 
+# The elements of a workbook.xml that may follow calcPr, in the schema's order.
+_AFTER_CALC = ("oleSize", "customWorkbookViews", "pivotCaches", "smartTagPr", "smartTagTypes",
+               "webPublishing", "fileRecoveryPr", "webPublishObjects", "extLst")
+
+
+def _recalculate_on_open(wb: etree._Element) -> None:
+    """Ask the spreadsheet program to recalculate every formula on open, so the secretary's formulas
+    that look up the tool's sheets show this week's values rather than the ones saved with them."""
+    calc = wb.find(f"{_M}calcPr")
+    if calc is None:
+        calc = etree.Element(f"{_M}calcPr")
+        follower = next((el for el in wb if etree.QName(el).localname in _AFTER_CALC), None)
+        if follower is not None:
+            follower.addprevious(calc)
+        else:
+            wb.append(calc)
+    calc.set("fullCalcOnLoad", "1")
+
+
 def _copy(el: etree._Element) -> etree._Element:
     return etree.fromstring(etree.tostring(el), _PARSER)
 
 
-def _order(old: list[str], tool: list[str]) -> list[str]:
+def _order(old: list[str], tool: list[str], old_tool: set[str]) -> list[str]:
     """Final sheet order: the secretary's as before, each tool sheet where it was, new ones beside them."""
-    present = [n for n in tool if n in old]
+    present = [n for n in tool if n in old_tool]
     if not present:
-        return [n for n in old if n not in OUTPUT_SHEETS] + tool
+        return [n for n in old if n not in old_tool] + tool
     follow: dict[str, list[str]] = {n: [] for n in present}
     lead: list[str] = []  # new sheets that come before every sheet that was there
     anchor = None
     for n in tool:
-        if n in old:
+        if n in old_tool:
             anchor = n
         elif anchor is None:
             lead.append(n)
@@ -514,7 +547,7 @@ def _order(old: list[str], tool: list[str]) -> list[str]:
             follow[anchor].append(n)
     out = []
     for n in old:
-        if n not in OUTPUT_SHEETS:
+        if n not in old_tool:
             out.append(n)
         elif n in follow:
             if n == present[0]:

@@ -55,6 +55,7 @@ def _check_zip(path: Path) -> None:
             f"spreadsheet program and {_SAVE_AS}.") from None
     if "[Content_Types].xml" not in names or "xl/workbook.xml" not in names:
         raise FileRefused(f"{path.name} is not an Excel workbook inside: {_SAVE_AS}.")
+    _refuse_strict(path)
     unpacked = sum(m.file_size for m in members)
     packed = sum(m.compress_size for m in members) or 1
     if unpacked > MAX_UNCOMPRESSED or (unpacked > _RATIO_FLOOR and unpacked / packed > MAX_RATIO):
@@ -62,3 +63,17 @@ def _check_zip(path: Path) -> None:
             f"{path.name} would unpack from {packed / 2**20:.1f} MB to {unpacked / 2**20:.0f} MB, "
             "which no league workbook does; it is refused to protect this computer. "
             "Check where the file came from.")
+
+
+_STRICT_NAMESPACE = b"http://purl.oclc.org/ooxml/spreadsheetml/main"
+
+
+def _refuse_strict(path: Path) -> None:
+    """A workbook saved as "Strict Open XML" uses other names inside, which the reader does not know."""
+    with zipfile.ZipFile(path) as archive, archive.open("xl/workbook.xml") as part:
+        head = part.read(4096)
+    if _STRICT_NAMESPACE in head:
+        raise FileRefused(
+            f"{path.name} is saved in the \"Strict Open XML Spreadsheet\" format, which this tool cannot "
+            "read. In your spreadsheet program choose Save As, pick the ordinary \"Excel Workbook (.xlsx)\" "
+            "type, and try again.")

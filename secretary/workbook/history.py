@@ -9,6 +9,7 @@ import openpyxl
 
 from secretary.workbook.guard import check_readable
 from secretary.workbook.schema import HISTORY_SHEET
+from secretary.workbook.style import tool_sheet
 from secretary.workbook.write import _read_history
 
 
@@ -19,7 +20,7 @@ def read_rating_history(path: str | Path) -> dict[str, list[tuple[dt.date, float
         warnings.simplefilter("ignore")  # unsupported extensions are harmless for reading
         wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
     try:
-        if HISTORY_SHEET not in wb.sheetnames:
+        if tool_sheet(wb, HISTORY_SHEET) is None:
             return {}
         names, history = _read_history(wb)
     finally:

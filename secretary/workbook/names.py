@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import functools
 import re
+import unicodedata
 from collections import Counter
 from dataclasses import dataclass
 from typing import Iterable, Mapping, Sequence
@@ -11,16 +12,26 @@ from secretary.model.records import Player, Problem
 from secretary.workbook import schema
 
 CLOSE_CUTOFF = 0.85  # as difflib's ratio: "Jon Smith"/"John Smith" 0.95, "Al Li"/"Al Lu" 0.8
+MAX_NAME_LENGTH = 100  # characters: a longer "name" is a pasted paragraph, refused by the checks
+# Characters that show nothing: zero-width space, word joiner, byte-order mark, soft hyphen, and the
+# marks that set the direction of text.  (The zero-width joiners, which shape some scripts, are kept.)
+_INVISIBLE = re.compile("[\u200b\u2060\ufeff\u00ad\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def _visible(text: str) -> str:
+    """One Unicode form (NFC: "é" typed as one character or as "e" and an accent is the same) and no
+    invisible characters, so that two spellings that look the same are the same."""
+    return _INVISIBLE.sub("", unicodedata.normalize("NFC", text))
 
 
 @functools.lru_cache(maxsize=1 << 16)  # a league repeats the same few thousand names
 def _clean_text(text: str) -> str:
-    return " ".join(text.split())
+    return " ".join(_visible(text).split())
 
 
 @functools.lru_cache(maxsize=1 << 16)
 def _key_text(text: str) -> str:
-    return " ".join(text.split()).casefold()
+    return " ".join(_visible(text).split()).casefold()
 
 
 def clean(text: object) -> str:
@@ -109,7 +120,7 @@ def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str
             continue  # an "Also known as" spelling: merged on purpose
         source = "the Players sheet's spelling" if key in known else "the most used spelling"
         for spelling, count in spellings.items():
-            if spelling != kept:
+            if _visible(spelling) != kept:  # one Unicode form of the same letters is the same spelling
                 where = first[spelling]
                 others = f" and {count - 1} more row(s)" if count > 1 else ""
                 problems.append(Problem(
@@ -123,6 +134,9 @@ def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str
 def _variants(key: str) -> set[str]:
     # Two keys one typing slip apart (a letter added, dropped, changed, or two swapped)
     # share a variant with one letter deleted: this finds them without comparing every pair.
+    # The variants take length squared in memory, so a key longer than any name has none.
+    if len(key) > MAX_NAME_LENGTH:
+        return {key}
     return {key} | {key[:i] + key[i + 1:] for i in range(len(key))}
 
 

@@ -13,6 +13,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from secretary.model.breakdown import Breakdown
 from secretary.model.notice import NoticeDivision, build_notice
 from secretary.model.records import PlayerRating, Settings
+from secretary.workbook.printing import FOOTER
 from secretary.workbook.schema import NOTICE_SHEET
 from secretary.workbook.style import CHANGE_FORMAT, RATING_FORMAT, put, replace_sheet
 
@@ -111,6 +112,6 @@ def _page_setup(ws: Worksheet, settings: Settings, last_row: int, last_column: i
     ws.print_area = f"A1:{get_column_letter(last_column)}{last_row}"
     ws.print_options.horizontalCentered = True
     ws.page_margins.left = ws.page_margins.right = 0.5  # inches
-    ws.oddFooter.center.text = "Page &P of &N"
+    ws.oddFooter.center.text = FOOTER
     ws.oddFooter.right.text = "Ratings are estimates; the committee decides"
     ws.sheet_view.showGridLines = False

@@ -12,15 +12,16 @@ import openpyxl
 
 from secretary.errors import FileRefused, SecretaryError
 from secretary.model.records import Fixture, Player, Problem, PublishedState, Result, Settings
-from secretary.workbook import guard, schema
+from secretary.workbook import guard, schema, toolsheets
 from secretary.workbook.cells import SheetCells
 from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.dates import parse_date
-from secretary.workbook.names import CloseIndex, Mention, clean, merge_aliases, name_key, resolve
+from secretary.workbook.names import MAX_NAME_LENGTH, CloseIndex, Mention, clean, merge_aliases, name_key, resolve
 
 from secretary.workbook.state import read_state, state_from_rows
 
 HEADER_SEARCH_ROWS = 10  # a title line or two above the headers is allowed
+SHOWN_LENGTH = 80  # characters of a cell's value shown in a message at most
 OUTLIER_ROWS = 5  # at most this many rows dated far after the rest count as typing slips
 _SHEET_ORDER = {spec.name: i for i, spec in enumerate(schema.INPUT_SHEETS)}
 _FORMULA_FIX = "Open and save the workbook in your spreadsheet program, or type the value."
@@ -48,6 +49,7 @@ class LeagueBook:
     problems: tuple[Problem, ...]
     state: PublishedState | None = None
     sheet_names: tuple[str, ...] = ()
+    tool_sheets: dict[str, str] = field(default_factory=dict)  # role -> name of the tool's sheets (see toolsheets)
     layouts: Mapping[str, SheetLayout] = field(default_factory=dict)  # by schema sheet name
     formula_cells: tuple[tuple[str, int, int], ...] = ()  # (sheet, row, column) without saved value
 
@@ -74,7 +76,10 @@ def shown(value: object) -> str:
         return value.isoformat()
     if isinstance(value, float) and value.is_integer():
         return str(int(value))
-    return str(value)
+    text = str(value)
+    if len(text) > SHOWN_LENGTH:  # a message shows the start of a long value, never all of it
+        return f"{text[:SHOWN_LENGTH - 20]}... ({len(text):,} characters)"
+    return text
 
 
 def _blank(value: object) -> bool:
@@ -231,11 +236,12 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
     formula_cells = _check_formulas(path, wb, sheets, reader)
     results, players, fixtures = _link_names(rows, players, fixtures, sheets, reader)
     _check_results(results, sheets.get(schema.RESULTS.name), reader)
-    state = _read_state(wb, values_wb, reader)
+    tool = toolsheets.of_package(path)
+    state = _read_state(wb, values_wb, tool, reader)
     problems = sorted(reader.problems, key=lambda p: (not p.is_error, _SHEET_ORDER.get(p.sheet, 9), p.row or 0))
     return LeagueBook(
         path=path, results=results, players=players, settings=settings, fixtures=fixtures,
-        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames),
+        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames), tool_sheets=tool,
         layouts={name: sheet.layout() for name, sheet in sheets.items()},
         formula_cells=formula_cells)
 
@@ -376,6 +382,9 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
         players.append(spelling)
         if not spelling:
             fault(key, "", "the player's name is blank", "Write the player's name.", blank=True)
+        elif len(spelling) > MAX_NAME_LENGTH:
+            fault(key, spelling, f"this name is {len(spelling):,} characters long; a player's name has at most "
+                  f"{MAX_NAME_LENGTH}", "Write the player's name alone in the cell.")
     if players[0] and players[1] and name_key(players[0]) == name_key(players[1]):
         fault("player_b", values["player_b"], "a player cannot play against themself",
               "Check the two names.")
@@ -388,6 +397,11 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
             fault(key, values[key], f"the games won are {wrong}",
                   "Write the games (racks or frames) won, a whole number of 0 or more.", blank=wrong == "blank")
         games.append(number)
+        if number is not None and number > settings.longest_race and not void:
+            fault(key, values[key], f"{number} games won in one match is more than the Longest race "
+                  f"({settings.longest_race}) on the Settings sheet",
+                  "Correct the score; if matches in this league really run longer, raise 'Longest race' "
+                  "on the Settings sheet.")
     if games == [0, 0] and not void and ok:
         fault("games_b", values["games_b"], "both players won 0 games",
               "Write the real score, or start the Note with 'void' to keep the row unrated.")
@@ -549,8 +563,15 @@ def _division_spellings(spellings) -> dict[str, str]:
 
 def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _Reader) -> None:
     index = CloseIndex([p.name for p in players] + list(first_row))
+    listed = CloseIndex([p.name for p in players])
     for display, mention in first_row.items():
         if name_key(display) not in known:
+            slip = listed.matches(display, n=1)
+            if slip:  # one typing slip from a listed player: an error, with the listed spelling to write
+                reader.add("error", schema.RESULTS.name, mention.row, mention.column, mention.spelling,
+                           f"not in Players, but spelled like '{slip[0]}'",
+                           f"Write '{slip[0]}' if it is that player, or add '{display}' to Players.")
+                continue
             close = index.matches(display)
             hint = f"; close spellings: {', '.join(close)}" if close else ""
             reader.add("warning", schema.RESULTS.name, mention.row, mention.column, mention.spelling,
@@ -622,7 +643,13 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
                        "if they really played twice that day, nothing to do.")
         else:
             seen[key] = r.row
-    dated = sorted(results, key=lambda r: r.date, reverse=True)
+    today = dt.date.today()  # the one place the clock is read: a result cannot be dated after today
+    for r in results:
+        if r.date > today and not r.void:
+            reader.add("error", sheet.spec.name, r.row, sheet.header("date"), r.date,
+                       f"this date is after today ({today.isoformat()})",
+                       "Check the date (often the year); a match is entered once it has been played.")
+    dated = sorted((r for r in results if r.date <= today), key=lambda r: r.date, reverse=True)
     cut = 0
     for i in range(min(OUTLIER_ROWS, len(dated) - 1)):
         if (dated[i].date - dated[i + 1].date).days > 365:
@@ -633,13 +660,14 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
                    f"{dated[cut].date.isoformat()})", "Check the year.")
 
 
-def _read_state(wb, values_wb: ValuesBook, reader: _Reader) -> PublishedState | None:
-    if schema.STATE_SHEET not in values_wb.sheetnames:
+def _read_state(wb, values_wb: ValuesBook, tool: dict[str, str], reader: _Reader) -> PublishedState | None:
+    title = tool.get(schema.STATE_SHEET)
+    if title is None or title not in values_wb.sheetnames:
         return None
     try:
         if wb is not None:
             return read_state(wb)
-        return state_from_rows(values_wb.rows(schema.STATE_SHEET))
+        return state_from_rows(values_wb.rows(title))
     except SecretaryError as exc:
         reader.add("warning", schema.STATE_SHEET, None, None, "", f"the tool's hidden sheet could not be read ({exc})",
                    "Nothing to do: this update's breakdown of changes starts afresh.")

@@ -19,11 +19,13 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 import errno
+import hashlib
 import math
 import os
 import re
 import secrets
 import shutil
+import stat
 import time
 import zipfile
 from dataclasses import dataclass
@@ -36,7 +38,7 @@ from openpyxl.workbook.workbook import Workbook
 from secretary.errors import FileRefused
 from secretary.workbook.fidelity import unsupported_content
 from secretary.workbook.guard import check_readable
-from secretary.workbook.schema import OUTPUT_SHEETS
+from secretary.workbook import toolsheets
 
 BACKUP_FOLDER = "backups"
 _TEMP_PREFIX = ".~secretary-"
@@ -52,6 +54,48 @@ class SaveOutcome:
     backup: Path | None  # the copy of the previous version, if there was one
     companion: bool  # True when the outputs went to the companion workbook
     reason: str  # plain words for the secretary
+
+
+@dataclass(frozen=True)
+class FileStamp:
+    """Enough about a file to tell whether another program saved it since: size, time, content hash."""
+
+    size: int
+    mtime_ns: int
+    digest: str
+
+
+def file_stamp(path: str | Path) -> FileStamp:
+    """The stamp of the file at ``path`` now."""
+    path = Path(path)
+    info = path.stat()
+    digest = hashlib.blake2b(digest_size=16)
+    with path.open("rb") as handle:
+        for block in iter(lambda: handle.read(1 << 20), b""):
+            digest.update(block)
+    return FileStamp(info.st_size, info.st_mtime_ns, digest.hexdigest())
+
+
+def writable_workbook(path: str | Path) -> Path:
+    """The file an update must write: a symbolic link's target (never the link); refuses a read-only file."""
+    path = Path(path)
+    if path.is_symlink():
+        path = Path(os.path.realpath(path))
+    if path.exists() and not path.stat().st_mode & stat.S_IWUSR:
+        raise FileRefused(
+            f"{path.name} is marked read-only, so the tool will not replace it; nothing was changed. "
+            f"If it should be updated, remove the read-only mark (in the file's properties) and try again.")
+    return path
+
+
+def refuse_if_changed(path: Path, expected: FileStamp | None) -> None:
+    """Refuse to swap in a new version when another program saved the workbook after it was read."""
+    if expected is None or not path.exists():
+        return
+    if file_stamp(path) != expected:
+        raise FileRefused(
+            f"{path.name} was changed by another program while the update was running, so the update "
+            f"was not saved and nothing of yours was overwritten. Run the update again.")
 
 
 def load_for_update(path: str | Path) -> Workbook:
@@ -90,9 +134,11 @@ def backups_of(path: str | Path) -> list[Path]:
     return [item for _, item in sorted(found, reverse=True)]
 
 
-def save_workbook(wb: Workbook, path: str | Path, *, keep: int = 10) -> SaveOutcome:
-    """Save safely over `path` (or to its companion when `path` holds content openpyxl would lose)."""
-    path = Path(path)
+def save_workbook(wb: Workbook, path: str | Path, *, keep: int = 10, expect: FileStamp | None = None) -> SaveOutcome:
+    """Save safely over `path` (or to its companion when `path` holds content openpyxl would lose).
+
+    ``expect``: the stamp of `path` when it was read; the save is refused if the file changed since."""
+    path = writable_workbook(path)
     if getattr(wb, "_data_only", False):
         raise ValueError("this workbook was loaded with data_only=True; saving it would replace formulas by values")
     if keep < 1:
@@ -101,7 +147,7 @@ def save_workbook(wb: Workbook, path: str | Path, *, keep: int = 10) -> SaveOutc
     if not lost:
         if _has_macros_suffix(path) and wb.vba_archive is None:
             raise ValueError(f"{path.name} has macros: load it with load_for_update() so that they are kept")
-        backup = _save_checked(wb, path, keep)
+        backup = _save_checked(wb, path, keep, expect)
         return SaveOutcome(path, backup, False, f"Saved {path.name}.")
     target = companion_path(path)
     with _only_tool_sheets(wb):
@@ -114,35 +160,85 @@ def save_workbook(wb: Workbook, path: str | Path, *, keep: int = 10) -> SaveOutc
     return SaveOutcome(target, backup, True, reason)
 
 
-def restore_previous(path: str | Path, *, keep: int = 10) -> Path:
-    """Bring back the newest backup; the current file is backed up first, so a restore can be undone."""
+@dataclass(frozen=True)
+class BackupVersion:
+    """One earlier version kept in the backups folder."""
+
+    number: int  # 1 = the newest, as `secretary restore --list` shows it
+    path: Path
+    kept_at: dt.datetime  # when it was replaced by a newer version
+    size: int
+    current: bool  # the same content as the workbook now
+
+
+def backup_versions(path: str | Path) -> list[BackupVersion]:
+    """The earlier versions of the workbook, newest first, numbered from 1."""
     path = Path(path)
-    backups = backups_of(path)
-    if not backups:
+    now = file_stamp(path).digest if path.is_file() else None
+    out = []
+    for item in backups_of(path):
+        try:
+            kept_at = dt.datetime.strptime(re.search(r"-(\d{8}-\d{6})(?:-\d+)?$", item.stem).group(1), "%Y%m%d-%H%M%S")
+        except ValueError:  # digits that are no date: not one of the tool's backups
+            continue
+        size = item.stat().st_size
+        same = now is not None and size == path.stat().st_size and file_stamp(item).digest == now
+        out.append(BackupVersion(len(out) + 1, item, kept_at, size, same))
+    return out
+
+
+def restore_previous(path: str | Path, *, pick: str | int | None = None) -> Path:
+    """Bring back an earlier version: `pick` is its number in `backup_versions` or the start of its date
+    and time ("2026-03-14" or "2026-03-14 20:15"); by default the newest that differs from the workbook now.
+    The current file is kept as a backup first (so a restore can be undone), and no version is pruned."""
+    path = writable_workbook(path)
+    versions = backup_versions(path)
+    if not versions:
         raise FileRefused(
             f"There is no earlier version of {path.name} to restore: the '{BACKUP_FOLDER}' folder "
             f"beside it holds no copy of it."
         )
+    chosen = _chosen_version(path, versions, pick)
     _refuse_if_open(path)
-    previous = backups[0]
     temp = _new_temp(path)
     try:
-        shutil.copyfile(previous, temp)
+        shutil.copyfile(chosen.path, temp)
         _copy_mode(path, temp)
         if not zipfile.is_zipfile(temp):
-            raise FileRefused(f"The backup {previous.name} is damaged and cannot be restored; try an older one.")
+            raise FileRefused(f"The backup {chosen.path.name} is damaged and cannot be restored; try an older one.")
         if path.exists():
             _backup(path)
         _replace(temp, path)
     except BaseException:
         _remove(temp)
         raise
-    _prune(path, keep)
-    return previous
+    return chosen.path
 
 
-def _save_checked(wb: Workbook, target: Path, keep: int) -> Path | None:
+def _chosen_version(path: Path, versions: list[BackupVersion], pick: str | int | None) -> BackupVersion:
+    if pick is None:
+        differing = [v for v in versions if not v.current]
+        if not differing:
+            raise FileRefused(f"Every earlier version of {path.name} kept is the same as the workbook now; "
+                              "nothing was changed.")
+        return differing[0]
+    text = str(pick).strip()
+    if text.isdigit():
+        found = [v for v in versions if v.number == int(text)]
+    else:
+        found = [v for v in versions if f"{v.kept_at:%Y-%m-%d %H:%M:%S}".startswith(text.replace("T", " "))]
+    if not found:
+        raise FileRefused(
+            f"No earlier version of {path.name} is numbered or dated '{text[:40]}'. "
+            f"List them with: secretary restore --list \"{path.name}\"")
+    if found[0].current:
+        raise FileRefused(f"Version {found[0].number} is the same as {path.name} now; nothing was changed.")
+    return found[0]
+
+
+def _save_checked(wb: Workbook, target: Path, keep: int, expect: FileStamp | None = None) -> Path | None:
     """Write a temp file, check it, back up the old file, swap; the old file survives any failure."""
+    target = writable_workbook(target)
     _refuse_if_open(target)
     _remove_stale_temps(target)
     temp = _new_temp(target)
@@ -154,6 +250,7 @@ def _save_checked(wb: Workbook, target: Path, keep: int) -> Path | None:
             raise _plain_os_error(exc, target) from exc
         _check_copy(wb, temp, target)
         _copy_mode(target, temp)
+        refuse_if_changed(target, expect)
         if target.exists():
             backup = _backup(target)
         _replace(temp, target)
@@ -165,7 +262,11 @@ def _save_checked(wb: Workbook, target: Path, keep: int) -> Path | None:
 
 
 def _write_temp(wb: Workbook, temp: Path) -> None:
-    """Write the workbook to the temp file (a seam the fault tests replace)."""
+    """Write the workbook to the temp file (a seam the fault tests replace).
+
+    The workbook asks to be recalculated when opened, so the secretary's own
+    formulas that look up the tool's sheets show the new values."""
+    wb.calculation.fullCalcOnLoad = True
     wb.save(temp)
 
 
@@ -249,11 +350,12 @@ def _check_copy(wb: Workbook, temp: Path, target: Path) -> None:
     try:
         if copy.sheetnames != wb.sheetnames:
             raise _check_failed(target, "its sheets differ")
+        tool = set(toolsheets.of_workbook(wb).values())
         for name in wb.sheetnames:
             mine, theirs = wb[name], copy[name]
             if not hasattr(mine, "iter_rows"):
                 continue  # a chart sheet holds no cells
-            if name in OUTPUT_SHEETS:
+            if name in tool:
                 if _cells(mine) != _cells(theirs):
                     raise _check_failed(target, f"sheet '{name}' does not read back as written")
             elif (mine.max_row, mine.max_column) != (theirs.max_row, theirs.max_column):
@@ -323,28 +425,62 @@ def _has_macros_suffix(path: Path) -> bool:
 def _backup(path: Path) -> Path:
     """Copy the current file into backups/<stem>-<date-time><ext>."""
     folder = path.parent / BACKUP_FOLDER
+    if folder.exists() and not folder.is_dir():
+        raise FileRefused(
+            f"Beside {path.name} there is a file called '{BACKUP_FOLDER}' where the tool keeps its folder of "
+            f"earlier versions, so no backup could be made and {path.name} was not changed. Rename or move "
+            f"that file and try again.")
+    if folder.is_dir() and not folder.stat().st_mode & stat.S_IWUSR:
+        raise _backup_refused(OSError(errno.EACCES, "it is read-only"), path, folder)
     try:
         folder.mkdir(exist_ok=True)
     except OSError as exc:
-        raise _plain_os_error(exc, path) from exc
+        raise _backup_refused(exc, path, folder) from exc
     stamp = dt.datetime.now().strftime("%Y%m%d-%H%M%S")
-    # Within one second, number on from the newest backup of that second (never reuse a pruned name).
-    same_second = [b for b in backups_of(path) if b.name.startswith(f"{path.stem}-{stamp}")]
-    if not same_second:
-        dest = folder / f"{path.stem}-{stamp}{path.suffix}"
-    else:
-        last = re.search(r"-(\d+)$", same_second[0].stem[len(path.stem) + 1 + len(stamp):])
-        dest = folder / f"{path.stem}-{stamp}-{int(last.group(1)) + 1 if last else 2}{path.suffix}"
+    same = _same_backup(path)
+    if same is not None:  # this version is kept already: it moves up to now, so the ten kept stay distinct
+        dest = _backup_name(path, folder, stamp)
+        os.replace(same, dest)
+        return dest
+    dest = _backup_name(path, folder, stamp)
     try:
         shutil.copy2(path, dest)
     except OSError as exc:
         _remove(dest)
-        raise _plain_os_error(exc, path) from exc
+        raise _backup_refused(exc, path, folder) from exc
     return dest
 
 
+def _same_backup(path: Path) -> Path | None:
+    """The backup with the same content as the file at `path`, if one is kept."""
+    size, digest = path.stat().st_size, None
+    for item in backups_of(path):
+        if item.stat().st_size == size:
+            digest = digest or file_stamp(path).digest
+            if file_stamp(item).digest == digest:
+                return item
+    return None
+
+
+def _backup_name(path: Path, folder: Path, stamp: str) -> Path:
+    """backups/<stem>-<date-time><ext>, numbered on within one second."""
+    # Within one second, number on from the newest backup of that second (never reuse a pruned name).
+    same_second = [b for b in backups_of(path) if b.name.startswith(f"{path.stem}-{stamp}")]
+    if not same_second:
+        return folder / f"{path.stem}-{stamp}{path.suffix}"
+    last = re.search(r"-(\d+)$", same_second[0].stem[len(path.stem) + 1 + len(stamp):])
+    return folder / f"{path.stem}-{stamp}-{int(last.group(1)) + 1 if last else 2}{path.suffix}"
+
+
+def _backup_refused(exc: OSError, path: Path, folder: Path) -> FileRefused:
+    why = "the disk is full" if exc.errno == errno.ENOSPC else (exc.strerror or str(exc)).lower()
+    return FileRefused(
+        f"No backup of {path.name} could be kept in the '{folder.name}' folder beside it ({why}), so "
+        f"{path.name} was not changed. Make that folder writable (or move it away) and try again.")
+
+
 def _prune(path: Path, keep: int) -> None:
-    """Keep the newest `keep` backups; a failure here never undoes a good save."""
+    """Keep the newest `keep` backups (each a distinct version); a failure here never undoes a good save."""
     for old in backups_of(path)[keep:]:
         _remove(old)
 
@@ -357,7 +493,9 @@ def _only_tool_sheets(wb: Workbook):
     """For the length of a save, show openpyxl only the tool's sheets (the caller's workbook is restored)."""
     sheets = wb._sheets[:]
     saved = (wb._active_sheet_index, wb.vba_archive, wb.defined_names, wb._external_links, wb.template)
-    kept = [ws for ws in sheets if ws.title in OUTPUT_SHEETS]
+    tool = set(toolsheets.of_workbook(wb).values())
+    markers = toolsheets.only_markers(wb)
+    kept = [ws for ws in sheets if ws.title in tool]
     visible = [i for i, ws in enumerate(kept) if ws.sheet_state == "visible"]
     if not visible:
         raise ValueError("nothing to save in the companion workbook: no visible sheet of the tool's")
@@ -366,6 +504,7 @@ def _only_tool_sheets(wb: Workbook):
         wb._active_sheet_index = visible[0]
         # The secretary's names, links and macros refer to sheets left out; an .xlsx holds no macros.
         wb.vba_archive, wb.defined_names, wb._external_links, wb.template = None, DefinedNameDict(), [], False
+        wb.defined_names.update(markers)  # the tool's own markers name only the tool's sheets
         yield
     finally:
         wb._sheets[:] = sheets

@@ -16,7 +16,7 @@ from openpyxl.workbook.workbook import Workbook
 
 from secretary.model.records import PublishedState, Settings, TuneCheck
 from secretary.workbook.schema import STATE_SHEET
-from secretary.workbook.style import put, replace_sheet
+from secretary.workbook.style import put, replace_sheet, tool_sheet
 
 FORMAT = 1
 _CHUNK = 30000  # characters per cell, under Excel's 32 767
@@ -55,6 +55,7 @@ def _document(state: PublishedState) -> dict:
         "settings": _settings(state.settings),
         "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
         "rows": [[identity, fp] for identity, fp in state.rows],
+        "inputs": state.inputs,
     }
 
 
@@ -78,10 +79,11 @@ def _parse_tune_check(doc: object) -> TuneCheck | None:
 
 def read_state(wb: Workbook) -> PublishedState | None:
     """The state written by the previous update; None when absent or damaged (never raises)."""
-    if STATE_SHEET not in wb.sheetnames:
+    ws = tool_sheet(wb, STATE_SHEET)
+    if ws is None:
         return None
     try:
-        rows = wb[STATE_SHEET].iter_rows(max_col=2, values_only=True)
+        rows = ws.iter_rows(max_col=2, values_only=True)
     except Exception:
         return None
     return state_from_rows(rows)
@@ -118,6 +120,7 @@ def _parse(doc: dict) -> PublishedState | None:
         rows=rows,
         settings=settings,
         tune_check=_parse_tune_check(doc.get("tune_check")),
+        inputs=str(doc.get("inputs", "")),
     )
 
 

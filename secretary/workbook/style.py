@@ -11,6 +11,7 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.table import Table, TableStyleInfo
 from openpyxl.worksheet.worksheet import Worksheet
 
+from secretary.workbook import toolsheets
 from secretary.workbook.schema import OUTPUT_SHEETS, STATE_SHEET
 
 # Number formats of the output columns.
@@ -46,43 +47,60 @@ def put(cell, value: object, number_format: str | None = None) -> None:
 
 
 def replace_sheet(wb: Workbook, name: str) -> Worksheet:
-    """An empty sheet called `name` in place of the old one (same position), or a new one."""
+    """An empty tool sheet of role `name` in place of the tool's old one (same name and position), or a
+    new one, marked as the tool's (see `toolsheets`); a sheet of the secretary's is never touched."""
     if name not in OUTPUT_SHEETS:
         raise ValueError(f"{name!r} is not one of the tool's sheets; the secretary's sheets are never replaced")
-    old = wb[name] if name in wb.sheetnames else None
-    if old is not None:
-        index = wb.sheetnames.index(name)
+    tool = toolsheets.of_workbook(wb)
+    current = tool.get(name)
+    if current is not None:
+        old = wb[current]
+        index = wb.sheetnames.index(current)
         tab_colour = old.sheet_properties.tabColor
         was_selected = old.sheet_view.tabSelected
         wb.remove(old)
     else:
-        index = _new_sheet_index(wb, name)
+        current = toolsheets.free_name(name, wb.sheetnames)
+        index = _new_sheet_index(wb, name, tool)
         tab_colour, was_selected = None, False
-    ws = wb.create_sheet(name, index)
+    ws = wb.create_sheet(current, index)
     ws.sheet_properties.tabColor = tab_colour
     ws.sheet_view.tabSelected = was_selected
+    toolsheets.mark(wb, name, current)
     _keep_active_visible(wb)
     return ws
 
 
+def tool_sheet(wb: Workbook, name: str) -> Worksheet | None:
+    """The tool's sheet of role `name`, or None."""
+    current = toolsheets.of_workbook(wb).get(name)
+    return wb[current] if current is not None else None
+
+
 def remove_sheet(wb: Workbook, name: str) -> None:
-    """Remove one of the tool's sheets if it is there."""
+    """Remove the tool's sheet of role `name` if it is there."""
     if name not in OUTPUT_SHEETS:
         raise ValueError(f"{name!r} is not one of the tool's sheets")
-    if name in wb.sheetnames:
-        wb.remove(wb[name])
+    ws = tool_sheet(wb, name)
+    if ws is not None:
+        wb.remove(ws)
+        marker = toolsheets.marker(name)
+        for old in [n for n in wb.defined_names if n.casefold() == marker]:
+            del wb.defined_names[old]
         _keep_active_visible(wb)
 
 
-def _new_sheet_index(wb: Workbook, name: str) -> int:
+def _new_sheet_index(wb: Workbook, name: str, tool: dict[str, str]) -> int:
     """Where a new tool sheet goes: after the tool's other sheets, before the hidden state sheet."""
     names = wb.sheetnames
     if name == STATE_SHEET:
         return len(names)
-    tool = [i for i, n in enumerate(names) if n in OUTPUT_SHEETS and n != STATE_SHEET]
-    if tool:
-        return tool[-1] + 1
-    return names.index(STATE_SHEET) if STATE_SHEET in names else len(names)
+    state = tool.get(STATE_SHEET)
+    mine = {n for role, n in tool.items() if role != STATE_SHEET}
+    placed = [i for i, n in enumerate(names) if n in mine]
+    if placed:
+        return placed[-1] + 1
+    return names.index(state) if state in names else len(names)
 
 
 def _keep_active_visible(wb: Workbook) -> None:
@@ -138,7 +156,9 @@ def write_table(
 def _shown_length(value: object) -> int:
     if isinstance(value, float):
         return len(f"{value:.1f}")
-    if isinstance(value, (dt.date, dt.datetime)):
+    if isinstance(value, dt.datetime):
+        return len(TIME_FORMAT)  # "2026-04-16 10:30": a date's width would print as "###"
+    if isinstance(value, dt.date):
         return 10
     return len(str(value))
 

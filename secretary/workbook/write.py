@@ -6,7 +6,7 @@ from typing import Sequence
 
 from openpyxl.chart import LineChart, Reference
 from openpyxl.chart.data_source import AxDataSource, StrRef
-from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.workbook.workbook import Workbook
 
 from secretary.model.records import PlayerRating, Problem, Settings, UpdateLog
@@ -27,15 +27,16 @@ from secretary.workbook.style import (
     header_row,
     remove_sheet,
     replace_sheet,
+    tool_sheet,
     write_table,
 )
 
-RATINGS_HEADERS = ("Rank", "Player", "Division", "Rating", "±", "Games", "Change", "Last played", "Note")
+RATINGS_HEADERS = ("Rank", "Player", "Division", "Rating", "±", "Weighted games", "Change", "Last played", "Note")
 LOG_HEADERS = (
     "Time", "Version", "Reference date", "Rows read", "Rows rated",
     "New rows", "Changed rows", "Removed rows", "Settings", "Warnings",
 )
-PROBLEM_HEADERS = ("Severity", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
+PROBLEM_HEADERS = ("Kind", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
 CHART_PLAYERS = 10
 NEW_NOTE = "new this update"
 FEW_GAMES_NOTE = "few games: rating still uncertain"
@@ -68,7 +69,7 @@ def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Setti
     ws = replace_sheet(wb, RATINGS_SHEET)
     write_table(
         ws, RATINGS_HEADERS, rows, freeze="C2",
-        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Games": GAMES_FORMAT,
+        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT,
                  "Change": CHANGE_FORMAT, "Last played": DATE_FORMAT},
     )
 
@@ -88,17 +89,17 @@ def write_history(wb: Workbook, date: dt.date, ratings: Sequence[PlayerRating]) 
     rows = [[names[k], *(history[d].get(k) for d in dates)] for k in now_rated + others]
     headers = ["Player", *(d.isoformat() for d in dates)]
     ws = replace_sheet(wb, HISTORY_SHEET)
-    write_table(ws, headers, rows, freeze="B2", formats={h: RATING_FORMAT for h in headers[1:]})
-    _add_chart(ws, len(headers), min(CHART_PLAYERS, len(now_rated)))
+    count = write_table(ws, headers, rows, freeze="B2", formats={h: RATING_FORMAT for h in headers[1:]})
+    _add_chart(ws, len(headers), min(CHART_PLAYERS, len(now_rated)), count + 3)
 
 
 def _read_history(wb: Workbook) -> tuple[dict[str, str], dict[dt.date, dict[str, float]]]:
     """The existing history: names by folded key, and per date the ratings by folded key."""
     names: dict[str, str] = {}
     history: dict[dt.date, dict[str, float]] = {}
-    if HISTORY_SHEET not in wb.sheetnames:
+    ws = tool_sheet(wb, HISTORY_SHEET)
+    if ws is None:
         return names, history
-    ws = wb[HISTORY_SHEET]
     columns = {}
     for col, text in enumerate(header_row(ws)[1:], start=1):
         day = _as_date(text)
@@ -124,8 +125,9 @@ def _as_date(text: str) -> dt.date | None:
         return None
 
 
-def _add_chart(ws, n_columns: int, n_players: int) -> None:
-    """A line chart of the top players' ratings over the update dates (straight lines)."""
+def _add_chart(ws, n_columns: int, n_players: int, below: int) -> None:
+    """A line chart of the top players' ratings over the update dates (straight lines), from row ``below`` down,
+    on a printed page of its own (a page break above it; it is shorter than a page)."""
     if n_players == 0:
         return
     chart = LineChart()
@@ -143,14 +145,15 @@ def _add_chart(ws, n_columns: int, n_players: int) -> None:
     for series in chart.series:
         series.cat = dates  # the date headers are text, so a text reference (numRef would show 1, 2, 3)
         series.smooth = False  # a rating moves in steps between updates; a curve would invent values
-    ws.add_chart(chart, f"{get_column_letter(n_columns + 2)}2")
+    ws.add_chart(chart, f"A{below}")
+    ws.row_breaks.append(Break(id=below - 2))  # after the table: the empty row above the chart starts its page
 
 
 def write_log(wb: Workbook, entry: UpdateLog) -> None:
     """Append one row to the Update log (earlier rows are kept)."""
     old_rows = []
-    if LOG_SHEET in wb.sheetnames:
-        ws = wb[LOG_SHEET]
+    ws = tool_sheet(wb, LOG_SHEET)
+    if ws is not None:
         where = {h.casefold(): i for i, h in enumerate(header_row(ws))}
         for row in ws.iter_rows(min_row=2, values_only=True):
             if any(v is not None for v in row):

@@ -89,7 +89,7 @@ def _cell(row: dict, key: str, fmt: str) -> str:
 
 
 HEADER = ("| data set | method | log-loss per game: point | predictive | per race: point | predictive "
-          "| Brier per game | calibration gap: games | races | games | races | seconds |")
+          "| Brier per game | calibration gap: per game | per race | games | races | seconds |")
 
 
 def table_row(name: str, r: dict) -> str:

@@ -1,6 +1,7 @@
 """Fixtures for the window's tests: a real X server (Xvfb), callback errors that fail the test, a dialog recorder."""
 from __future__ import annotations
 
+import contextlib
 import os
 import shutil
 import subprocess
@@ -14,14 +15,16 @@ import pytest
 from tests.gui.helpers import DEMO, RecordingDialogs
 
 
-@pytest.fixture(scope="session")
-def display():
-    """A private X display from Xvfb for the whole session; skips only where Xvfb cannot start."""
+@contextlib.contextmanager
+def xvfb(*screens: str):
+    """A private X display from Xvfb with screens of these sizes (``WIDTHxHEIGHT``; 1280x1024 if none), set as
+    DISPLAY (its first screen); skips where Xvfb cannot start. Screen k is ``DISPLAY`` with ``.k`` added."""
+    sizes = [a for k, size in enumerate(screens or ("1280x1024",)) for a in ("-screen", str(k), f"{size}x24")]
     if shutil.which("Xvfb") is None:
         pytest.skip("Xvfb is not installed (apt-get install xvfb): the window cannot be tested here")
     # -displayfd makes Xvfb pick a free display number itself and print it once it is listening.
     read, write = os.pipe()
-    proc = subprocess.Popen(["Xvfb", "-displayfd", str(write), "-screen", "0", "1280x1024x24", "-nolisten", "tcp"],
+    proc = subprocess.Popen(["Xvfb", "-displayfd", str(write), *sizes, "-nolisten", "tcp"],
                             pass_fds=(write,), stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     os.close(write)
     number = b""
@@ -41,13 +44,29 @@ def display():
     name = f":{number.decode().strip()}"
     old = os.environ.get("DISPLAY")
     os.environ["DISPLAY"] = name
-    yield name
-    proc.terminate()
-    proc.wait(10)
-    if old is None:
-        os.environ.pop("DISPLAY", None)
-    else:
-        os.environ["DISPLAY"] = old
+    try:
+        yield name
+    finally:
+        proc.terminate()
+        proc.wait(10)
+        if old is None:
+            os.environ.pop("DISPLAY", None)
+        else:
+            os.environ["DISPLAY"] = old
+
+
+LAPTOP_SCREENS = ((1024, 600), (1366, 768))  # screens 1 and 2 of the session's display
+
+
+@pytest.fixture(scope="session")
+def display():
+    """A private X display from Xvfb for the whole session: screen 0 roomy, then a netbook's and a laptop's.
+
+    One server for everything: Tk keeps its connection to a display open after its window is gone, so a
+    server stopped before the end of the session would take the test process down with it.
+    """
+    with xvfb("1280x1024", *(f"{w}x{h}" for w, h in LAPTOP_SCREENS)) as name:
+        yield name
 
 
 @pytest.fixture(autouse=True)

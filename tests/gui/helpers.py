@@ -45,6 +45,9 @@ class RecordingDialogs:
     def ask_yes_no(self, title, message):
         return bool(self._record("ask_yes_no", title, message))
 
+    def choose(self, title, message, options):
+        return self._record("choose", title, message, options)
+
     def ask_open_workbook(self, folder=None):
         return self._record("ask_open_workbook", folder)
 
@@ -55,7 +58,8 @@ class RecordingDialogs:
         return self._record("ask_folder", title, folder)
 
     def open_externally(self, path):
-        self._record("open_externally", path)
+        answer = self._record("open_externally", path)
+        return True if answer is None else answer
 
     def named(self, name):
         return [c for c in self.calls if c[0] == name]
@@ -76,7 +80,7 @@ def screenshot(root: tk.Misc, name: str) -> Path:
         time.sleep(0.02)
     x, y = root.winfo_rootx(), root.winfo_rooty()
     image = ImageGrab.grab(bbox=(x, y, x + root.winfo_width(), y + root.winfo_height()),
-                           xdisplay=os.environ["DISPLAY"])
+                           xdisplay=root.winfo_screen())
     ARTIFACTS.mkdir(exist_ok=True)
     path = ARTIFACTS / f"{name}.png"
     image.save(path)

@@ -44,6 +44,25 @@ def test_steps_follow_the_weekly_routine():
     assert views.next_step(failed) == 1
     # An old notice board beside the workbook can be printed without updating again.
     assert views.steps_enabled(good.but(notice_exists=True))[3]
+    # Step 2 is never "Done" behind errors found since, or behind results not yet rated.
+    assert views.step_states(updated.but(errors=1))[1] == views.WAITING
+    assert views.step_states(updated.but(waiting_results=True))[1] == views.WAITING
+
+
+def test_window_size_fits_the_screen_with_room_for_a_taskbar():
+    for screen in ((1024, 600), (1366, 768), (800, 600), (1920, 1080)):
+        width, height = views.window_size(screen)
+        assert width <= screen[0] and height <= screen[1] - 80  # title bar and taskbar stay free
+        small = views.smallest_size(screen)
+        assert small[0] <= width and small[1] <= height
+    assert views.window_size((1366, 768), saved=(900, 600)) == (900, 600)  # remembered
+    assert views.window_size((1024, 600), saved=(1300, 760)) == views.window_size((1024, 600))  # too big now
+
+
+def test_step_names_shorten_until_they_fit():
+    assert views.step_names(lambda names: True) == views.STEPS
+    assert views.step_names(lambda names: len("".join(names)) < 60) == views.SHORT_STEPS[0]
+    assert views.step_names(lambda names: False) == views.SHORT_STEPS[-1]
 
 
 def _rows(values):
@@ -72,15 +91,14 @@ def test_rating_rows_rank_share_places_and_mark_new_players():
     assert [r.values[1] for r in rows] == ["Ada Finch", "Cleo Marsh", "Bram Oak", "Dev Pike"]
     assert [r.values[0] for r in rows] == [1, 2, 2, 4]  # 1499.8 and 1500.2 both show 1500
     by_name = {r.values[1]: r for r in rows}
-    assert by_name["Bram Oak"].tags == ("new",) and by_name["Bram Oak"].shown[-1] == "new"
-    assert by_name["Ada Finch"].shown[3] == "1580 \u2013 1660"  # rating 1620 give or take 40
-    assert by_name["Ada Finch"].shown[4] == "-4"
-    assert by_name["Dev Pike"].shown[4] == "0" and by_name["Dev Pike"].shown[-1] == "few games"
+    assert by_name["Bram Oak"].tags == ("new",) and by_name["Bram Oak"].shown[-1] == "new this update"
+    assert by_name["Ada Finch"].shown[3] == "-4"
+    assert by_name["Dev Pike"].shown[3] == "0" and by_name["Dev Pike"].shown[-1] == "few games"
     keys = [c.key for c in views.RATING_COLUMNS]
-    assert (keys.index("player"), keys.index("division")) == (1, 5)  # filter_rows' defaults
+    assert (keys.index("player"), keys.index("division")) == (1, 4)  # filter_rows' defaults
     assert all(len(r.values) == len(r.shown) == len(keys) for r in rows)
     first = views.rating_rows([_rating("Ada Finch", 1620.0), _rating("Bram Oak", 1500.0)], few_games=10)
-    assert [r.tags for r in first] == [(), ()] and [r.shown[-1] for r in first] == ["new", "new"]
+    assert [r.tags for r in first] == [(), ()] and [r.shown[-1] for r in first] == ["new this update"] * 2
 
 
 def test_search_and_division_filter():
@@ -104,6 +122,23 @@ def test_bar_geometry_puts_zero_in_the_middle_and_scales_to_the_largest_part():
     # Tiny changes stay tiny: the half-width stands for at least MIN_SCALE points.
     _, small = views.bar_geometry((1, 0, 0, 0), 200)
     assert small[0].x1 - small[0].x0 == pytest.approx(100 / views.MIN_SCALE)
+    # On a common scale, -11 is drawn an eighth as long as +88 in another player's chart.
+    _, shared = views.bar_geometry((-11, 0, 0, 0), 200, scale=88)
+    assert shared[0].x1 - shared[0].x0 == pytest.approx(100 * 11 / 88)
+
+
+def test_common_scale_and_axis_ticks():
+    class Change:
+        def __init__(self, parts, new=False):
+            self.shown, self.is_new = (0, 0, sum(parts), *parts), new
+
+    assert views.common_scale([Change((93, 0, 0, 0)), Change((-11, 0, 0, 0))]) == 93
+    assert views.common_scale([Change((2, 1, 0, 0))]) == views.MIN_SCALE
+    assert views.common_scale([Change((500, 0, 0, 0), new=True), Change((4, 0, 0, 0))]) == views.MIN_SCALE
+    assert views.axis_ticks(93) == [-75, -50, -25, 0, 25, 50, 75]
+    assert views.axis_ticks(10) == [-10, -5, 0, 5, 10]
+    ticks = views.axis_ticks(1234)
+    assert 0 in ticks and max(ticks) <= 1234 and len(ticks) <= 9
 
 
 def test_line_points_span_the_chart_and_keep_a_flat_line_flat():
@@ -182,5 +217,5 @@ def test_problem_rows_and_the_cell_to_fix(tmp_path):
     warning = Problem("warning", "Rating history", None, None, "", "odd", "look")
     assert views.cell_reference(warning) == "the Rating history sheet"
     assert views.cell_reference(Problem("error", "Rating history", 4, "B", "", "x", "y")) == "'Rating history'!B4"
-    assert views.problems_summary(book.problems).startswith("1 error(s) to fix")
+    assert views.problems_summary(book.problems).startswith("1 error to fix")
     assert views.problems_summary(()).startswith("No problems")

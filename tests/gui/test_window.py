@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import os
+import re
 import subprocess
 import sys
 import time
@@ -112,6 +113,51 @@ def test_what_changed_after_the_new_week(app, demo_copy):
     app.changes.only_idle.set(False)
     app.changes.redraw()
     screenshot(app.root, "gui-what-changed-new-week")
+    # Every card is drawn to the league's one scale; the window's sentences name the player.
+    assert app.changes.scale == max(abs(v) for c in app.updated.changes if not c.is_new for v in c.shown[3:7])
+    texts = [app.changes.canvas.itemcget(i, "text") for i in app.changes.canvas.find_all()
+             if app.changes.canvas.type(i) == "text"]
+    assert not [t for t in texts if re.search(r"\b([Yy]ou|[Yy]our)\b", t)]
+    # A new filter starts at the top, so the biggest mover it keeps is in sight.
+    app.changes.canvas.yview_moveto(0.6)
+    app.changes.only_idle.set(True)
+    wait_until(app.root, lambda: app.changes._pending is None, 10, app.errors)
+    assert app.changes.canvas.yview()[0] == 0.0
+    # Ratings: a division filter that hides the player shown moves the panel to a player it shows.
+    shown = app.ratings.player
+    other = next(p.division for p in app.updated.ratings if p.division != app.ratings.ratings[shown].division)
+    app.ratings.division.set(other)
+    settle(app)
+    assert app.ratings.ratings[app.ratings.player].division == other
+
+
+def test_status_and_steps_tell_the_truth_while_checking_and_after_a_missing_file(app, demo_copy, tmp_path):
+    app.open_workbook(demo_copy)
+    assert "No problems" not in app.problems.summary.cget("text")  # the check is still running
+    assert app.step_labels[0].cget("text").startswith("Checking")
+    settle(app)
+    assert app.problems.summary.cget("text") == views.problems_summary(app.checked.problems)
+    app.open_workbook(tmp_path / "not there.xlsx")
+    settle(app)
+    assert "No problems" not in app.problems.summary.cget("text")
+    assert views.step_states(app.session)[0] != views.DONE and not views.steps_enabled(app.session)[1]
+
+
+def test_print_menu_offers_the_board_and_the_handicap_card_and_says_where_they_are(app, demo_copy):
+    from secretary.pipeline import handicap_pdf_path, notice_pdf_path
+
+    updated(opened(app, demo_copy))
+    app.print_card()
+    assert app.dialogs.named("open_externally")[-1][1] == handicap_pdf_path(demo_copy)
+    app.dialogs.answers.update(open_externally=False, ask_yes_no=True)  # no PDF viewer on this computer
+    app.print_notice()
+    assert str(demo_copy.parent) in app.status.cget("text") and "No PDF viewer" in app.status.cget("text")
+    opened_paths = [c[1] for c in app.dialogs.named("open_externally")]
+    assert opened_paths[-2:] == [notice_pdf_path(demo_copy), demo_copy.parent]  # then "open the folder"
+    # Fixtures dated before the latest results are marked past.
+    latest = app.updated.latest_result
+    past = [v for v in app.fixtures.table.shown_values() if views.PAST in v[-1]]
+    assert len(past) == sum(1 for f in app.updated.forecasts if f.fixture.date and f.fixture.date < latest)
 
 
 def test_cancel_leaves_the_workbook_byte_for_byte_untouched(app, demo_copy):
@@ -216,15 +262,17 @@ def test_new_league_workbook_from_the_file_menu(app, tmp_path):
 
 def test_restore_and_demo_from_the_file_menu(app, user_home):
     app.open_demo(False)
-    settle(app)
-    demo = user_home / "demo league" / "Demo league.xlsx"
+    settle(app, 300)
+    demo = user_home / "League secretary demo" / "league.xlsx"  # the command line's demo, in a findable folder
     assert app.path == demo and app.session.checked
-    updated(app)
+    assert app.session.updated and app.updated.new_rows > 0 and app.changes.updated.changes  # What changed is filled
+    assert str(demo.parent) in app.status.cget("text")  # the window says where it is
     app.dialogs.answers["ask_yes_no"] = True
+    app.dialogs.answers["choose"] = 0  # the newest version that differs from the workbook now
     app.restore_previous()
     settle(app)
-    assert not app.session.updated and app.session.checked
-    assert "Ratings" not in openpyxl.load_workbook(demo, read_only=True).sheetnames  # back to the copy
+    assert not app.session.updated and app.session.checked  # back to before the second update: a week to rate
+    assert views.step_states(app.session)[1] != views.DONE
     from secretary.gui.recent import recent
 
     assert recent()[0] == demo.resolve()

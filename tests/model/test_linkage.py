@@ -27,7 +27,7 @@ from tests.bench.make_league import simulate_races
 START = dt.date(2025, 1, 6)
 # With the default skill spread (200 points) a surplus z of 2 needs hundreds of straight wins
 # (z ~ sqrt(r) / s for an unbeaten player); the synthetic leagues use a threshold of 1.
-HELD = Settings(held_z=1.0)
+HELD = Settings(held_z=1.0, skill_spread=145.0)  # the spread these invented leagues are drawn to suit
 
 
 def race(rng, p):
@@ -440,6 +440,7 @@ def test_sparse_level_variances_agree_with_a_dense_inverse(method):
     contrasts = average_contrasts(members, fit.group, len(fit.group_names), fit.prior_sd**2, 0.0)
     sparse, X = contrasts.variance(HessianSolver(H, method))
     assert np.max(np.abs(sparse / dense - 1)) <= 1e-6
+    assert np.max(np.abs(fit.contrast_variance(U.T) / sparse - 1)) <= 1e-6  # the fit's own contrasts
     assert np.allclose(full @ X, U, rtol=0, atol=1e-8)
     assert np.allclose(H.toarray(), full, rtol=0, atol=1e-12)
 

@@ -114,7 +114,7 @@ BAD_WORKBOOKS: tuple[BadWorkbook, ...] = (
     BadWorkbook("month-thirteen", _results_with(1, "Date", "14/13/2026"), ("Results", 3, "Date"), says="month 13"),
     BadWorkbook("blank-date", _results_with(0, "Date", None), ("Results", 2, "Date"), says="blank"),
     BadWorkbook("far-future-date", _results_with(3, "Date", dt.date(2062, 3, 21)), ("Results", 5, "Date"),
-                says="more than a year"),
+                says="after today"),
     BadWorkbook("formula-games", _results_with(1, "Games B", "=E3+1"), ("Results", 3, "Games B"),
                 says="formula without a saved value"),
     BadWorkbook("formula-name", _results_with(2, "Player A", '=UPPER("ada finch")'), ("Results", 4, "Player A"),

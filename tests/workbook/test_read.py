@@ -110,9 +110,9 @@ def test_not_in_players_suggests_close_spellings(tmp_path):
     rows = good_results() + [[LATER, "Premier", "Ada Finch", "Bram Oke", 5, 1]]
     players = [["Ada Finch"], ["Bram Oak"], ["Cleo Marsh"], ["Dev Pike"]]
     book = read_workbook(write_book(tmp_path / "np.xlsx", rows, players=players, players_headers=("Player",)))
-    (warning,) = book.warnings
-    assert (warning.row, warning.column) == (6, "Player B")
-    assert "not in Players" in warning.problem and "Bram Oak" in warning.problem
+    (error,) = book.errors  # one typing slip from a listed player: an error, with the listed spelling
+    assert (error.row, error.column) == (6, "Player B")
+    assert "not in Players" in error.problem and "Bram Oak" in error.problem and "'Bram Oak'" in error.fix
 
 
 def test_formula_with_a_saved_value_is_read_as_its_value(tmp_path):

@@ -60,7 +60,8 @@ def _update(path: Path, week: int):
 def _snapshot(path: Path) -> dict:
     """Everything of the secretary's two sheets a save could lose."""
     wb = load_workbook(path)
-    out = {"names": {n: d.attr_text for n, d in wb.defined_names.items()}}
+    # the secretary's names (the tool's own markers of its sheets aside: see toolsheets)
+    out = {"names": {n: d.attr_text for n, d in wb.defined_names.items() if not n.startswith("_secretary_sheet_")}}
     for name in ("Results", S.NOTES):
         ws = wb[name]
         out[name] = {
@@ -235,7 +236,7 @@ def test_backups_keep_the_newest_ten_and_restore_can_be_undone(league):
     restored = restore_previous(league)
     assert restored == backups[0]
     assert read_state(load_workbook(league)).reference_date == dt.date(2026, 3, 5) + dt.timedelta(weeks=10)
-    assert len(backups_of(league)) == 10
+    assert len(backups_of(league)) == 11  # the version replaced is kept too: a restore evicts no version
     restore_previous(league)  # undo: the version before the restore comes back
     assert read_state(load_workbook(league)).reference_date == dt.date(2026, 3, 5) + dt.timedelta(weeks=11)
 
@@ -310,7 +311,8 @@ def test_content_openpyxl_would_lose_sends_the_outputs_to_a_companion(league):
     assert wb.sheetnames[:2] == ["Results", S.NOTES] and "Fees" in wb.defined_names  # caller's workbook restored
     companion = load_workbook(outcome.path)
     assert companion.sheetnames == [RATINGS_SHEET, HISTORY_SHEET, LOG_SHEET, STATE_SHEET]
-    assert companion.active.title == RATINGS_SHEET and not companion.defined_names
+    assert companion.active.title == RATINGS_SHEET
+    assert all(n.startswith("_secretary_sheet_") for n in companion.defined_names)  # only the tool's markers
     assert read_state(companion).reference_date == dt.date(2026, 3, 5)
     second = save_workbook(wb, league)
     assert second.companion and second.backup is not None and second.backup.parent.name == "backups"

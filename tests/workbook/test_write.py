@@ -60,7 +60,7 @@ def test_ratings_ranked_best_first_with_shared_ranks_and_plain_notes(tmp_path):
     assert rows[1][7] == dt.datetime(2026, 3, 12)
     assert ws["B2"].data_type == "s"
     formats = {h: ws.cell(2, i + 1).number_format for i, h in enumerate(RATINGS_HEADERS)}
-    assert (formats["Rating"], formats["±"], formats["Games"], formats["Last played"]) == (
+    assert (formats["Rating"], formats["±"], formats["Weighted games"], formats["Last played"]) == (
         "0", "0", "0.0", "yyyy-mm-dd")
     assert len(ws.tables) == 1 and ws.freeze_panes == "C2"
 
@@ -134,7 +134,7 @@ def test_problems_sheet_lists_errors_first_and_goes_when_there_are_none(tmp_path
     write_problems(wb, problems)
     ws = load_workbook(_saved(wb, tmp_path))[PROBLEMS_SHEET]
     rows = _rows(ws)
-    assert rows[0] == ["Severity", "Sheet", "Row", "Column", "Found", "Problem", "What to do"]
+    assert rows[0] == ["Kind", "Sheet", "Row", "Column", "Found", "Problem", "What to do"]
     assert rows[1] == ["Error", "Results", 9, "Games A", "=2+1", "not a whole number", "Type the games won."]
     assert rows[2][0] == "Warning"
     write_problems(wb, [])

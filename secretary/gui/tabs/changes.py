@@ -42,12 +42,13 @@ class ChangesTab:
             widget.bind("<MouseWheel>", self._wheel, add="+")
             widget.bind("<Button-4>", lambda e: self.canvas.yview_scroll(-3, "units"), add="+")
             widget.bind("<Button-5>", lambda e: self.canvas.yview_scroll(3, "units"), add="+")
-        self.search.trace_add("write", lambda *a: self.redraw_soon())
-        self.only_idle.trace_add("write", lambda *a: self.redraw_soon())
+        self.search.trace_add("write", lambda *a: self.redraw_soon(to_top=True))
+        self.only_idle.trace_add("write", lambda *a: self.redraw_soon(to_top=True))
         self.frame.bind("<Configure>", lambda e: self._wrap(e.width))
         self.updated = None
         self.shown: list = []
         self._pending: str | None = None
+        self._to_top = False
 
     def _wrap(self, width: int) -> None:
         for label in (self.summary, self.legend):
@@ -60,11 +61,12 @@ class ChangesTab:
         """Show an update's changes (None: nothing updated yet)."""
         self.updated = updated
         self.summary.configure(text=views.changes_summary(updated))
-        self.redraw_soon()
+        self.redraw_soon(to_top=True)
 
-    def redraw_soon(self) -> None:
-        """Redraw once the typing or resizing has paused a moment."""
+    def redraw_soon(self, to_top: bool = False) -> None:
+        """Redraw once the typing or resizing has paused a moment; a new filter starts at the top."""
         self.scheduler.cancel(self._pending)
+        self._to_top = self._to_top or to_top
         self._pending = self.scheduler.later(60, self.redraw)
 
     def redraw(self) -> None:
@@ -79,8 +81,12 @@ class ChangesTab:
         y = 8
         if not chosen:
             self.canvas.create_text(12, y, anchor="nw", text="No player matches.", font="TkDefaultFont")
+        # One scale for every player (the whole league's largest part), so that bars compare across cards.
+        self.scale = views.common_scale(self.updated.changes)
+        if any(not c.is_new for c in self.shown):
+            y = charts.draw_axis(self.canvas, 12, y, card_w, self.scale)
         for change in self.shown:
-            y = charts.draw_change(self.canvas, 12, y, card_w, change) + GAP
+            y = charts.draw_change(self.canvas, 12, y, card_w, change, self.scale) + GAP
             self.canvas.create_line(12, y - GAP / 2, 12 + card_w, y - GAP / 2, fill="#dddddd")
         if len(chosen) > MAX_CARDS:
             self.canvas.create_text(12, y, anchor="nw", font="TkDefaultFont", fill="#555555",
@@ -88,3 +94,6 @@ class ChangesTab:
                                          "type a name above to find anyone else.")
             y += 30
         self.canvas.configure(scrollregion=(0, 0, width, y))
+        if self._to_top:
+            self.canvas.yview_moveto(0)
+            self._to_top = False

@@ -4,14 +4,17 @@ from __future__ import annotations
 from tkinter import ttk
 
 from secretary.gui import views
+from secretary.model.sentences import plural
 from secretary.gui.widgets import Table
 
 
 class FixturesTab:
     def __init__(self, parent, scheduler):
         self.frame = ttk.Frame(parent, padding=8)
-        self.summary = ttk.Label(self.frame, text="Update the ratings to see the chances for the fixtures.")
+        self.summary = ttk.Label(self.frame, text="Update the ratings to see the chances for the fixtures.",
+                                 justify="left")
         self.summary.pack(fill="x", pady=(0, 6))
+        self.frame.bind("<Configure>", lambda e: self.summary.configure(wraplength=max(200, e.width - 20)))
         self.table = Table(self.frame, views.FIXTURE_COLUMNS, scheduler,
                            "Matches from the Fixtures sheet with each side's chances and the fair race.",
                            height=16)
@@ -21,12 +24,15 @@ class FixturesTab:
         self.summary.configure(text="Update the ratings to see the chances for the fixtures.")
         self.table.show([])
 
-    def show(self, forecasts) -> None:
-        rows = views.fixture_rows(forecasts)
+    def show(self, forecasts, latest=None) -> None:
+        rows = views.fixture_rows(forecasts, latest)
         if not rows:
             text = "The workbook has no fixtures: add matches to a Fixtures sheet to see their chances here."
         else:
-            text = (f"{len(rows)} fixture(s). A fair race is the handicap that makes the match closest to even; "
-                    "chances are estimates, not promises.")
+            past = sum(1 for r in rows if "past" in r.tags)
+            when = f" ({past} past: dated before the latest results, {views.day(latest)})" if past else ""
+            text = (f"{plural(len(rows), 'fixture')}{when}. A fair race is the handicap that makes the match "
+                    "closest to even; chances allow for how sure each rating is, and are estimates, not promises. "
+                    "The handicap card (League menu) prints them.")
         self.summary.configure(text=text)
         self.table.show(rows)

@@ -8,6 +8,7 @@ from tkinter import ttk
 from secretary.gui import charts, views
 from secretary.gui.tooltips import tip
 from secretary.gui.widgets import Table
+from secretary.model.sentences import plural
 
 # Sizes in lines and average characters of the default font, so that they follow the screen's text size.
 HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
@@ -89,18 +90,30 @@ class RatingsTab:
     def clear(self) -> None:
         self.rows, self.ratings, self.changes, self.history, self.player = [], {}, {}, {}, None
         self.refilter()
-        self.name.configure(text="Update the ratings to see them here.")
+        self._blank("Update the ratings to see them here.")
+
+    def refilter(self) -> None:
+        """Show the players the search and division choose; the player panel follows (first one found)."""
+        shown = views.filter_rows(self.rows, self.search.get(), self.division.get())
+        self.count.configure(text=f"{len(shown)} of {plural(len(self.rows), 'player')}" if self.rows else "")
+        self.table.show(shown)
+        if self.player is not None and self.player not in {r.iid for r in shown}:
+            if shown:
+                self.chosen(shown[0].iid)
+            else:
+                self._blank("No player matches: change the search or the division.")
+
+    def _blank(self, text: str) -> None:
+        self.player = None
+        self.name.configure(text=text)
         self.detail.configure(text="")
         self.history_canvas.delete("all")
         self.change_canvas.delete("all")
 
-    def refilter(self) -> None:
-        shown = views.filter_rows(self.rows, self.search.get(), self.division.get())
-        self.count.configure(text=f"{len(shown)} of {len(self.rows)} players" if self.rows else "")
-        self.table.show(shown)
-
     def chosen(self, name: str) -> None:
         self.player = name
+        if self.table.tree.exists(name) and name not in self.table.tree.selection():
+            self.table.tree.selection_set(name)
         self._redraw()
 
     def _redraw(self) -> None:
@@ -112,9 +125,11 @@ class RatingsTab:
         new = "new this update; " if p.is_new or p.change is None else ""
         self.detail.configure(wraplength=width, text=(
             f"{p.division or 'no division'}: rating {p.rating:.0f} \u00b1 {p.sd:.0f} "
-            f"(likely {views.band(p.rating, p.sd)}); {new}{p.games:.1f} games, last played {views.day(p.last_played)}."))
+            f"(likely {views.band(p.rating, p.sd)}); {new}{p.games:.0f} weighted games, "
+            f"last played {views.day(p.last_played)}."))
         charts.draw_history(self.history_canvas, self.history.get(p.name, []), width, self.history_height)
         self.change_canvas.delete("all")
         change = self.changes.get(p.name)
         if change is not None:
-            charts.draw_change(self.change_canvas, 4, 4, max(200, self.change_canvas.winfo_width()) - 8, change)
+            charts.draw_change(self.change_canvas, 4, 4, max(200, self.change_canvas.winfo_width()) - 8, change,
+                               views.common_scale(self.changes.values()))

@@ -1,0 +1,114 @@
+"""Typing slips are stopped with the row, the column and the fix; hostile sizes are refused cheaply."""
+from __future__ import annotations
+
+import datetime as dt
+import json
+import subprocess
+import sys
+import unicodedata
+
+import openpyxl
+import pytest
+
+from tests.hostile.conftest import digest
+from tests.workbook.league_books import D, PLAYERS_HEADERS, good_results, write_book
+
+PLAYERS = [["Ada Finch", "Premier", None, ""], ["Bram Oak", "Premier", None, ""],
+           ["Cleo Marsh", "Premier", None, ""], ["Dev Pike", "Premier", None, ""]]
+LATER = D + dt.timedelta(days=14)
+
+
+def _refused(run, path, *expected: str) -> str:
+    before = digest(path)
+    code, out = run("update", path)
+    assert code == 1, out
+    for text in expected:
+        assert text in out, out
+    assert digest(path) == before and not (path.parent / "backups").exists()
+    return out
+
+
+@pytest.mark.parametrize("score", [(55, 3), (1_000_000, 0)])
+def test_a_score_above_the_longest_race_is_refused_by_row(tmp_path, run, score):
+    league = write_book(tmp_path / "league.xlsx", good_results() + [[LATER, "Premier", "Ada Finch", "Dev Pike", *score]])
+    _refused(run, league, "Results, row 6, column Games A",
+             f"{score[0]} games won in one match is more than the Longest race (9)",
+             "raise 'Longest race' on the Settings sheet")
+
+
+def test_a_result_dated_after_today_is_refused_by_row(tmp_path, run):
+    tomorrow = dt.date.today() + dt.timedelta(days=1)
+    league = write_book(tmp_path / "league.xlsx", good_results() + [[tomorrow, "Premier", "Ada Finch", "Dev Pike", 5, 2]])
+    _refused(run, league, "Results, row 6, column Date", "this date is after today", "Check the date")
+
+
+def test_a_lone_result_dated_far_after_all_others_is_refused(tmp_path, run):
+    old = [[D.replace(year=2024), *row[1:]] for row in good_results()]
+    league = write_book(tmp_path / "league.xlsx", old + [[D.replace(year=2025) + dt.timedelta(days=30),
+                                                          "Premier", "Ada Finch", "Dev Pike", 5, 2]])
+    _refused(run, league, "Results, row 6, column Date", "more than a year after every other result")
+
+
+def test_a_name_one_letter_off_a_listed_player_is_an_error_offering_the_listed_spelling(tmp_path, run):
+    league = write_book(tmp_path / "league.xlsx", good_results() + [[LATER, "Premier", "Ada Fitch", "Dev Pike", 5, 2]],
+                        players=PLAYERS)
+    out = _refused(run, league, "Results, row 6, column Player A", "spelled like 'Ada Finch'", "Write 'Ada Finch' if it is that player")
+    line = next(line for line in out.splitlines() if "Ada Fitch" in line)
+    assert len(line) <= 180, line  # short enough to be read in full
+
+
+def test_two_unicode_forms_and_an_invisible_character_are_one_player(tmp_path, run):
+    composed = "Zoë Ōtake"
+    decomposed = unicodedata.normalize("NFD", composed)
+    hidden = "Zo\u200bë Ōtake"
+    assert len({composed, decomposed, hidden}) == 3
+    rows = good_results() + [[LATER, "Premier", composed, "Dev Pike", 5, 2],
+                             [LATER, "Premier", decomposed, "Ada Finch", 5, 4],
+                             [LATER + dt.timedelta(days=7), "Premier", hidden, "Bram Oak", 5, 1]]
+    league = write_book(tmp_path / "league.xlsx", rows)
+    code, out = run("update", league)
+    assert code == 0, out
+    names = [r[1] for r in openpyxl.load_workbook(league)["Ratings"].iter_rows(min_row=2, values_only=True)]
+    assert names.count(composed) == 1 and len(names) == 5
+
+
+_PEAK = """
+import json, resource, sys
+from secretary.cli import main
+code = main(sys.argv[1:])
+print(json.dumps({"code": code, "peak_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024}))
+"""
+
+
+def _crafted(path, placeholder: str, value: str) -> None:
+    """Put a value no spreadsheet program would write (longer than a cell may hold) in place of a text."""
+    import zipfile
+
+    with zipfile.ZipFile(path) as z:
+        parts = {i.filename: z.read(i) for i in z.infolist()}
+    part = next(n for n, data in parts.items() if n.startswith("xl/worksheets/") and b"<t>HUGE</t>" in data)
+    assert parts[part].count(f"<t>{placeholder}</t>".encode()) == 1
+    parts[part] = parts[part].replace(f"<t>{placeholder}</t>".encode(), f"<t>{value}</t>".encode())
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as z:
+        for name, data in parts.items():
+            z.writestr(name, data)
+
+
+def test_a_40_mb_name_is_refused_without_running_out_of_memory(tmp_path):
+    league = write_book(tmp_path / "league.xlsx", good_results() + [[LATER, "Premier", "HUGE", "Dev Pike", 5, 2]])
+    _crafted(league, "HUGE", "A" * (40 * 2**20))
+    done = subprocess.run([sys.executable, "-c", _PEAK, "update", str(league)], capture_output=True, text=True,
+                          timeout=600)
+    report = json.loads(done.stdout.strip().splitlines()[-1])
+    assert report["code"] == 1, done.stdout[-2000:]
+    assert "this name is 41,943,040 characters long" in done.stdout
+    assert len(done.stdout) < 2000  # the name is cut in the message, never echoed whole
+    assert report["peak_mb"] < 500, report
+
+
+def test_a_huge_setting_value_is_cut_in_the_message(tmp_path, run):
+    league = write_book(tmp_path / "league.xlsx", good_results(), settings=[["Longest race", "HUGE"]])
+    _crafted(league, "HUGE", "9" * 2**20)
+    code, out = run("update", league)
+    assert code == 1 and "Longest race" in out
+    assert len(out) < 2000 and "(1,048,576 characters)" in out
