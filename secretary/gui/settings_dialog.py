@@ -11,6 +11,9 @@ from secretary.gui.widgets import button
 from secretary.workbook import schema
 
 
+MESSAGE_WIDTH = 260  # pixels: a field's message wraps rather than run off the dialog's edge
+
+
 class SettingsDialog:
     """Save stays disabled until every value is allowed; each message stands beside its field."""
 
@@ -49,7 +52,7 @@ class SettingsDialog:
             else:
                 field = ttk.Entry(grid, textvariable=text, width=40 if spec.kind == "text" else 16)
             tip(field, views.setting_tip(spec)).grid(row=row, column=1, sticky="w")
-            message = ttk.Label(grid, text="", style="Bad.TLabel")
+            message = ttk.Label(grid, text="", style="Bad.TLabel", wraplength=MESSAGE_WIDTH, justify="left")
             message.grid(row=row, column=2, sticky="w", padx=(8, 0))
             ttk.Label(grid, text=f"{spec.explanation} Default: {views.default_text(spec)}.",
                       style="Muted.TLabel", font="SecretarySmall", wraplength=620, justify="left").grid(
@@ -59,8 +62,8 @@ class SettingsDialog:
         grid.columnconfigure(2, weight=1)
         buttons = ttk.Frame(body)
         buttons.pack(fill="x", pady=(8, 0))
-        self.summary = ttk.Label(buttons, text="", style="Bad.TLabel")
-        self.summary.pack(side="left")
+        self.summary = ttk.Label(buttons, text="", style="Bad.TLabel", wraplength=2 * MESSAGE_WIDTH, justify="left")
+        self.summary.pack(side="left", fill="x", expand=True)
         self.save_button = button(buttons, "Save settings", self.save,
                                   "Write these settings into the workbook's Settings sheet and check it again.",
                                   style="Next.TButton")

@@ -6,7 +6,7 @@ from itertools import groupby
 from pathlib import Path
 from typing import Sequence
 
-from reportlab.platypus import KeepTogether
+from reportlab.platypus import CondPageBreak
 
 from secretary.model.fixtures import FixtureForecast
 from secretary.model.notice import CLOSING, forecast_note, league_title, long_date
@@ -17,6 +17,8 @@ COLUMNS = ("Match", "Fair race", "Chance at the set race", "How sure")
 COLUMN_SHARES = (0.30, 0.28, 0.25, 0.17)  # of the page width
 NO_DATE = "date not set"
 NOT_RATED = "not yet rated"
+NBSP = "\u00a0"
+TABLE_START = 80  # points: a date's heading is kept with its table's header and first rows
 
 
 def fair_race_text(fc: FixtureForecast) -> str:
@@ -42,9 +44,19 @@ def _match_cell(fc: FixtureForecast, ratings: dict[str, PlayerRating]) -> list:
     lines = []
     for lead, name in (("", fc.fixture.player_a), ("v ", fc.fixture.player_b)):
         p = ratings.get(name)
-        known = f"{p.rating:.0f} ± {p.sd:.0f}" if p is not None else NOT_RATED
+        known = rating_text(p) if p is not None else NOT_RATED
         lines.append(layout.rich([(lead + name, True), (f"  {known}" if ratings else "", False)], "cell"))
     return lines
+
+
+def rating_text(p: PlayerRating) -> str:
+    """``1598 ± 47`` with no-break spaces, so that a narrow column never splits the value over two lines."""
+    return f"{p.rating:.0f}{NBSP}±{NBSP}{p.sd:.0f}"
+
+
+def columns_used(rows: Sequence[Sequence[object]]) -> list[int]:
+    """The columns with something in at least one row (an empty column would take page width for nothing)."""
+    return [c for c in range(len(COLUMNS)) if any(row[c] not in ("", None) for row in rows)]
 
 
 def _order(forecasts: Sequence[FixtureForecast]) -> list[FixtureForecast]:
@@ -74,10 +86,12 @@ def write_handicap_pdf(path: str | Path, forecasts: Sequence[FixtureForecast], s
              chance_text(fc, settings), forecast_note(fc))
             for fc in group
         ]
-        story.append(KeepTogether([
-            layout.para(long_date(day) if day else NO_DATE.capitalize(), "heading"),
-            layout.table(COLUMNS, rows, [width * s for s in COLUMN_SHARES]),
-        ]))
+        used = columns_used(rows)
+        share = sum(COLUMN_SHARES[c] for c in used)
+        # A day's table runs on over a page break (its header repeated) rather than leave a page half empty.
+        story += [CondPageBreak(TABLE_START), layout.para(long_date(day) if day else NO_DATE.capitalize(), "heading"),
+                  layout.table([COLUMNS[c] for c in used], [[row[c] for c in used] for row in rows],
+                               [width * COLUMN_SHARES[c] / share for c in used])]
     story.append(layout.closing(CLOSING))
     footer = f"{title} · fair races are suggestions; the committee decides"
     return layout.build(path, story, settings, title, footer)

@@ -87,15 +87,22 @@ def page_size(settings: Settings) -> tuple[float, float]:
 def styles() -> dict[str, ParagraphStyle]:
     """The text styles: title, subtitle, heading, body, small, cell, cell-right."""
     regular, bold = fonts()
-    body = ParagraphStyle("body", fontName=regular, fontSize=9.5, leading=12.5, textColor=INK, spaceAfter=3)
+    # Body text 12 points (read at arm's length); the wall page's styles are larger, for a metre away.
+    body = ParagraphStyle("body", fontName=regular, fontSize=12, leading=15, textColor=INK, spaceAfter=3)
     return {
+        "walltitle": ParagraphStyle("walltitle", parent=body, fontName=bold, fontSize=26, leading=31, spaceAfter=2),
+        "wallsub": ParagraphStyle("wallsub", parent=body, fontSize=15, leading=19, textColor=MUTED, spaceAfter=8),
+        "wallhead": ParagraphStyle("wallhead", parent=body, fontName=bold, fontSize=19, leading=23,
+                                   spaceBefore=8, spaceAfter=2),
+        "wall": ParagraphStyle("wall", parent=body, fontSize=16, leading=20, spaceAfter=1),
+        "wallnote": ParagraphStyle("wallnote", parent=body, fontSize=14, leading=17.5, spaceAfter=3),
         "title": ParagraphStyle("title", parent=body, fontName=bold, fontSize=18, leading=22, spaceAfter=2),
-        "subtitle": ParagraphStyle("subtitle", parent=body, fontSize=10.5, leading=14, textColor=MUTED, spaceAfter=8),
-        "heading": ParagraphStyle("heading", parent=body, fontName=bold, fontSize=13, leading=16,
+        "subtitle": ParagraphStyle("subtitle", parent=body, fontSize=13, leading=16, textColor=MUTED, spaceAfter=8),
+        "heading": ParagraphStyle("heading", parent=body, fontName=bold, fontSize=15, leading=19,
                                   spaceBefore=10, spaceAfter=5),
-        "boxhead": ParagraphStyle("boxhead", parent=body, fontName=bold, fontSize=10.5, leading=14),
+        "boxhead": ParagraphStyle("boxhead", parent=body, fontName=bold, fontSize=13, leading=16),
         "body": body,
-        "small": ParagraphStyle("small", parent=body, fontSize=8.5, leading=11, textColor=MUTED),
+        "small": ParagraphStyle("small", parent=body, fontSize=10.5, leading=13, textColor=MUTED),
         "cell": ParagraphStyle("cell", parent=body, spaceAfter=0),
         "cellbold": ParagraphStyle("cellbold", parent=body, fontName=bold, spaceAfter=0),
         "right": ParagraphStyle("right", parent=body, spaceAfter=0, alignment=2),
@@ -172,6 +179,11 @@ def closing(lines: Sequence[str]) -> KeepTogether:
 def frame_width(settings: Settings) -> float:
     """The width between the margins, points."""
     return page_size(settings)[0] - 2 * MARGIN
+
+
+def frame_height(settings: Settings) -> float:
+    """The height between the top and bottom margins, points (what ``build`` gives a page's story)."""
+    return page_size(settings)[1] - 2 * MARGIN - 4 * mm - 12  # as in build; 12: the frame's own padding
 
 
 def build(path: str | Path, story: list, settings: Settings, title: str, footer: str) -> Path:

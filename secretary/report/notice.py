@@ -7,7 +7,7 @@ from typing import Sequence
 from reportlab.graphics.shapes import Drawing, Line, Rect, String
 from reportlab.lib import colors
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.platypus import CondPageBreak, KeepTogether, Spacer
+from reportlab.platypus import CondPageBreak, KeepTogether, PageBreak, Spacer
 
 from secretary.model.breakdown import Breakdown
 from secretary.model.notice import PART_COLOURS as PART_HEX
@@ -34,6 +34,7 @@ ROW_HEIGHT = 15  # points per player in the chart
 LABEL_WIDTH = 0.24  # of the chart width, for the names
 LEGEND_HEIGHT = 26
 MIN_SPAN = 40  # points across the chart at the least, so that small changes look small
+WALL_MOVERS = 3  # per division on the wall page, fewer when the page is full
 TABLE_START = 90  # points: a table's header and first rows, kept with the heading above them
 
 
@@ -147,12 +148,51 @@ def _watch_lines(watch) -> list[str]:
     return lines
 
 
+def _mover(line: NoticeLine) -> str:
+    """``Yvette Marwood  +94 (now 1267)``: one of a division's biggest movers, for the wall."""
+    return f"{line.name}  {change_text(line)}  (now {line.rating:.0f})"
+
+
+def _levels(watch) -> str:
+    """The divisions' levels against the rest of the league, in points, strongest first ("" without them)."""
+    divisions = sorted((d for d in getattr(watch, "divisions", ()) if d.division),
+                       key=lambda d: -d.relative_level)
+    return "; ".join(f"{d.division} {d.relative_level:+.0f}" for d in divisions)
+
+
+def wall_page(notice: Notice, watch, width: float, height: float) -> list:
+    """Page one, for the wall: large type readable at a metre, the biggest movers of each division, the
+    divisions' levels and how ratings work; as many movers per division as fit on the one page."""
+    for most in (WALL_MOVERS, 2, 1, 0):
+        story = [layout.para(notice.title, "walltitle"), layout.para(notice.dates, "wallsub")]
+        if not notice.first_update and most:
+            story.append(layout.para("Biggest movers this week", "wallhead"))
+            for block in notice.divisions:
+                movers = block.biggest_changes(most)
+                if movers:
+                    story.append(layout.para(block.division, "wallnote"))
+                    story += [layout.para(f"\u2022 {_mover(line)}", "wall") for line in movers]
+        levels = _levels(watch)
+        if levels:
+            story += [layout.para("Division levels (points above or below the league as a whole)", "wallhead"),
+                      layout.para(levels, "wall")]
+        story += [layout.para("How ratings work", "wallhead"), *(layout.para(t, "wallnote") for t in HOW_IT_WORKS),
+                  layout.para("The full list, with every player's change and why, follows on the next pages.",
+                              "wallnote")]
+        if sum(f.wrap(width, height)[1] + f.getSpaceBefore() + f.getSpaceAfter() for f in story) <= height:
+            break
+    return [*story, PageBreak()]
+
+
 def write_notice_pdf(path: str | Path, breakdown: Breakdown, ratings: Sequence[PlayerRating],
                      settings: Settings, watch=None) -> Path:
-    """Write the notice board as a PDF (A4 or Letter per the settings); returns the path."""
+    """Write the notice board as a PDF (A4 or Letter per the settings); returns the path.
+
+    Two parts: one page for the wall (``wall_page``), then the full list, division by division."""
     notice = build_notice(breakdown, ratings, settings)
     width = layout.frame_width(settings)
-    story = layout.title_block(notice.title, notice.dates)
+    story = wall_page(notice, watch, width, layout.frame_height(settings))
+    story += layout.title_block(f"{notice.title}: the full list", notice.dates)
     if notice.note:
         story.append(layout.para(notice.note))
     story += [layout.boxed("How ratings work here", (*HOW_IT_WORKS, *notice.closing), width), Spacer(1, 4)]

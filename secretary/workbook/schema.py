@@ -173,6 +173,9 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
     SettingSpec("half_life_days", "Half-life (days)", "number",
                 "Age in days at which an old game counts half as much as a new one "
                 "(0 = games never age).", 0, 36500, aliases=("half-life", "half life")),
+    SettingSpec("division_spread", "Division spread", "number",
+                "How far, in points, division levels usually are from each other; each division's level "
+                "is judged from games between divisions (0 = one pool, no levels).", 0, 2000),
     SettingSpec("longest_race", "Longest race", "whole",
                 "The longest race (first to this many games) to suggest for a fair match.", 1, 50),
     SettingSpec("shortest_race", "Shortest race", "whole",
@@ -190,9 +193,10 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
     SettingSpec("weakly_linked_below", "Weakly linked below", "number",
                 "A division is on the watch list when less than this share (0 to 1) of its "
                 "level is pinned down by games against other divisions.", 0, 1),
-    SettingSpec("held_z", "Held by the prior at z", "number",
+    SettingSpec("held_z", "Held back from", "number",
                 "How surprising (in standard deviations) a player's results must be before "
-                "the watch list says the starting assumption is holding them back.", 0.1, 10),
+                "the watch list says the starting assumption is holding them back (a z-score).", 0.1, 10,
+                aliases=("Held by the prior at z",)),  # its earlier name: workbooks that use it still read
     SettingSpec("linking_matches", "Linking matches to suggest", "whole",
                 "How many matches between divisions the watch list suggests.", 0, 50),
     SettingSpec("dominant_share", "Dominant win share", "number",

@@ -73,3 +73,20 @@ def test_paper_and_rendered_card(league, card, tmp_path):
 def test_no_fixtures_says_so(tmp_path):
     path = write_handicap_pdf(tmp_path / "none.pdf", (), SETTINGS)
     assert "There are no fixtures" in pdf_text(path)
+
+
+def test_a_rating_is_never_split_and_an_empty_column_is_left_out(league, tmp_path):
+    import subprocess
+    from dataclasses import replace
+
+    update, fcs = league
+    card = write_handicap_pdf(tmp_path / "card.pdf", fcs, SETTINGS, ratings=update.ratings)
+    lines = subprocess.run(["pdftotext", "-layout", "-enc", "UTF-8", str(card), "-"], check=True,
+                           capture_output=True, text=True).stdout.replace("\u00a0", " ").splitlines()
+    playing = {n for fc in fcs for n in (fc.fixture.player_a, fc.fixture.player_b)}
+    for p in update.ratings:
+        if p.name in playing:  # "1598 ± 47" stands whole on one line
+            assert any(f"{p.rating:.0f} ± {p.sd:.0f}" in line for line in lines), p.name
+    sure = [replace(fc, not_rated=(), care="") for fc in fcs]  # every chance sure enough: "How sure" is empty
+    text = pdf_text(write_handicap_pdf(tmp_path / "sure.pdf", sure, SETTINGS, ratings=update.ratings))
+    assert "How sure" not in text and "Fair race" in text

@@ -113,3 +113,30 @@ def test_letters_a_font_lacks_are_replaced():
     assert layout.printable("Łucja 王", "Helvetica") == "?ucja ?"
     regular = layout.fonts()[0]
     assert layout.printable("Łucja Wąs Øby", regular) == "Łucja Wąs Øby" or regular == "Helvetica"
+
+
+def _median_word_heights(path) -> list[float]:
+    """Per page, the median height (points) of the words' boxes above the footer, from ``pdftotext -bbox``."""
+    import re
+    import statistics
+    import subprocess
+
+    html = subprocess.run(["pdftotext", "-bbox", str(path), "-"], check=True, capture_output=True,
+                          text=True).stdout
+    out = []
+    for page in html.split("<page ")[1:]:
+        bottom = float(re.search(r'height="([\d.]+)"', page).group(1)) - 50  # the footer line sits below this
+        boxes = re.findall(r'yMin="([\d.]+)" xMax="[\d.]+" yMax="([\d.]+)"', page)
+        out.append(statistics.median(float(b) - float(a) for a, b in boxes if float(b) < bottom))
+    return out
+
+
+def test_a_wall_page_in_large_type_then_the_full_list_in_12_point_text(updates, second_pdf):
+    path, _ = second_pdf
+    # poppler gives each word a box as tall as its font size (checked: 12-point text gives 12.00).
+    heights = _median_word_heights(path)
+    assert heights[0] >= 13.9  # the wall page: 14 to 26 points, readable at a metre
+    assert all(h >= 11.9 for h in heights), heights  # the full list's body text: 12 points
+    first = [squeeze(page) for page in pdf_text(path).split("\f")]
+    assert squeeze("Biggest movers this week") in first[0] and squeeze("How ratings work") in first[0]
+    assert squeeze("the full list") in first[1]

@@ -84,3 +84,10 @@ def test_schema_imports_without_openpyxl():
     code = "import sys, secretary.workbook.schema; print('openpyxl' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], cwd=root, capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False", out.stderr
+
+
+def test_a_renamed_setting_keeps_its_old_name_when_reading():
+    from secretary.workbook import schema
+
+    assert schema.find_setting("Held by the prior at z").field == "held_z"  # the earlier name
+    assert schema.find_setting("Held back from").field == "held_z"
