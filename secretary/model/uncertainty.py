@@ -14,6 +14,11 @@ symmetric positive definite matrix" (``inverse_diagonal``), so any Hessian
   Measured error of the ± against the exact value: median 0.1-0.3 %, worst
   2.5 %, mean within 0.1 % (no bias) on sparse, uneven and busy leagues of
   3,500 players (tests/model/test_uncertainty.py).
+
+With division levels the posterior is over ``(r, L)`` (``fit.joint_hessian``):
+the exact path inverts the joint Hessian, whose first ``n`` diagonal entries
+are then ``Var(r_i) = Var(u_i) + Var(L_d) + 2 Cov(u_i, L_d)`` (the level's
+covariance counted) and the last ``D`` the levels' variances.
 """
 from __future__ import annotations
 
@@ -23,7 +28,7 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.linalg import lapack
 
-from secretary.model.fit import LaplacianPattern, pair_curvature
+from secretary.model.fit import LaplacianPattern, Levels, joint_hessian, pair_curvature
 from secretary.model.pairs import Pairs
 
 EXACT_LIMIT = 1500  # the dense factor costs ~0.1 s here and grows as n^3
@@ -136,10 +141,19 @@ def inverse_diagonal(H, groups=None) -> np.ndarray:
     return probed_variance(H, groups)
 
 
-def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None) -> np.ndarray:
-    """Posterior variance of every strength (log-odds squared), from the Hessian at ``r``."""
+def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None, levels: Levels | None = None) -> np.ndarray:
+    """Posterior variance of every strength (log-odds squared), from the Hessian at ``r``.
+
+    With ``levels`` (a free Division spread) the Hessian is the joint one over
+    ``(r, L)`` and the answer has ``n + D`` entries: the strengths' variances,
+    then the division levels' (each level counted in its own division's group
+    for the approximation: the division moving with its level is the slow direction).
+    """
     H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
-    return inverse_diagonal(H, groups)
+    if levels is None:
+        return inverse_diagonal(H, groups)
+    groups = levels.group if groups is None else np.asarray(groups, dtype=np.int64)
+    return inverse_diagonal(joint_hessian(H, levels, prior_sd), np.concatenate([groups, np.arange(len(levels.mean))]))
 
 
 DENSE_CONTRASTS = 1000  # players up to which a dense Cholesky factor is quicker than a sparse LU
