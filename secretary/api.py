@@ -36,6 +36,18 @@ class Ratings:
         """The player's ± (one standard deviation) in points."""
         return self.fit.sd(name)
 
+    def level(self, division: str) -> float:
+        """A division's level in points above the centre (with ``divisions``; KeyError for an unknown one)."""
+        if division not in self.fit.group_names:
+            raise KeyError(division)
+        return self.fit.level_points(division)
+
+    def level_sd(self, division: str) -> float:
+        """The ± of a division's level in points (0 when Division spread is 0)."""
+        if division not in self.fit.group_names:
+            raise KeyError(division)
+        return self.fit.level_sd(division)
+
     def __repr__(self) -> str:
         return f"<Ratings of {len(self.names)} players>"
 
@@ -109,11 +121,19 @@ def rate(
     skill_spread: float | None = None,
     half_life_days: float | None = None,
     starting: Mapping[str, float] | None = None,
+    divisions: Mapping[str, str] | None = None,
+    division_spread: float | None = None,
+    starting_levels: Mapping[str, float] | None = None,
 ) -> Ratings:
     """Rate every player from ``(date, player_a, player_b, games_a, games_b)`` tuples.
 
     ``skill_spread`` (points) and ``half_life_days`` default to the league
     defaults (``Settings``); ``starting`` maps names to known starting ratings.
+    ``divisions`` maps names to their home division: with two or more
+    divisions each gets its own level (``division_spread`` points, default the
+    league default; 0 = one pool), starting at ``starting_levels`` (points
+    above the centre, by division; 0 when absent).  Without ``divisions`` the
+    ratings are one pool, as before.
     A bad row raises ``ValueError`` naming the row and the problem.
     """
     defaults = Settings()
@@ -122,9 +142,15 @@ def rate(
         scale=float(scale),
         skill_spread=defaults.skill_spread if skill_spread is None else float(skill_spread),
         half_life_days=defaults.half_life_days if half_life_days is None else float(half_life_days),
+        division_spread=defaults.division_spread if division_spread is None else float(division_spread),
     )
+    if settings.division_spread < 0:
+        raise ValueError("division_spread must be 0 or more")
     if settings.scale <= 0 or settings.skill_spread <= 0 or settings.half_life_days < 0:
         raise ValueError("scale and skill_spread must be positive and half_life_days 0 or more")
-    players = [Player(name.strip(), starting=float(value)) for name, value in (starting or {}).items()]
+    known = {name.strip(): float(value) for name, value in (starting or {}).items()}
+    home = {name.strip(): str(d).strip() for name, d in (divisions or {}).items()}
+    players = [Player(name, division=home.get(name, ""), starting=known.get(name)) for name in {**known, **home}]
     with native_threads_limited():
-        return Ratings(fit_matches(_checked(results, players), settings, players=players))
+        return Ratings(fit_matches(_checked(results, players), settings, players=players,
+                                   starting_levels=starting_levels))

@@ -24,7 +24,8 @@ DIVISIONS = {
 }
 WEEK_1 = dt.date(2026, 3, 3)
 WEEK_2 = WEEK_1 + dt.timedelta(days=7)
-SETTINGS = Settings(league_name="Riverside Cue League", few_games=12.0, skill_spread=145.0)  # pinned: not the default
+# Pinned, not the defaults; one pool, so Premier's single cup matches leave it weakly linked.
+SETTINGS = Settings(league_name="Riverside Cue League", few_games=12.0, skill_spread=145.0, division_spread=0.0)
 NEWCOMER = "Nia Quell"  # first plays in week 2
 
 

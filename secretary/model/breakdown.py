@@ -59,7 +59,7 @@ from secretary.model.scale import points_per_logodds, to_points, to_strength
 from secretary.model.sentences import Context, sentence
 
 # Settings whose change moves ratings (the rest only change what is printed).
-RATING_SETTINGS = ("centre", "scale", "skill_spread", "half_life_days")
+RATING_SETTINGS = ("centre", "scale", "skill_spread", "half_life_days", "division_spread")
 GAUSS_NODES = 3  # quadrature nodes for attributing the opponents part to opponents
 TOP_OPPONENTS = 3
 OPPONENT_SHARE = 0.2  # an opponent is named when they moved the part by >= 20 % of the largest mover
@@ -119,6 +119,7 @@ class Breakdown:
     note : one plain sentence about the whole update ("" when nothing special)
     names, before_r ... corrections_r : the same figures as arrays in log-odds, in the fit's player order
     group_shift : ``d_g`` per division, points
+    level_before : each division's level at ``R0`` (points above the centre; the starting levels in one pool)
     """
 
     players: tuple[PlayerChange, ...]
@@ -138,6 +139,7 @@ class Breakdown:
     group_r: np.ndarray
     corrections_r: np.ndarray
     group_shift: Mapping[str, float]
+    level_before: Mapping[str, float] = None
 
     def player(self, name: str) -> PlayerChange:
         """One player's change; KeyError when they have no rated game."""
@@ -263,9 +265,10 @@ def settings_changed(previous: Settings, now: Settings) -> tuple[str, ...]:
 
 
 def _order_players(fit: LeagueFit, players: Sequence[Player]) -> list[Player]:
-    """Players in the fit's order, carrying their starting ratings, so a second fit shares the order."""
-    starting = {p.name: p.starting for p in players}
-    return [Player(name, starting=starting.get(name)) for name in fit.names]
+    """Players in the fit's order, carrying their Players-sheet divisions and starting ratings, so a second fit shares the order."""
+    sheet = {p.name: p for p in players}
+    return [Player(name, division=sheet[name].division if name in sheet else "",
+                   starting=sheet[name].starting if name in sheet else None) for name in fit.names]
 
 
 def _rows_pairs(rows: Sequence[Result], index: Mapping[str, int], reference_date=None, half_life_days: float = 0.0) -> Pairs:
@@ -299,6 +302,175 @@ def _group_events(new_rows: Sequence[Result], home: Mapping[str, str]) -> tuple[
     return named, set(events)
 
 
+@dataclass(frozen=True)
+class _Before:
+    """The previous update seen with today's settings: ``R0``, its levels and the published ``P``."""
+
+    changes: DataChanges
+    previous: tuple[Result, ...]
+    r0: np.ndarray
+    level0: np.ndarray  # each player's division level at R0 (log-odds; their home division then)
+    division_level0: np.ndarray  # the level at R0 of each of the current fit's divisions (log-odds)
+    p: np.ndarray
+    was_published: np.ndarray
+    settings_changed: tuple[str, ...]
+    t0: dt.date | None
+    first: bool
+
+
+def _before(results_now: Sequence[Result], published: PublishedState | None, settings: Settings,
+            players: Sequence[Player], fit1: LeagueFit) -> _Before:
+    """``R0 = solve(D0, t0)`` in the current fit's player order and divisions, and the published ratings ``P``.
+
+    A player not published before (a newcomer) has ``P = R0``: their prior mean
+    (given their division's previous level), so their corrections part is 0.
+    """
+    names, n = fit1.names, len(fit1.names)
+    deviation_mean = fit1.prior_mean - fit1.level[fit1.group]
+    start0 = deviation_mean + fit1.starting_level[fit1.group]
+    if published is None:
+        return _Before(all_new(results_now), (), start0, fit1.starting_level[fit1.group], fit1.starting_level.copy(),
+                       start0.copy(),
+                       np.zeros(n, dtype=bool), (), None, True)
+    changes = compare_rows(results_now, published.rows)
+    was_published = np.array([name in published.ratings for name in names])
+    p = np.array([to_strength(published.ratings[name], settings.centre, settings.scale) if was_published[k]
+                  else start0[k] for k, name in enumerate(names)])
+    kept = {id(res) for res in changes.previous_data}
+    previous = tuple(res for res in results_now if id(res) in kept)  # in sheet order, as the current fit sees them
+    r0, level0, division_level0 = start0, fit1.starting_level[fit1.group], fit1.starting_level.copy()
+    if previous:
+        # Last update's rows with their own home divisions (so unchanged rows give P again); a player
+        # with no row among them is placed where the current fit places them.
+        seen = {name for res in previous for name in (res.player_a, res.player_b)}
+        fit0 = fit_league(
+            previous, settings, players=_order_players(fit1, players), reference_date=published.reference_date,
+            start=dict(zip(names, p)), with_uncertainty=False, starting_levels=fit1.starting_levels(),
+            home={name: division for name, division in fit1.homes().items() if name not in seen},
+        )
+        r0, level0 = fit0.r, fit0.level[fit0.group]
+        was = {g: fit0.level[k] for k, g in enumerate(fit0.group_names)}
+        division_level0 = np.array([was.get(g, m) for g, m in zip(fit1.group_names, fit1.starting_level)])
+    p = np.where(was_published, p, r0)
+    return _Before(changes, previous, r0, level0, division_level0, p, was_published,
+                   settings_changed(published.settings, settings), published.reference_date, False)
+
+
+@dataclass(frozen=True)
+class _Parts:
+    """The four parts in log-odds, and what the opponents' attribution needs."""
+
+    own: np.ndarray
+    opponents: np.ndarray
+    group: np.ndarray
+    corrections: np.ndarray
+    ageing: np.ndarray
+    shifted: np.ndarray  # R0 with every division moved by its shift
+    shifted_mean: np.ndarray  # the prior means that go with ``shifted``
+    shift: np.ndarray  # each division's shift d_g (log-odds)
+
+
+def _parts(fit1: LeagueFit, before: _Before, settings: Settings, index: Mapping[str, int]) -> _Parts:
+    """own, group, opponents (the remainder) and corrections, as in the module's formulas.
+
+    With free division levels the shift of a division is the change of its
+    level, ``d = L1 - L0``, every deviation frozen: ``shifted = R0 + B d``,
+    with each player's prior mean moving with their level (``mu + L0`` before,
+    ``mu + L1`` after; a player whose home division changed moves from the old
+    division's ``L0`` to the new one's ``L1``).  In one pool ``d`` is the
+    division's mean change.
+    """
+    group, D, sd = fit1.group, len(fit1.group_names), fit1.prior_sd
+    r0, r1 = before.r0, fit1.r
+    deviation_mean = fit1.prior_mean - fit1.level[group]
+    mean0, mean1 = deviation_mean + before.level0, fit1.prior_mean  # the prior means that go with R0 and R1
+    if fit1.levels is not None:
+        shift = fit1.level - before.division_level0
+        shifted = r0 + fit1.level[group] - before.level0  # a player who moved division moves to the new level
+    else:
+        shift = np.bincount(group, r1 - r0, D) / np.maximum(np.bincount(group, minlength=D), 1)
+        shifted = r0 + shift[group]
+    br0 = best_response(fit1.pairs, r0, mean0, sd)
+    own = br0 - r0
+    group_part = best_response(fit1.pairs, shifted, mean1, sd) - br0
+    if before.previous:  # the ageing share of the own part: last update's rows weighed at today's date
+        old_pairs = _rows_pairs(before.previous, index, fit1.reference_date, settings.half_life_days)
+        ageing = best_response(old_pairs, r0, mean0, sd) - r0
+    else:
+        ageing = np.zeros(len(r0))
+    return _Parts(own, r1 - r0 - own - group_part, group_part, r0 - before.p, ageing, shifted, mean1, shift)
+
+
+def _activity(previous: Sequence[Result], new: Sequence[Result], index: Mapping[str, int]):
+    """Every rated game now per player (unweighted), each one's latest game before and first game this update."""
+    played_all = np.zeros(len(index))
+    last_before: dict[str, dt.date] = {}
+    first_new: dict[str, dt.date] = {}
+    for rows, book, pick in ((previous, last_before, max), (new, first_new, min)):
+        for res in rows:
+            for name in (res.player_a, res.player_b):
+                played_all[index[name]] += res.games_a + res.games_b
+                book[name] = pick(book.get(name, res.date), res.date)
+    return played_all, last_before, first_new
+
+
+def _days_away(name: str, played: bool, last_before, first_new, t1) -> int | None:
+    """Days since the previous game: before this update's first game, or to the reference date."""
+    if name not in last_before:
+        return None
+    if played:
+        return (first_new[name] - last_before[name]).days
+    return (t1 - last_before[name]).days if t1 else None
+
+
+def _player_changes(fit1: LeagueFit, before: _Before, parts: _Parts, published, settings: Settings, top):
+    """One ``PlayerChange`` (with its sentence) per player with a rated game now, and every player's games now."""
+    names, ppl, t1 = fit1.names, points_per_logodds(settings.scale), fit1.reference_date
+    index = {name: k for k, name in enumerate(names)}
+    played_all, last_before, first_new = _activity(before.previous, before.changes.new, index)
+    new_played, new_won, new_expected = _week_games(before.changes.new, index, before.r0)
+    home = fit1.homes()
+    events, crossed = _group_events(before.changes.new, home)
+    published_ratings = published.ratings if published is not None else {}
+    context_base = Context(
+        first_update=before.first, settings_changed=before.settings_changed,
+        edited_rows=before.changes.edited_rows, removed_rows=before.changes.removed_rows,
+        dates_moved_back=bool(before.t0 and t1 and t1 < before.t0),
+    )
+    out = []
+    for k, name in enumerate(names):
+        if played_all[k] == 0:
+            continue
+        was = bool(before.was_published[k])
+        start = float(published_ratings[name]) if was else float(to_points(before.p[k], settings.centre, settings.scale))
+        after = float(to_points(fit1.r[k], settings.centre, settings.scale))
+        values = [float(v[k] * ppl) for v in (parts.own, parts.opponents, parts.group, parts.corrections)]
+        played = bool(new_played[k] > 0)
+        pc = PlayerChange(
+            name=name, division=home[name], before=start, after=after, change=after - start,
+            own=values[0], opponents=values[1], group=values[2], corrections=values[3],
+            shown=displayed_parts(start, after, values), new_games=int(new_played[k]), new_won=int(new_won[k]),
+            new_expected=float(new_expected[k]), played=played, is_new=not was, top_opponents=top[k],
+            sentence="", games=int(played_all[k]), ageing=float(parts.ageing[k] * ppl),
+            days_away=_days_away(name, played, last_before, first_new, t1),
+        )
+        context = replace(context_base, group_event=events.get(home[name], ""),
+                          group_played_others=home[name] in crossed)
+        out.append(replace(pc, sentence=sentence(pc, context)))
+    return out, played_all
+
+
+def _note(state_missing: bool, first: bool, changed) -> str:
+    """The one sentence about the whole update."""
+    if state_missing:
+        return "The record of the previous update was missing, so these are shown as first ratings with no breakdown."
+    if first:
+        return "First update: these are first ratings, so there is nothing to compare with yet."
+    if changed:
+        return "The league's settings changed since the previous update; the effect is in the corrections column."
+    return ""
+
+
 def explain_changes(
     results_now: Sequence[Result],
     published: PublishedState | None,
@@ -324,154 +496,25 @@ def explain_changes(
     results_now = list(results_now)
     fit1 = current if current is not None else fit_league(results_now, settings, players=players, with_uncertainty=False)
     names = fit1.names
-    n = len(names)
     index = {name: k for k, name in enumerate(names)}
-    mu = fit1.prior_mean
-    sd = fit1.prior_sd
     ppl = points_per_logodds(settings.scale)
-    r1 = fit1.r
-
-    first = published is None
-    if first:
-        changes = all_new(results_now)
-        previous = ()
-        r0 = mu.copy()
-        p = mu.copy()
-        was_published = np.zeros(n, dtype=bool)
-        changed = ()
-        t0 = None
-    else:
-        changes = compare_rows(results_now, published.rows)
-        was_published = np.array([name in published.ratings for name in names])
-        p = np.array([
-            to_strength(published.ratings[name], settings.centre, settings.scale) if was_published[k] else mu[k]
-            for k, name in enumerate(names)
-        ])
-        t0 = published.reference_date
-        previous = changes.previous_data
-        if previous:
-            fit0 = fit_league(
-                previous, settings, players=_order_players(fit1, players), reference_date=t0,
-                start=dict(zip(names, p)), with_uncertainty=False,
-            )
-            r0 = fit0.r
-        else:
-            r0 = mu.copy()
-        changed = settings_changed(published.settings, settings)
-
-    pairs = fit1.pairs
-    group = fit1.group
-    br0 = best_response(pairs, r0, mu, sd)
-    members = np.bincount(group, minlength=len(fit1.group_names))
-    d = np.bincount(group, r1 - r0, len(fit1.group_names)) / np.maximum(members, 1)
-    shifted = r0 + d[group]
-    br_shift = best_response(pairs, shifted, mu, sd)
-    corrections = r0 - p
-    own = br0 - r0
-    group_part = br_shift - br0
-    opponents = r1 - r0 - own - group_part
-
-    # The ageing share of the own part: last update's rows weighed at today's reference date, no new games.
-    if not previous:
-        ageing = np.zeros(n)
-    else:
-        old_pairs = _rows_pairs(previous, index, fit1.reference_date, settings.half_life_days)
-        ageing = best_response(old_pairs, r0, mu, sd) - r0
-
-    to_i, to_j = opponent_shares(pairs, shifted, r1, mu, sd)
-    top = _top_opponents(pairs, to_i * ppl, to_j * ppl, opponents, names)
-
-    played_all = np.zeros(n)  # every rated game now, unweighted
-    last_before: dict[str, dt.date] = {}  # each player's latest game among last update's rows
-    first_new: dict[str, dt.date] = {}  # each player's first new game
-    for rows, book, pick in ((previous, last_before, max), (changes.new, first_new, min)):
-        for res in rows:
-            for name in (res.player_a, res.player_b):
-                played_all[index[name]] += res.games_a + res.games_b
-                book[name] = pick(book.get(name, res.date), res.date)
-    new_played, new_won, new_expected = _week_games(changes.new, index, r0)
-
-    home = {name: fit1.group_names[group[k]] for k, name in enumerate(names)}
-    events, crossed = _group_events(changes.new, home)
-    t1 = fit1.reference_date
+    before = _before(results_now, published, settings, players, fit1)
+    parts = _parts(fit1, before, settings, index)
+    to_i, to_j = opponent_shares(fit1.pairs, parts.shifted, fit1.r, parts.shifted_mean, fit1.prior_sd)
+    top = _top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names)
+    out, played_all = _player_changes(fit1, before, parts, published, settings, top)
     published_ratings = published.ratings if published is not None else {}
-    context_base = Context(
-        first_update=first,
-        settings_changed=changed,
-        edited_rows=changes.edited_rows,
-        removed_rows=changes.removed_rows,
-        dates_moved_back=bool(t0 and t1 and t1 < t0),
-    )
-
-    out = []
-    for k, name in enumerate(names):
-        if played_all[k] == 0:
-            continue
-        before = float(published_ratings[name]) if was_published[k] else float(to_points(p[k], settings.centre, settings.scale))
-        after = float(to_points(r1[k], settings.centre, settings.scale))
-        parts = [float(v[k] * ppl) for v in (own, opponents, group_part, corrections)]
-        played = new_played[k] > 0
-        if played:
-            away = (first_new[name] - last_before[name]).days if name in last_before else None
-        else:
-            away = (t1 - last_before[name]).days if name in last_before and t1 else None
-        pc = PlayerChange(
-            name=name,
-            division=home[name],
-            before=before,
-            after=after,
-            change=after - before,
-            own=parts[0],
-            opponents=parts[1],
-            group=parts[2],
-            corrections=parts[3],
-            shown=displayed_parts(before, after, parts),
-            new_games=int(new_played[k]),
-            new_won=int(new_won[k]),
-            new_expected=float(new_expected[k]),
-            played=bool(played),
-            is_new=not bool(was_published[k]),
-            top_opponents=top[k],
-            sentence="",
-            games=int(played_all[k]),
-            days_away=away,
-            ageing=float(ageing[k] * ppl),
-        )
-        context = replace(
-            context_base,
-            group_event=events.get(home[name], ""),
-            group_played_others=home[name] in crossed,
-        )
-        out.append(replace(pc, sentence=sentence(pc, context)))
-
     removed_players = tuple(
         (name, float(rating)) for name, rating in published_ratings.items()
         if name not in index or played_all[index[name]] == 0
     )
-    if state_missing:
-        note = "The record of the previous update was missing, so these are shown as first ratings with no breakdown."
-    elif first:
-        note = "First update: these are first ratings, so there is nothing to compare with yet."
-    elif changed:
-        note = "The league's settings changed since the previous update; the effect is in the corrections column."
-    else:
-        note = ""
     return Breakdown(
-        players=tuple(out),
-        removed_players=removed_players,
-        changes=changes,
-        first_update=first,
-        state_missing=bool(state_missing and first),
-        settings_changed=changed,
-        note=note,
-        reference_date=t1,
-        previous_reference_date=t0,
-        names=names,
-        before_r=p,
-        after_r=r1,
-        own_r=own,
-        opponents_r=opponents,
-        group_r=group_part,
-        corrections_r=corrections,
-        group_shift={g: float(d[k] * ppl) for k, g in enumerate(fit1.group_names)},
+        players=tuple(out), removed_players=removed_players, changes=before.changes, first_update=before.first,
+        state_missing=bool(state_missing and before.first), settings_changed=before.settings_changed,
+        note=_note(state_missing, before.first, before.settings_changed),
+        reference_date=fit1.reference_date, previous_reference_date=before.t0, names=names,
+        before_r=before.p, after_r=fit1.r, own_r=parts.own, opponents_r=parts.opponents, group_r=parts.group,
+        corrections_r=parts.corrections,
+        group_shift={g: float(parts.shift[k] * ppl) for k, g in enumerate(fit1.group_names)},
+        level_before={g: float(before.division_level0[k] * ppl) for k, g in enumerate(fit1.group_names)},
     )

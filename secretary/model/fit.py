@@ -9,10 +9,32 @@ F is strictly convex; its Hessian is a weighted graph Laplacian
 (``n_ij p (1 - p)`` per pair) plus ``I / sd^2``.  Solved by safeguarded Newton
 steps (backtracking line search) on the sparse Hessian, stopped on the
 gradient's largest component.
+
+Division levels (``Levels``): ``r = B L + u`` with ``u ~ N(mu, sd^2)`` and
+``L ~ N(m, tau^2)`` (``B`` the player-by-division indicator).  The unknowns
+are ``(r, L)`` (the same posterior as over ``(u, L)``, since ``u = r - B L`` is
+a linear change of variables with unit Jacobian), and
+
+    F(r, L) = nll(r) + |r - B L - mu|^2 / (2 sd^2) + |L - m|^2 / (2 tau^2).
+
+Its Hessian gains one row and column per division and stays sparse:
+
+    [[K + I / sd^2,   -B / sd^2                  ],
+     [-B^T / sd^2,     diag(n_d / sd^2 + 1 / tau^2)]]
+
+(``K`` the likelihood's Laplacian, ``n_d`` the division's players).  Over
+``(u, L)`` it would be ``A^T K A + diag(1/sd^2, 1/tau^2)`` with ``A = [I | B]``,
+whose ``K B`` block fills in; over ``(r, L)`` the level block is diagonal, so a
+Newton step eliminates it exactly and solves the Schur complement
+``K + I / sd^2 - B diag(beta) B^T`` (``beta_d = 1 / (sd^4 (n_d / sd^2 + 1 / tau^2))``)
+over the players, by dense Cholesky or preconditioned CG as without levels.
+``tau = 0`` fixes every level at ``m_d``: that is the one-pool model with prior
+means ``mu + B m`` and is fitted as such.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from functools import cached_property
 
 import numpy as np
 import scipy.linalg as sla
@@ -26,6 +48,35 @@ DENSE_LIMIT = 1500  # below this many players, Newton steps use a dense Cholesky
 
 
 @dataclass(frozen=True)
+class Levels:
+    """Division levels ``L_d ~ N(mean_d, sd^2)`` and which division each player's level is.
+
+    Attributes
+    ----------
+    group : int array (n_players,), each player's home division (0 .. D-1)
+    mean : array (D,), the starting levels ``m_d``, log-odds
+    sd : the Division spread ``tau`` in log-odds (> 0)
+    """
+
+    group: np.ndarray
+    mean: np.ndarray
+    sd: float
+
+    @cached_property
+    def sizes(self) -> np.ndarray:
+        """Players per division ``n_d``."""
+        return np.bincount(self.group, minlength=len(self.mean)).astype(float)
+
+    def precision(self, prior_sd: float) -> np.ndarray:
+        """The level block's diagonal ``n_d / sd^2 + 1 / tau^2``."""
+        return self.sizes / prior_sd**2 + 1.0 / self.sd**2
+
+    def beta(self, prior_sd: float) -> np.ndarray:
+        """``beta_d = 1 / (sd^4 (n_d / sd^2 + 1 / tau^2))``: what eliminating the levels takes off ``H``."""
+        return 1.0 / (prior_sd**4 * self.precision(prior_sd))
+
+
+@dataclass(frozen=True)
 class Fit:
     """The optimum and how it was reached.
 
@@ -36,6 +87,7 @@ class Fit:
     prior_sd : the prior SD used, log-odds
     iterations : Newton steps taken
     grad_max : largest |dF/dr_k| at the optimum (per weighted game)
+    level : division levels ``L`` at the optimum, log-odds (empty without ``Levels``)
     """
 
     r: np.ndarray
@@ -43,6 +95,7 @@ class Fit:
     prior_sd: float
     iterations: int
     grad_max: float
+    level: np.ndarray = field(default_factory=lambda: np.zeros(0))
 
 
 def objective(pairs: Pairs, r, prior_mean, prior_sd: float) -> float:
@@ -114,9 +167,20 @@ class LaplacianPattern:
         return (upper + upper.T + sp.diags(self.diagonal(h, prior_sd))).tocsr()
 
 
-def hessian(pairs: Pairs, r, prior_sd: float) -> sp.csr_matrix:
-    """``H = sum_pairs n p (1 - p) (e_i - e_j)(e_i - e_j)^T + I / sd^2`` (sparse, SPD)."""
-    return LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
+def hessian(pairs: Pairs, r, prior_sd: float, levels: Levels | None = None) -> sp.csr_matrix:
+    """``H = sum_pairs n p (1 - p) (e_i - e_j)(e_i - e_j)^T + I / sd^2`` (sparse, SPD).
+
+    With ``levels`` the joint Hessian over ``(r, L)`` (see the module), of size ``n + D``.
+    """
+    H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
+    return H if levels is None else joint_hessian(H, levels, prior_sd)
+
+
+def joint_hessian(H, levels: Levels, prior_sd: float) -> sp.csr_matrix:
+    """The players' Hessian ``H`` bordered by the level rows: ``[[H, -B/sd^2], [-B^T/sd^2, diag(n_d/sd^2 + 1/tau^2)]]``."""
+    n, D = H.shape[0], len(levels.mean)
+    coupling = sp.csr_matrix((np.full(n, -1.0 / prior_sd**2), (np.arange(n), levels.group)), shape=(n, D))
+    return sp.bmat([[sp.csr_matrix(H), coupling], [coupling.T, sp.diags(levels.precision(prior_sd))]], format="csr")
 
 
 def pair_chance(pairs: Pairs, r) -> np.ndarray:
@@ -152,6 +216,36 @@ def _newton_step(pattern: LaplacianPattern, h, prior_sd: float, g: np.ndarray, g
     # Inexact Newton: Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
     rtol = min(0.1, np.sqrt(gmax)) * 0.1
     return -conjugate_gradient(pattern.matvec(h, diag), g, 1.0 / diag, rtol, 10 * pattern.n)
+
+
+def _level_gradient_and_curvature(pairs: Pairs, x, mu, prior_sd: float, levels: Levels):
+    """``dF/d(r, L)`` and the pair weights, for the unknowns ``x = (r, L)``."""
+    n = pairs.n_players
+    r, level = x[:n], x[n:]
+    conditional = mu + level[levels.group]  # each player's prior mean given the levels
+    grad, h = _gradient_and_curvature(pairs, r, conditional, prior_sd)
+    pull = np.bincount(levels.group, r - conditional, len(level)) / prior_sd**2
+    return np.concatenate([grad, (level - levels.mean) / levels.sd**2 - pull]), h
+
+
+def _level_newton_step(pattern: LaplacianPattern, h, prior_sd: float, levels: Levels, g, gmax: float):
+    """The Newton step over ``(r, L)``: the diagonal level block eliminated, the Schur complement solved."""
+    n, group, D = pattern.n, levels.group, len(levels.mean)
+    g_r, g_level = g[:n], g[n:]
+    precision, beta = levels.precision(prior_sd), levels.beta(prior_sd)
+    rhs = g_r + (g_level / (prior_sd**2 * precision))[group]
+    if n <= DENSE_LIMIT:
+        S = pattern.matrix(h, prior_sd).toarray()
+        S -= (group[:, None] == group[None, :]) * beta[group][:, None]
+        step_r = -sla.cho_solve(sla.cho_factor(S, check_finite=False), rhs, check_finite=False)
+    else:
+        diag = pattern.diagonal(h, prior_sd)
+        players = pattern.matvec(h, diag)
+        rtol = min(0.1, np.sqrt(gmax)) * 0.1
+        step_r = -conjugate_gradient(lambda v: players(v) - beta[group] * np.bincount(group, v, D)[group],
+                                     rhs, 1.0 / (diag - beta[group]), rtol, 10 * n)
+    step_level = (np.bincount(group, step_r, D) / prior_sd**2 - g_level) / precision
+    return np.concatenate([step_r, step_level])
 
 
 def _dot(a: np.ndarray, b: np.ndarray) -> float:
@@ -197,6 +291,7 @@ def fit_map(
     prior_mean,
     prior_sd: float,
     *,
+    levels: Levels | None = None,
     start=None,
     gtol: float = 1e-9,
     max_iter: int = 100,
@@ -206,10 +301,11 @@ def fit_map(
     Parameters
     ----------
     pairs : aggregated weighted games
-    prior_mean : array (n,), prior means ``mu`` in log-odds
+    prior_mean : array (n,), prior means ``mu`` in log-odds (of the deviations ``u`` with ``levels``)
     prior_sd : prior SD ``sd`` in log-odds (> 0)
-    start : optional starting point (defaults to ``prior_mean``)
-    gtol : stop when ``max_k |dF/dr_k| <= gtol * max(1, mean weighted games)``
+    levels : optional division levels (``tau = levels.sd``; ``tau = 0`` fixes them at their means)
+    start : optional starting point for ``r`` (defaults to ``prior_mean``, plus the starting levels)
+    gtol : stop when ``max_k |dF/dx_k| <= gtol * max(1, mean weighted games)``
 
     Raises
     ------
@@ -220,46 +316,80 @@ def fit_map(
     mu = np.asarray(prior_mean, dtype=float)
     if prior_sd <= 0 or not np.isfinite(prior_sd):
         raise FitFailed(f"the skill spread must be a positive number (got {prior_sd!r})")
-    r = mu.copy() if start is None else np.array(start, dtype=float)
+    if levels is not None and not levels.sd > 0:  # one pool: every level stays at its starting value
+        fixed = np.asarray(levels.mean, dtype=float)
+        fit = fit_map(pairs, mu + fixed[levels.group], prior_sd, start=start, gtol=gtol, max_iter=max_iter)
+        return Fit(fit.r, mu, prior_sd, fit.iterations, fit.grad_max, fixed.copy())
+    base = mu if levels is None else mu + levels.mean[levels.group]
+    r = base.copy() if start is None else np.array(start, dtype=float)
+    if pairs.n_players == 0:
+        return Fit(r, mu, prior_sd, 0, 0.0, np.zeros(0) if levels is None else levels.mean.astype(float))
+    x, it, gmax = _newton(pairs, mu, prior_sd, levels, r, gtol, max_iter)
     n = pairs.n_players
-    if n == 0:
-        return Fit(r, mu, prior_sd, 0, 0.0)
+    return Fit(x[:n], mu, prior_sd, it, gmax, x[n:] if levels is not None else np.zeros(0))
+
+
+def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: float, max_iter: int):
+    """Safeguarded Newton over ``x = r`` (or ``(r, L)`` with levels): the optimum, steps taken, final gradient."""
     pattern = LaplacianPattern(pairs)
     tol = gtol * max(1.0, float(pairs.games_per_player().mean()))
-    g, h = _gradient_and_curvature(pairs, r, mu, prior_sd)
+    if levels is None:
+        x = r
+
+        def evaluate(y):
+            return _gradient_and_curvature(pairs, y, mu, prior_sd)
+
+        def newton_step(h, g, gmax):
+            return _newton_step(pattern, h, prior_sd, g, gmax)
+    else:
+        x = np.concatenate([r, np.asarray(levels.mean, dtype=float)])
+
+        def evaluate(y):
+            return _level_gradient_and_curvature(pairs, y, mu, prior_sd, levels)
+
+        def newton_step(h, g, gmax):
+            return _level_newton_step(pattern, h, prior_sd, levels, g, gmax)
+    g, h = evaluate(x)
     gmax = float(np.max(np.abs(g)))
     for it in range(max_iter + 1):
         if not np.isfinite(gmax):
             break
         if gmax <= tol:
-            return Fit(r, mu, prior_sd, it, gmax)
+            return x, it, gmax
         if it == max_iter:
             break
-        step = _newton_step(pattern, h, prior_sd, g, gmax)
-        # Safeguard: F is convex along the step, so dF/dt <= 0 at the accepted t proves a decrease.
-        # The full step is taken when dF/dt(1) <= 0; otherwise the line minimum lies in (0, 1) and
-        # is bracketed by regula falsi on dF/dt until it has lost half of its initial size.
-        slope0 = float(g @ step)
-        lo, hi, s_lo, s_hi, t = 0.0, 1.0, slope0, None, 1.0
-        for _ in range(60):
-            g_new, h_new = _gradient_and_curvature(pairs, r + t * step, mu, prior_sd)
-            slope = float(g_new @ step)
-            if slope <= 0.0 and (t == 1.0 or slope >= 0.5 * slope0):
-                break
-            if slope < 0.0:
-                lo, s_lo = t, slope
-                if s_hi is not None:
-                    s_hi *= 0.5  # Illinois: stop one end from sticking
-            else:
-                hi, s_hi = t, slope
-                s_lo *= 0.5 if lo > 0 else 1.0
-            t = lo + (hi - lo) * s_lo / (s_lo - s_hi) if s_hi is not None else 0.5 * (lo + hi)
-            t = min(max(t, lo + 1e-3 * (hi - lo)), hi - 1e-3 * (hi - lo))
-        r = r + t * step
-        g, h = g_new, h_new
+        step = newton_step(h, g, gmax)
+        t, g, h = _line_search(evaluate, x, step, g)
+        x = x + t * step
         gmax = float(np.max(np.abs(g)))
     raise FitFailed(
         "the rating calculation did not settle (largest gradient "
         f"{gmax:.3g} after {max_iter} steps); no ratings were changed. "
         "Check the Results sheet for impossible scores and report this if it persists."
     )
+
+
+def _line_search(evaluate, x, step, g):
+    """The step length ``t`` along ``step`` and the gradient and pair weights there.
+
+    F is convex along the step, so dF/dt <= 0 at the accepted t proves a decrease.
+    The full step is taken when dF/dt(1) <= 0; otherwise the line minimum lies in (0, 1) and
+    is bracketed by regula falsi on dF/dt until it has lost half of its initial size.
+    """
+    slope0 = float(g @ step)
+    lo, hi, s_lo, s_hi, t = 0.0, 1.0, slope0, None, 1.0
+    for _ in range(60):
+        g_new, h_new = evaluate(x + t * step)
+        slope = float(g_new @ step)
+        if slope <= 0.0 and (t == 1.0 or slope >= 0.5 * slope0):
+            break
+        if slope < 0.0:
+            lo, s_lo = t, slope
+            if s_hi is not None:
+                s_hi *= 0.5  # Illinois: stop one end from sticking
+        else:
+            hi, s_hi = t, slope
+            s_lo *= 0.5 if lo > 0 else 1.0
+        t = lo + (hi - lo) * s_lo / (s_lo - s_hi) if s_hi is not None else 0.5 * (lo + hi)
+        t = min(max(t, lo + 1e-3 * (hi - lo)), hi - 1e-3 * (hi - lo))
+    return t, g_new, h_new

@@ -4,6 +4,10 @@
 weights every game by its age from the reference date (the newest result,
 never the clock), fits the MAP and its Laplace uncertainty, and returns a
 ``LeagueFit`` in log-odds with conversions to points.
+
+Division levels: every player belongs to one home division (``home_divisions``)
+and, with a Division spread above 0 and at least two divisions, each division
+gets its own level ``L_d`` (``fit.Levels``), fitted jointly with the players.
 """
 from __future__ import annotations
 
@@ -12,9 +16,10 @@ from dataclasses import dataclass
 from typing import Iterable, Mapping, Sequence
 
 import numpy as np
+import scipy.sparse as sp
 
 from secretary.model.diagnose import Diagnosis, diagnose
-from secretary.model.fit import fit_map, hessian
+from secretary.model.fit import Levels, fit_map, hessian
 from secretary.model.matches import Matches, from_results, home_divisions, last_played
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, Result, Settings
@@ -35,13 +40,18 @@ class LeagueFit:
     reference_date: dt.date | None
     r: np.ndarray
     var: np.ndarray
-    prior_mean: np.ndarray
+    prior_mean: np.ndarray  # each strength's prior mean given its division's level: mu_i + L_d(i)
     pairs: Pairs
     group: np.ndarray  # group (division) number of each player
     group_names: tuple[str, ...]
     last_played: tuple[dt.date | None, ...]
     diagnosis: Diagnosis
     iterations: int
+    level: np.ndarray = None  # each division's level, log-odds above the centre (0s in one pool)
+    level_var: np.ndarray = None  # its posterior variance (0 where the level is fixed)
+    levels: Levels | None = None  # the free levels' prior, None when the levels are fixed (one pool)
+    starting_level: np.ndarray = None  # each division's starting level m_d, log-odds above the centre
+    home_rule: tuple[str, ...] = ()  # how each player's home division was found (HOME_RULES)
 
     @property
     def prior_sd(self) -> float:
@@ -88,13 +98,60 @@ class LeagueFit:
         """Posterior variance of each row of ``coefficients @ r`` (log-odds squared; coefficients (m, n_players)).
 
         Exact from the Laplace posterior: ``c^T H^-1 c`` with ``H`` the fit's
-        Hessian at the optimum (``uncertainty.contrast_variance``).
+        Hessian at the optimum (``uncertainty.contrast_variance``).  With free
+        division levels ``H`` is the joint Hessian over ``(r, L)``, in which a
+        contrast over the strengths is ``[c, 0]`` (the levels' covariance is
+        inside ``H^-1``).
         """
-        return contrast_variance(hessian(self.pairs, self.r, self.prior_sd), coefficients)
+        H = hessian(self.pairs, self.r, self.prior_sd, self.levels)
+        if self.levels is not None:
+            coefficients = sp.hstack([sp.csr_matrix(coefficients),
+                                      sp.csr_matrix((np.shape(coefficients)[0], len(self.levels.mean)))], "csr")
+        return contrast_variance(H, coefficients)
+
+    def starting_levels(self) -> dict[str, float]:
+        """Each division's starting level in points above the centre (to refit with the same prior)."""
+        ppl = points_per_logodds(self.settings.scale)
+        return {g: float(m * ppl) for g, m in zip(self.group_names, self.starting_level)}
+
+    def homes(self) -> dict[str, str]:
+        """Each player's home division."""
+        return {name: self.group_names[g] for name, g in zip(self.names, self.group)}
+
+    def level_points(self, division: str) -> float:
+        """A division's level in points above the centre."""
+        return float(self.level[self.group_names.index(division)] * points_per_logodds(self.settings.scale))
+
+    def level_sd(self, division: str) -> float:
+        """The ± of a division's level in points (0 when the level is fixed: Division spread 0)."""
+        return float(np.sqrt(self.level_var[self.group_names.index(division)]) * points_per_logodds(self.settings.scale))
 
     def division(self, name: str) -> str:
         """The group (division) a player is counted in."""
         return self.group_names[self.group[self.index(name)]]
+
+
+HOME_RULES = ("Players sheet", "played most", "no results")
+
+
+def division_levels(group: np.ndarray, group_names: Sequence[str], settings: Settings,
+                    starting_levels: Mapping[str, float] | None = None) -> Levels:
+    """The levels' prior in log-odds: starting levels (points, blank = 0) and the Division spread."""
+    ppl = points_per_logodds(settings.scale)
+    mean = np.array([float((starting_levels or {}).get(g, 0.0)) / ppl for g in group_names])
+    return Levels(group, mean, max(float(getattr(settings, "division_spread", 0.0)), 0.0) / ppl)
+
+
+def _placed(matches: Matches, players: Sequence[Player], home: Mapping[str, str] | None) -> list[tuple[str, str]]:
+    """Each player's (home division, the rule that placed them: one of ``HOME_RULES``)."""
+    given = {p.name for p in players if p.division}
+    played = np.zeros(len(matches.names), dtype=bool)
+    played[matches.idx_a] = played[matches.idx_b] = True
+    placed = [(division, HOME_RULES[0] if name in given else HOME_RULES[1] if was else HOME_RULES[2])
+              for name, division, was in zip(matches.names, home_divisions(matches, players), played.tolist())]
+    if home:
+        placed = [(home.get(name, division), rule) for name, (division, rule) in zip(matches.names, placed)]
+    return placed
 
 
 def fit_league(
@@ -111,7 +168,7 @@ def fit_league(
     results : the matches; void ones are skipped
     settings : centre, scale, skill spread (points) and half-life (days)
     players : optional Players-sheet records (divisions, starting ratings, players yet to play)
-    options : ``reference_date``, ``start``, ``with_uncertainty``, as for ``fit_matches``
+    options : ``reference_date``, ``start``, ``with_uncertainty``, ``starting_levels``, ``home``, as for ``fit_matches``
     """
     return fit_matches(from_results(results, players), settings, players=players, **options)
 
@@ -124,6 +181,8 @@ def fit_matches(
     reference_date: dt.date | None = None,
     start: Mapping[str, float] | None = None,
     with_uncertainty: bool = True,
+    starting_levels: Mapping[str, float] | None = None,
+    home: Mapping[str, str] | None = None,
 ) -> LeagueFit:
     """Fit every rating jointly from matches already in columns (``Matches``).
 
@@ -134,6 +193,11 @@ def fit_matches(
     reference_date : date ages are measured from; default the newest match's date
     start : optional warm start, strengths (log-odds) by name
     with_uncertainty : skip the ± computation when only the optimum is needed
+    starting_levels : optional starting level per division, points above the centre (the Divisions sheet)
+    home : optional home division per player, overriding the rules (so a second fit shares a first's divisions)
+
+    With two or more divisions each gets a level (``Levels``): free with a
+    Division spread above 0, fixed at its starting level with 0 (one pool).
     """
     order = matches.names
     n = len(order)
@@ -150,25 +214,38 @@ def fit_matches(
             mu[k] = to_strength(starting[name], settings.centre, settings.scale)
     prior_sd = settings.skill_spread / ppl
 
-    home = home_divisions(matches, players)
-    group_names = tuple(sorted(set(home)))
+    placed = _placed(matches, players, home)
+    group_names = tuple(sorted({division for division, _ in placed}))
     group_of = {g: k for k, g in enumerate(group_names)}
-    group = np.fromiter((group_of[h] for h in home), np.int64, n)
+    group = np.fromiter((group_of[division] for division, _ in placed), np.int64, n)
+    levels = division_levels(group, group_names, settings, starting_levels) if len(group_names) > 1 else None
 
     x0 = None if start is None else np.array([start.get(name, mu[k]) for k, name in enumerate(order)])
-    fit = fit_map(pairs, mu, prior_sd, start=x0)
-    var = strength_variance(pairs, fit.r, prior_sd, group) if with_uncertainty else np.full(n, np.nan)
+    fit = fit_map(pairs, mu, prior_sd, levels=levels, start=x0)
+    free = levels if levels is not None and levels.sd > 0 else None
+    D = len(group_names)
+    level = fit.level if levels is not None else np.zeros(D)
+    if with_uncertainty:
+        var = strength_variance(pairs, fit.r, prior_sd, group, free)
+        var, level_var = (var[:n], var[n:]) if free is not None else (var, np.zeros(D))
+    else:
+        var, level_var = np.full(n, np.nan), np.full(D, np.nan if free is not None else 0.0)
     return LeagueFit(
         names=order,
         settings=settings,
         reference_date=ref,
         r=fit.r,
         var=var,
-        prior_mean=mu,
+        prior_mean=mu + level[group],
         pairs=pairs,
         group=group,
         group_names=group_names,
         last_played=last_played(matches),
         diagnosis=diagnose(pairs),
         iterations=fit.iterations,
+        level=level,
+        level_var=level_var,
+        levels=free,
+        starting_level=levels.mean if levels is not None else np.zeros(D),
+        home_rule=tuple(rule for _, rule in placed),
     )

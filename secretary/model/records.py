@@ -40,6 +40,16 @@ class Player:
 
 
 @dataclass(frozen=True)
+class Division:
+    """A division as the optional Divisions sheet describes it."""
+
+    name: str
+    starting_level: float = 0.0  # points relative to the centre
+    note: str = ""
+    row: int = 0
+
+
+@dataclass(frozen=True)
 class Fixture:
     """A match still to be played; races are optional."""
 
@@ -60,6 +70,7 @@ class Fixture:
 # 265 and half-lives 480 to 620 all score within 0.00005 of it).  Rounded.
 DEFAULT_SKILL_SPREAD = 250.0  # points
 DEFAULT_HALF_LIFE_DAYS = 520.0  # days
+DEFAULT_DIVISION_SPREAD = 100.0  # points: SD of the division levels' prior (0 = one pool)
 
 
 @dataclass(frozen=True)
@@ -70,6 +81,7 @@ class Settings:
     scale: float = 400.0
     skill_spread: float = DEFAULT_SKILL_SPREAD  # points: SD of the prior
     half_life_days: float = DEFAULT_HALF_LIFE_DAYS  # 0 = games never age
+    division_spread: float = DEFAULT_DIVISION_SPREAD  # points: SD of the division levels (0 = one pool)
     longest_race: int = 9
     shortest_race: int = 2  # no fair race asks either player for fewer games (rule of thumb)
     usual_race: int = 5

@@ -173,6 +173,9 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
     SettingSpec("half_life_days", "Half-life (days)", "number",
                 "Age in days at which an old game counts half as much as a new one "
                 "(0 = games never age).", 0, 36500, aliases=("half-life", "half life")),
+    SettingSpec("division_spread", "Division spread", "number",
+                "How far, in points, division levels usually are from each other; each division's level "
+                "is judged from games between divisions (0 = one pool, no levels).", 0, 2000),
     SettingSpec("longest_race", "Longest race", "whole",
                 "The longest race (first to this many games) to suggest for a fair match.", 1, 50),
     SettingSpec("shortest_race", "Shortest race", "whole",

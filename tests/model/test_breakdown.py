@@ -122,10 +122,12 @@ def test_parts_add_up_exactly_for_every_player(case):
             # Own part of a player who did not play = ageing only: toward the starting rating, never away.
             held_at = pc.after - pc.own - pc.opponents - pc.group
             starting = players[0].starting if pc.name == players[0].name and players[0].starting else now.centre
+            starting += b.level_before[pc.division]  # the prior mean given the division's level at R0
             assert np.sign(held_at - starting) * pc.own <= 1e-5
             assert pc.own == pytest.approx(pc.ageing, abs=1e-9)
     assert b.settings_changed == tuple(
-        f for f in ("centre", "scale", "skill_spread", "half_life_days") if getattr(before, f) != getattr(now, f)
+        f for f in ("centre", "scale", "skill_spread", "half_life_days", "division_spread")
+        if getattr(before, f) != getattr(now, f)
     )
 
 
@@ -157,7 +159,9 @@ def test_open_night_lifts_members_who_stayed_at_home_through_the_group_part():
     night = START + 28 * DAY
     new = [Result(night, a, b, 5, 1, "", "Open night") for a in one for b in two]
     players = [Player(p, "Division One") for p in one + [home]] + [Player(p, "Division Two") for p in two]
-    b = explain_changes(old + new, publish(old, players=players), Settings(), players)
+    # A Division spread as wide as the skill spread: the level, not each member alone, takes the night's news.
+    settings = Settings(division_spread=Settings().skill_spread)
+    b = explain_changes(old + new, publish(old, settings, players), settings, players)
     pc = b.player(home)
     assert not pc.played and pc.group > 3
     assert largest_part(pc) == "group"
