@@ -133,9 +133,10 @@ def test_bundled_window_shows_the_ratings_and_prints(app, demo, display, tmp_pat
     assert pdf == str(demo / "league - notice board.pdf") and shown["printed"]
     assert library_path == "unset"  # the viewer gets the system's libraries, not the app's copies
     sheet = ratings_sheet(demo / "league.xlsx")
-    assert [(r[1], r[2], r[5]) for r in shown["ratings"]] == [(p, f"{r:.0f}", d) for p, d, r, _ in sheet]
+    columns = [shown["headings"].index(h) for h in ("Player", "Rating", "Division")]
+    assert [tuple(row[i] for i in columns) for row in shown["ratings"]] == [(p, f"{r:.0f}", d) for p, d, r, _ in sheet]
     assert shown["tab"] == "Ratings" and shown["dialogs"] == [["open_externally", pdf]]
-    assert shown["status"] == "The notice board is open in your PDF viewer: league - notice board.pdf"
+    assert shown["status"] == f"The notice board is open in your PDF viewer: league - notice board.pdf, in {demo}"
     assert shown["title"] == "league.xlsx - League secretary" and shown["drawn_at"] <= shown["shown_at"]
 
 

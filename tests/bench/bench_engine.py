@@ -5,7 +5,7 @@ Run by hand (not part of the test command):
     python tests/bench/bench_engine.py            # 5 k / 200, 50 k / 2 k, 1 M / 20 k
     python tests/bench/bench_engine.py --large    # adds 10 M / 100 k
 
-Every method solves the same problem (no age decay, prior SD 1 log-odds,
+Every method solves the same problem on one native thread (no age decay, prior SD 1 log-odds,
 prior mean 0) and runs in its own child process, so that its peak memory
 (maximum resident set size) is its own.  Times are the median of --repeat
 runs.  Columns:
@@ -128,6 +128,9 @@ METHODS = {
 
 
 def child(method, n_games, n_players, repeat, out):
+    from secretary.threads import limit_native_threads
+
+    limit_native_threads()  # every method on one thread, as the command line runs the engine
     g = make_games(n_games, n_players, seed=1)
     seconds, ratings = METHODS[method](g, repeat)
     if ratings is not None:
@@ -153,6 +156,7 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--large", action="store_true", help="also run 10 M matches / 100 k players")
     parser.add_argument("--repeat", type=int, default=3, help="runs per measurement (median is shown)")
+    parser.add_argument("--no-choix", action="store_true", help="leave choix out (it takes minutes at 50 k matches)")
     parser.add_argument("--child", nargs=5, help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.child:
@@ -169,7 +173,7 @@ def main():
         for n_games, n_players in sizes:
             res = {}
             for method in METHODS:
-                if method == "choix" and n_games > 50_000:
+                if method == "choix" and (n_games > 50_000 or args.no_choix):
                     continue
                 if method in ("lbfgs", "newton-cg") and n_games > 1_000_000:
                     continue
