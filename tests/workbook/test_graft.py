@@ -299,7 +299,7 @@ def test_a_secretary_sheet_named_like_a_tool_sheet_is_refused(tmp_path, watch):
 
 
 @pytest.mark.slow
-def test_graft_is_faster_than_a_full_openpyxl_save(tmp_path, watch, capsys):
+def test_graft_of_a_large_workbook_keeps_its_results_sheet_byte_for_byte(tmp_path, watch, capsys):
     from tests.bench.make_league import make_league_workbook
 
     path = tmp_path / "big.xlsx"
@@ -318,7 +318,7 @@ def test_graft_is_faster_than_a_full_openpyxl_save(tmp_path, watch, capsys):
     with capsys.disabled():
         print(f"\n20 000 rows: graft {grafted:.2f} s, save_grafted (with read-back, backup) {checked:.2f} s, "
               f"openpyxl load+save {full:.2f} s")
-    assert grafted < full / 2
+    # The times are printed for a person; the comparison is made by tests/bench/bench_update.py.
     assert _parts(tmp_path / "grafted.xlsx")["xl/worksheets/sheet1.xml"] == _parts(path)["xl/worksheets/sheet1.xml"]
 
 
