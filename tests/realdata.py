@@ -101,3 +101,16 @@ def tennis() -> tuple[Result, ...]:
                 out.append(Result(dt.date(int(d[:4]), int(d[4:6]), int(d[6:])), row["winner_name"],
                                   row["loser_name"], sets[0], sets[1], TENNIS_TIERS[row["tourney_level"]]))
     return tuple(out)
+
+
+def write_results_workbook(results, path: Path) -> Path:
+    """A league workbook holding only a Results sheet with these results (the tests' and benchmarks' input)."""
+    import openpyxl
+
+    wb = openpyxl.Workbook(write_only=True)
+    ws = wb.create_sheet("Results")
+    ws.append(["Date", "Division", "Player A", "Player B", "Games A", "Games B"])
+    for r in results:
+        ws.append([r.date, r.division, r.player_a, r.player_b, r.games_a, r.games_b])
+    wb.save(path)
+    return path

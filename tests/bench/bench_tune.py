@@ -30,7 +30,6 @@ sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(REPO))
 
 import busy  # noqa: E402
-import openpyxl  # noqa: E402
 
 from tests import realdata  # noqa: E402
 
@@ -39,13 +38,7 @@ DEFAULT_THREADS = "import sys; from secretary.pipeline import tune_workbook; pri
 
 def write_season(path: Path, matches: int) -> int:
     results = sorted(realdata.tennis(), key=lambda r: r.date)[:matches]
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Results"
-    ws.append(["Date", "Division", "Player A", "Player B", "Games A", "Games B"])
-    for r in results:
-        ws.append([r.date, r.division, r.player_a, r.player_b, r.games_a, r.games_b])
-    wb.save(path)
+    realdata.write_results_workbook(results, path)
     return len({r.player_a for r in results} | {r.player_b for r in results})
 
 

@@ -257,12 +257,7 @@ def test_twenty_thousand_rows_read_fast(tmp_path):
 def test_real_names_written_two_ways_are_merged(tmp_path):
     """Badminton world tour (shared data): one event writes surnames in capitals; reading merges them."""
     results = realdata.badminton()
-    wb = openpyxl.Workbook(write_only=True)
-    ws = wb.create_sheet("Results")
-    ws.append(["Date", "Division", "Player A", "Player B", "Games A", "Games B"])
-    for r in results:
-        ws.append([r.date, r.division, r.player_a, r.player_b, r.games_a, r.games_b])
-    wb.save(tmp_path / "badminton.xlsx")
+    realdata.write_results_workbook(results, tmp_path / "badminton.xlsx")
     book = read_workbook(tmp_path / "badminton.xlsx")
     folded = realdata.badminton(fold_case=True)
     assert len(book.results) == len(results)
@@ -277,13 +272,7 @@ def test_real_names_written_two_ways_are_merged(tmp_path):
 def test_real_spelling_variants_are_suggested(tmp_path):
     """Tennis 2019 (shared data, ~2,950 players): the data itself writes one player two ways."""
     results = realdata.tennis()
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Results"
-    ws.append(["Date", "Division", "Player A", "Player B", "Games A", "Games B"])
-    for r in results:
-        ws.append([r.date, r.division, r.player_a, r.player_b, r.games_a, r.games_b])
-    wb.save(tmp_path / "tennis.xlsx")
+    realdata.write_results_workbook(results, tmp_path / "tennis.xlsx")
     book = read_workbook(tmp_path / "tennis.xlsx")
     close = [p.problem for p in book.warnings if "is spelled like" in p.problem]
     assert any("'Rui Xuan Wang'" in p and "'Ruixuan Wang'" in p for p in close)
