@@ -217,7 +217,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     write_problems(wb, book.warnings)
     set_up_printing(wb, settings)
     if book.fixtures and not companion and not graft_it:
-        write_fixture_columns(wb, forecasts, settings)
+        write_fixture_columns(wb, forecasts, settings, latest=fit.reference_date)
     state.write_state(wb, PublishedState(
         updated_at=stamp, reference_date=log.reference_date,
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
@@ -253,7 +253,8 @@ def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):
     try:
         pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
         if forecasts:
-            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
+            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings,
+                                      latest=breakdown.reference_date)
     except OSError as exc:  # e.g. a PDF held open by a viewer
         return pdf, card, (f" The workbook was saved; the printouts failed because {exc.strerror or exc}. "
                            "If a PDF is open in a viewer, close it and run `secretary notice` to print the "
@@ -376,9 +377,10 @@ def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | 
     written = None
     if not fidelity.unsupported_content(path):
         wb = save.load_for_update(path)
-        write_fixture_columns(wb, forecasts, pub.book.settings)
+        write_fixture_columns(wb, forecasts, pub.book.settings, latest=pub.fit.reference_date)
         written = save.save_workbook(wb, path).path
-    card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings)
+    card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings,
+                              latest=pub.fit.reference_date)
     return forecasts, written, card
 
 
