@@ -110,6 +110,11 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
     return tuple(out)
 
 
+def starting_levels(book: LeagueBook) -> dict[str, float]:
+    """Each division's starting level from the Divisions sheet, points above the centre (unlisted = 0)."""
+    return {d.name: d.starting_level for d in book.divisions}
+
+
 def _full_target(path: Path, out: Path | None):
     """For a full save: the workbook to write the tool's sheets into, where it goes, and what would be lost."""
     lost = fidelity.unsupported_content(path)
@@ -189,7 +194,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     graft_it = graft_it and out is None and not book.fixtures
 
     _step(progress, cancel, "Rating every player", 0.25)
-    fit = fit_league(book.results, settings, players=book.players)
+    fit = fit_league(book.results, settings, players=book.players, starting_levels=starting_levels(book))
     _step(progress, cancel, "Working out why ratings changed", 0.5)
     breakdown = explain_changes(book.results, published, settings, book.players,
                                 state_missing=published is None and _was_updated_before(book), current=fit)
@@ -322,7 +327,7 @@ def _published(path: str | Path, what: str) -> Published:
 
 def _published_from(book: LeagueBook, stored: PublishedState) -> Published:
     book = replace(book, state=stored)
-    fit = fit_league(book.results, book.settings, players=book.players)
+    fit = fit_league(book.results, book.settings, players=book.players, starting_levels=starting_levels(book))
     breakdown = explain_changes(book.results, book.state.previous, book.settings, book.players, current=fit)
     return Published(book, fit, _published_ratings(fit, breakdown), breakdown)
 
@@ -331,7 +336,7 @@ def inputs_digest(book: LeagueBook) -> str:
     """A digest of everything an update reads from the workbook, and of the tool's version."""
     digest = hashlib.blake2b(digest_size=16)
     for part in (__version__, repr(book.settings), repr(book.players), repr(book.fixtures),
-                 repr(getattr(book, "divisions", ())), *(fingerprint(r) for r in book.results)):
+                 repr(book.divisions), *(fingerprint(r) for r in book.results)):
         digest.update(part.encode("utf-8", "surrogatepass") + b"\x1f")
     return digest.hexdigest()
 
