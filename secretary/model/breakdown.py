@@ -1,4 +1,4 @@
-"""Why every rating changed: the exact four-part breakdown (model.md, section 2).
+"""Why every rating changed: the exact four-part breakdown (docs/model.md, section 2).
 
 With ``D0`` = last update's rows as they stand now, ``D1`` = every rated row
 now, ``t0``/``t1`` their reference dates and ``P`` the published ratings
@@ -7,13 +7,21 @@ now, ``t0``/``t1`` their reference dates and ``P`` the published ratings
     R0 = solve(D0, t0)  and  R1 = solve(D1, t1)       (both with today's settings)
     corrections = R0 - P
     own         = BR(R0, D1, t1) - R0
-    group       = BR(R0 + d_group, D1, t1) - BR(R0, D1, t1),  d_g = mean_{j in g} (R1_j - R0_j)
+    group       = BR(R0 + d, D1, t1) - BR(R0, D1, t1)
     opponents   = R1 - R0 - own - group
 
 so ``R1 - P = corrections + own + opponents + group`` holds exactly (the
-opponents part is the remainder).  ``BR_i(x, D, t)`` is player i's best
-strength with every other player frozen at ``x``: a one-dimensional convex
-problem, solved for all players at once (``best_response``).
+opponents part is the remainder; since ``BR(R1, D1, t1) = R1`` it is also
+``BR(R1) - BR(R0 + d)``, what the others' own re-rating did).  ``BR_i(x, D, t)``
+is player i's best strength with every other player frozen at ``x``: a
+one-dimensional convex problem, solved for all players at once
+(``best_response``).  The shift ``d_j`` moves each player with their division:
+with division levels it is the change of their division's level with every
+deviation frozen, ``L1_d(j) - L0_d(j)`` (their prior mean moving with it; a
+player whose home division changed goes from the old division's ``L0`` to the
+new one's ``L1``); in one pool it is their division's mean change
+``mean_{k in g} (R1_k - R0_k)``.  ``tests/model/test_breakdown.py`` computes
+each part again from these definitions.
 
 Choices made here (the contract leaves them open):
 
@@ -22,7 +30,7 @@ Choices made here (the contract leaves them open):
   "previous" rating is their prior mean and their corrections part is 0.
   ``R0``'s fit starts from ``P`` (warm start).
 - Groups are the current fit's divisions (Players sheet, else the division
-  played most); ``d_g`` averages over every player counted in the division.
+  played most); in one pool ``d_g`` averages over every player counted in the division.
 - The first update (or a missing record) runs the same arithmetic with
   ``D0`` empty and ``P`` = the starting ratings; ``Breakdown.first_update``
   tells writers to show first ratings only.
@@ -56,7 +64,7 @@ from secretary.model.league import LeagueFit, fit_league
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, PublishedState, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
-from secretary.model.sentences import Context, sentence
+from secretary.model.sentences import Context, sentence, update_note
 
 # Settings whose change moves ratings (the rest only change what is printed).
 RATING_SETTINGS = ("centre", "scale", "skill_spread", "half_life_days", "division_spread")
@@ -170,10 +178,9 @@ def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 
     hi = mu + wins / prec + 1.0
     y = np.clip(x, lo, hi)
     for _ in range(max_iter):
-        pa = expit(y[pairs.i] - x[pairs.j])
-        pb = expit(y[pairs.j] - x[pairs.i])
-        g = np.bincount(pairs.i, tot * pa, n) + np.bincount(pairs.j, tot * pb, n) - wins + (y - mu) * prec
-        h = np.bincount(pairs.i, tot * pa * (1 - pa), n) + np.bincount(pairs.j, tot * pb * (1 - pb), n) + prec
+        pa, pb = _alone_chances(pairs, y, x)
+        g = pairs.per_player(tot * pa, tot * pb) - wins + (y - mu) * prec
+        h = pairs.per_player(tot * pa * (1 - pa), tot * pb * (1 - pb)) + prec
         lo = np.where(g < 0, y, lo)
         hi = np.where(g > 0, y, hi)
         y_new = y - g / h
@@ -186,6 +193,11 @@ def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 
     return y  # bisection halves the bracket every step: 200 steps leave it far below tol
 
 
+def _alone_chances(pairs: Pairs, y, x) -> tuple[np.ndarray, np.ndarray]:
+    """Per pair: side i at ``y`` against side j frozen at ``x``, and side j at ``y`` against side i at ``x``."""
+    return expit(y[pairs.i] - x[pairs.j]), expit(y[pairs.j] - x[pairs.i])
+
+
 def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     """Each pair's share of ``BR(end) - BR(start)`` for both players, by integrating the linearisation.
 
@@ -196,7 +208,6 @@ def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     (small: the path is short and smooth).  Returns ``(to_i, to_j)`` per pair:
     what j moved i by, and what i moved j by.
     """
-    n = pairs.n_players
     delta = end - start
     to_i = np.zeros(len(pairs.i))
     to_j = np.zeros(len(pairs.i))
@@ -204,11 +215,10 @@ def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     for node, weight in zip((nodes + 1) / 2, weights / 2):
         x = start + node * delta
         y = best_response(pairs, x, prior_mean, prior_sd)
-        pa = expit(y[pairs.i] - x[pairs.j])
-        pb = expit(y[pairs.j] - x[pairs.i])
+        pa, pb = _alone_chances(pairs, y, x)
         ha = pairs.total * pa * (1 - pa)
         hb = pairs.total * pb * (1 - pb)
-        curv = np.bincount(pairs.i, ha, n) + np.bincount(pairs.j, hb, n) + 1.0 / prior_sd**2
+        curv = pairs.per_player(ha, hb) + 1.0 / prior_sd**2
         to_i += weight * ha / curv[pairs.i] * delta[pairs.j]
         to_j += weight * hb / curv[pairs.j] * delta[pairs.i]
     return to_i, to_j
@@ -284,10 +294,7 @@ def _rows_pairs(rows: Sequence[Result], index: Mapping[str, int], reference_date
 def _week_games(rows: Sequence[Result], index: Mapping[str, int], r0):
     """This update's new games per player (unweighted): played, won, and expected at the strengths ``r0``."""
     week = _rows_pairs(rows, index)
-    p = expit(r0[week.i] - r0[week.j])
-    n = week.n_players
-    expected = np.bincount(week.i, week.total * p, n) + np.bincount(week.j, week.total * (1 - p), n)
-    return week.games_per_player(), week.wins_per_player(), expected
+    return week.games_per_player(), week.wins_per_player(), week.expected_wins(expit(week.difference(r0)))
 
 
 def _group_events(new_rows: Sequence[Result], home: Mapping[str, str]) -> tuple[dict[str, str], set[str]]:
@@ -460,17 +467,6 @@ def _player_changes(fit1: LeagueFit, before: _Before, parts: _Parts, published, 
     return out, played_all
 
 
-def _note(state_missing: bool, first: bool, changed) -> str:
-    """The one sentence about the whole update."""
-    if state_missing:
-        return "The record of the previous update was missing, so these are shown as first ratings with no breakdown."
-    if first:
-        return "First update: these are first ratings, so there is nothing to compare with yet."
-    if changed:
-        return "The league's settings changed since the previous update; the effect is in the corrections column."
-    return ""
-
-
 def explain_changes(
     results_now: Sequence[Result],
     published: PublishedState | None,
@@ -511,7 +507,7 @@ def explain_changes(
     return Breakdown(
         players=tuple(out), removed_players=removed_players, changes=before.changes, first_update=before.first,
         state_missing=bool(state_missing and before.first), settings_changed=before.settings_changed,
-        note=_note(state_missing, before.first, before.settings_changed),
+        note=update_note(state_missing, before.first, before.settings_changed),
         reference_date=fit1.reference_date, previous_reference_date=before.t0, names=names,
         before_r=before.p, after_r=fit1.r, own_r=parts.own, opponents_r=parts.opponents, group_r=parts.group,
         corrections_r=parts.corrections,
