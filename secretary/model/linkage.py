@@ -53,7 +53,7 @@ import numpy as np
 import scipy.sparse.linalg as spla
 from scipy.special import expit
 
-from secretary.model.fit import LaplacianPattern, conjugate_gradient, joint_hessian, pair_curvature
+from secretary.model.fit import conjugate_gradient, hessian, pair_curvature
 from secretary.model.linking_matches import LinkingMatch, expected_race_games, suggest_matches
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
@@ -245,10 +245,7 @@ def posterior_solver(fit, method: str = "auto"):
     (``fit.hessian``: the players' block bordered by one row per division).
     """
     h = pair_curvature(fit.pairs, fit.r)
-    H = LaplacianPattern(fit.pairs).matrix(h, fit.prior_sd)
-    if fit.levels is not None:
-        H = joint_hessian(H, fit.levels, fit.prior_sd)
-    return HessianSolver(H, method), h
+    return HessianSolver(hessian(fit.pairs, fit.r, fit.prior_sd, fit.levels, curvature=h), method), h
 
 
 # ---------------------------------------------------------------------------
@@ -401,13 +398,11 @@ def _recent_cross_games(fit, results: Iterable[Result]) -> np.ndarray:
 
 def _cross_games(fit) -> tuple[np.ndarray, np.ndarray]:
     """Age-weighted games against other divisions, per division and per player."""
-    pairs, n, n_groups = fit.pairs, len(fit.names), len(fit.group_names)
-    gi, gj = fit.group[pairs.i], fit.group[pairs.j]
-    cross = (gi != gj) & (pairs.total > 0)
-    t = pairs.total[cross]
-    per_division = np.bincount(gi[cross], t, n_groups) + np.bincount(gj[cross], t, n_groups)
-    per_player = np.bincount(pairs.i[cross], t, n) + np.bincount(pairs.j[cross], t, n)
-    return per_division, per_player
+    pairs, n_groups = fit.pairs, len(fit.group_names)
+    cross = (pairs.difference(fit.group) != 0) & (pairs.total > 0)
+    t = np.where(cross, pairs.total, 0.0)
+    per_player = pairs.per_player(t)
+    return np.bincount(fit.group, per_player, n_groups), per_player
 
 
 def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[DivisionLink]:
@@ -517,10 +512,9 @@ def surplus(fit, h: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     ``expected = sum w p``; ``z = (won - expected) / sqrt(L_ii)``; ``held = (won - expected) / L_ii``
     in points, ``L_ii = sum_pairs n p (1 - p)`` (the likelihood's curvature; 0 for no games).
     """
-    pairs, n = fit.pairs, len(fit.names)
-    p = expit(fit.r[pairs.i] - fit.r[pairs.j])
-    expected = np.bincount(pairs.i, pairs.total * p, n) + np.bincount(pairs.j, pairs.total * (1.0 - p), n)
-    L = np.bincount(pairs.i, h, n) + np.bincount(pairs.j, h, n)
+    pairs = fit.pairs
+    expected = pairs.expected_wins(expit(pairs.difference(fit.r)))
+    L = pairs.per_player(h)
     pull = fit.wins - expected
     with np.errstate(invalid="ignore", divide="ignore"):
         z = np.where(L > 0, pull / np.sqrt(L), 0.0)

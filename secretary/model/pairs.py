@@ -2,6 +2,19 @@
 
 The likelihood only needs, for every pair (i, j), the weighted games each side
 won; aggregating first makes every later pass cost O(pairs), not O(games).
+
+Every per-player quantity of the model is a sum over the two sides of each
+pair, so it is written once here.  In design-matrix terms a pair is a row of
+``X = A - B``, where ``A`` and ``B`` (pairs x players) say who is on side i
+and on side j (today one player each: ``A = e_i``, ``B = e_j``):
+
+- ``difference(x)`` is ``X x`` (side i's strength minus side j's, per pair);
+- ``per_player(on_i, on_j)`` is ``A^T on_i + B^T on_j`` (a value per pair for
+  each side, summed per player; ``on_j = on_i`` when omitted);
+- ``per_player_difference(v)`` is ``X^T v = A^T v - B^T v`` (the gradient's form).
+
+A side made of several players with weights (doubles) changes ``A`` and ``B``
+only: callers that go through these three never index ``i`` and ``j`` themselves.
 """
 from __future__ import annotations
 
@@ -41,16 +54,37 @@ class Pairs:
         """Weighted games per pair."""
         return self.won_i + self.won_j
 
+    def difference(self, x) -> np.ndarray:
+        """``X x``: per pair, ``x`` of side i minus ``x`` of side j (a new array)."""
+        d = np.take(x, self.i)
+        d -= np.take(x, self.j)
+        return d
+
+    def per_player(self, on_i, on_j=None) -> np.ndarray:
+        """``A^T on_i + B^T on_j``: per player, the sum over their pairs of their side's value.
+
+        ``on_i``, ``on_j`` : arrays (pairs,), the value for side i and for side j
+        (the same for both when ``on_j`` is None).
+        """
+        n = self.n_players
+        return np.bincount(self.i, on_i, n) + np.bincount(self.j, on_i if on_j is None else on_j, n)
+
+    def per_player_difference(self, v) -> np.ndarray:
+        """``X^T v``: per player, ``v`` summed over the pairs where they are side i minus where side j."""
+        n = self.n_players
+        return np.bincount(self.i, v, n) - np.bincount(self.j, v, n)
+
     def games_per_player(self) -> np.ndarray:
         """Weighted games each player played."""
-        n = self.n_players
-        t = self.total
-        return np.bincount(self.i, t, n) + np.bincount(self.j, t, n)
+        return self.per_player(self.total)
 
     def wins_per_player(self) -> np.ndarray:
         """Weighted games each player won."""
-        n = self.n_players
-        return np.bincount(self.i, self.won_i, n) + np.bincount(self.j, self.won_j, n)
+        return self.per_player(self.won_i, self.won_j)
+
+    def expected_wins(self, p) -> np.ndarray:
+        """Weighted games each player would win with chance ``p`` for side i in every pair's games."""
+        return self.per_player(self.total * p, self.total * (1.0 - p))
 
 
 def aggregate(idx_a, idx_b, games_a, games_b, n_players: int, weights=None) -> Pairs:
