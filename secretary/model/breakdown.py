@@ -57,7 +57,7 @@ from secretary.model.league import LeagueFit, fit_league
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, PublishedState, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
-from secretary.model.sentences import Context, sentence
+from secretary.model.sentences import Context, sentence, update_note
 
 # Settings whose change moves ratings (the rest only change what is printed).
 RATING_SETTINGS = ("centre", "scale", "skill_spread", "half_life_days", "division_spread")
@@ -174,10 +174,9 @@ def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 
     if pairs.doubles is not None:
         wins = wins - pairs.doubles.wins_per_player()  # the singles wins; doubles slopes come from ``alone``
     for _ in range(max_iter):
-        pa = expit(y[pairs.i] - x[pairs.j])
-        pb = expit(y[pairs.j] - x[pairs.i])
-        g = np.bincount(pairs.i, tot * pa, n) + np.bincount(pairs.j, tot * pb, n) - wins + (y - mu) * prec
-        h = np.bincount(pairs.i, tot * pa * (1 - pa), n) + np.bincount(pairs.j, tot * pb * (1 - pb), n) + prec
+        pa, pb = _alone_chances(pairs, y, x)
+        g = pairs.per_player(tot * pa, tot * pb) - wins + (y - mu) * prec
+        h = pairs.per_player(tot * pa * (1 - pa), tot * pb * (1 - pb)) + prec
         if pairs.doubles is not None:
             slope, curvature = doubles.alone(pairs.doubles, y, x)
             g += slope
@@ -194,6 +193,11 @@ def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 
     return y  # bisection halves the bracket every step: 200 steps leave it far below tol
 
 
+def _alone_chances(pairs: Pairs, y, x) -> tuple[np.ndarray, np.ndarray]:
+    """Per pair: side i at ``y`` against side j frozen at ``x``, and side j at ``y`` against side i at ``x``."""
+    return expit(y[pairs.i] - x[pairs.j]), expit(y[pairs.j] - x[pairs.i])
+
+
 def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     """Each pair's share of ``BR(end) - BR(start)`` for both players, by integrating the linearisation.
 
@@ -205,7 +209,6 @@ def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     per pair what j moved i by and what i moved j by, and per doubles link
     (``doubles.links``) what the partner or opponent moved the seat's player by.
     """
-    n = pairs.n_players
     delta = end - start
     to_i = np.zeros(len(pairs.i))
     to_j = np.zeros(len(pairs.i))
@@ -214,11 +217,10 @@ def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     for node, weight in zip((nodes + 1) / 2, weights / 2):
         x = start + node * delta
         y = best_response(pairs, x, prior_mean, prior_sd)
-        pa = expit(y[pairs.i] - x[pairs.j])
-        pb = expit(y[pairs.j] - x[pairs.i])
+        pa, pb = _alone_chances(pairs, y, x)
         ha = pairs.total * pa * (1 - pa)
         hb = pairs.total * pb * (1 - pb)
-        curv = np.bincount(pairs.i, ha, n) + np.bincount(pairs.j, hb, n) + 1.0 / prior_sd**2
+        curv = pairs.per_player(ha, hb) + 1.0 / prior_sd**2
         if pairs.doubles is not None:
             curv += doubles.alone(pairs.doubles, y, x)[1]
             to_seat += weight * doubles.link_shares(pairs.doubles, y, x, curv, delta)
@@ -316,9 +318,7 @@ def _rows_pairs(rows: Sequence[Result], index: Mapping[str, int], reference_date
 def _week_games(rows: Sequence[Result], index: Mapping[str, int], r0):
     """This update's new games per player (unweighted): played, won, and expected at the strengths ``r0``."""
     week = _rows_pairs(rows, index)
-    p = expit(r0[week.i] - r0[week.j])
-    n = week.n_players
-    expected = np.bincount(week.i, week.total * p, n) + np.bincount(week.j, week.total * (1 - p), n)
+    expected = week.expected_wins(expit(week.difference(r0)))
     if week.doubles is not None:
         expected += doubles.expected_wins(week.doubles, r0)
     return week.games_per_player(), week.wins_per_player(), expected
@@ -495,17 +495,6 @@ def _player_changes(fit1: LeagueFit, before: _Before, parts: _Parts, published, 
     return out, played_all
 
 
-def _note(state_missing: bool, first: bool, changed) -> str:
-    """The one sentence about the whole update."""
-    if state_missing:
-        return "The record of the previous update was missing, so these are shown as first ratings with no breakdown."
-    if first:
-        return "First update: these are first ratings, so there is nothing to compare with yet."
-    if changed:
-        return "The league's settings changed since the previous update; the effect is in the corrections column."
-    return ""
-
-
 def explain_changes(
     results_now: Sequence[Result],
     published: PublishedState | None,
@@ -547,7 +536,7 @@ def explain_changes(
     return Breakdown(
         players=tuple(out), removed_players=removed_players, changes=before.changes, first_update=before.first,
         state_missing=bool(state_missing and before.first), settings_changed=before.settings_changed,
-        note=_note(state_missing, before.first, before.settings_changed),
+        note=update_note(state_missing, before.first, before.settings_changed),
         reference_date=fit1.reference_date, previous_reference_date=before.t0, names=names,
         before_r=before.p, after_r=fit1.r, own_r=parts.own, opponents_r=parts.opponents, group_r=parts.group,
         corrections_r=parts.corrections,

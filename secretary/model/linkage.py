@@ -54,7 +54,7 @@ import scipy.sparse.linalg as spla
 from scipy.special import expit
 
 from secretary.model.doubles import expected_wins
-from secretary.model.fit import LaplacianPattern, conjugate_gradient, joint_hessian, pair_curvature
+from secretary.model.fit import conjugate_gradient, hessian, pair_curvature
 from secretary.model.linking_matches import LinkingMatch, expected_race_games, suggest_matches
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
@@ -246,10 +246,7 @@ def posterior_solver(fit, method: str = "auto"):
     (``fit.hessian``: the players' block bordered by one row per division).
     """
     h = pair_curvature(fit.pairs, fit.r)
-    H = LaplacianPattern(fit.pairs).matrix(h, fit.prior_sd)
-    if fit.levels is not None:
-        H = joint_hessian(H, fit.levels, fit.prior_sd)
-    return HessianSolver(H, method), h
+    return HessianSolver(hessian(fit.pairs, fit.r, fit.prior_sd, fit.levels, curvature=h), method), h
 
 
 # ---------------------------------------------------------------------------
@@ -401,12 +398,11 @@ def _recent_cross_games(fit, results: Iterable[Result]) -> np.ndarray:
 
 def _cross_games(fit) -> tuple[np.ndarray, np.ndarray]:
     """Age-weighted games against other divisions, per division and per player."""
-    pairs, n, n_groups = fit.pairs, len(fit.names), len(fit.group_names)
-    gi, gj = fit.group[pairs.i], fit.group[pairs.j]
-    cross = (gi != gj) & (pairs.total > 0)
-    t = pairs.total[cross]
-    per_division = np.bincount(gi[cross], t, n_groups) + np.bincount(gj[cross], t, n_groups)
-    per_player = np.bincount(pairs.i[cross], t, n) + np.bincount(pairs.j[cross], t, n)
+    pairs, n_groups = fit.pairs, len(fit.group_names)
+    cross = (pairs.difference(fit.group) != 0) & (pairs.total > 0)
+    t = np.where(cross, pairs.total, 0.0)
+    per_player = pairs.per_player(t)
+    per_division = np.bincount(fit.group, per_player, n_groups)
     if pairs.doubles is not None:
         division, player = _doubles_cross_games(fit)
         per_division, per_player = per_division + division, per_player + player
@@ -539,11 +535,10 @@ def surplus(fit, h: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     A doubles game counts in full in ``expected``; in the pull (the gradient's data part) and in
     ``L_ii`` with the player's coefficient in ``x``: ``(won - expected) / 2`` and ``n p (1 - p) / 4``.
     """
-    pairs, n = fit.pairs, len(fit.names)
-    p = expit(fit.r[pairs.i] - fit.r[pairs.j])
-    expected = np.bincount(pairs.i, pairs.total * p, n) + np.bincount(pairs.j, pairs.total * (1.0 - p), n)
+    pairs = fit.pairs
+    expected = pairs.expected_wins(expit(pairs.difference(fit.r)))
     m = len(pairs.i)
-    L = np.bincount(pairs.i, h[:m], n) + np.bincount(pairs.j, h[:m], n)
+    L = pairs.per_player(h[:m])
     pull = fit.wins - expected
     if pairs.doubles is not None:
         doubles_expected = expected_wins(pairs.doubles, fit.r)

@@ -2,8 +2,20 @@
 
 The likelihood only needs, for every pair (i, j), the weighted games each side
 won; aggregating first makes every later pass cost O(pairs), not O(games).
-Doubles games are aggregated the same way per unordered pair of sides
-(``Doubles``): a side's strength is the mean of its two players' strengths.
+
+Every per-player quantity of the model is a sum over the two sides of each
+pair, so it is written once here.  In design-matrix terms a pair is a row of
+``X = A - B``, where ``A`` and ``B`` (pairs x players) say who is on side i
+and on side j (one player each in singles: ``A = e_i``, ``B = e_j``):
+
+- ``difference(x)`` is ``X x`` (side i's strength minus side j's, per pair);
+- ``per_player(on_i, on_j)`` is ``A^T on_i + B^T on_j`` (a value per pair for
+  each side, summed per player; ``on_j = on_i`` when omitted);
+- ``per_player_difference(v)`` is ``X^T v = A^T v - B^T v`` (the gradient's form).
+
+Doubles games sit apart in ``Pairs.doubles`` (``Doubles``, per unordered pair
+of sides, ``A = (e_a0 + e_a1) / 2``), with the same three helpers; the pairs'
+own helpers cover the singles games, the per-player totals both.
 """
 from __future__ import annotations
 
@@ -46,9 +58,27 @@ class Pairs:
 
     def singles_games_per_player(self) -> np.ndarray:
         """Weighted singles games each player played."""
+        return self.per_player(self.total)
+
+    def difference(self, x) -> np.ndarray:
+        """``X x``: per pair, ``x`` of side i minus ``x`` of side j (a new array)."""
+        d = np.take(x, self.i)
+        d -= np.take(x, self.j)
+        return d
+
+    def per_player(self, on_i, on_j=None) -> np.ndarray:
+        """``A^T on_i + B^T on_j``: per player, the sum over their pairs of their side's value.
+
+        ``on_i``, ``on_j`` : arrays (pairs,), the value for side i and for side j
+        (the same for both when ``on_j`` is None).
+        """
         n = self.n_players
-        t = self.total
-        return np.bincount(self.i, t, n) + np.bincount(self.j, t, n)
+        return np.bincount(self.i, on_i, n) + np.bincount(self.j, on_i if on_j is None else on_j, n)
+
+    def per_player_difference(self, v) -> np.ndarray:
+        """``X^T v``: per player, ``v`` summed over the pairs where they are side i minus where side j."""
+        n = self.n_players
+        return np.bincount(self.i, v, n) - np.bincount(self.j, v, n)
 
     def games_per_player(self) -> np.ndarray:
         """Weighted games each player played (singles and doubles)."""
@@ -57,13 +87,16 @@ class Pairs:
 
     def wins_per_player(self) -> np.ndarray:
         """Weighted games each player won (singles and doubles)."""
-        n = self.n_players
-        wins = np.bincount(self.i, self.won_i, n) + np.bincount(self.j, self.won_j, n)
+        wins = self.per_player(self.won_i, self.won_j)
         return wins if self.doubles is None else wins + self.doubles.wins_per_player()
 
     def doubles_games_per_player(self) -> np.ndarray:
         """Weighted doubles games each player played (zeros in a singles-only league)."""
         return np.zeros(self.n_players) if self.doubles is None else self.doubles.games_per_player()
+
+    def expected_wins(self, p) -> np.ndarray:
+        """Weighted singles games each player would win with chance ``p`` for side i in every pair's games."""
+        return self.per_player(self.total * p, self.total * (1.0 - p))
 
 
 @dataclass(frozen=True)
@@ -106,8 +139,8 @@ class Doubles:
         return (np.bincount(self.a[:, 0], value_a, n) + np.bincount(self.a[:, 1], value_a, n)
                 + np.bincount(self.b[:, 0], value_b, n) + np.bincount(self.b[:, 1], value_b, n))
 
-    def spread(self, g) -> np.ndarray:
-        """``sum_rows g x``: the per-player gradient of a per-row derivative ``g`` with respect to ``x . r``."""
+    def per_player_difference(self, g) -> np.ndarray:
+        """``X^T g``: per player, ``g / 2`` summed where on side a minus where on side b (the gradient's form)."""
         return self.per_player(0.5 * g, -0.5 * g)
 
     def games_per_player(self) -> np.ndarray:

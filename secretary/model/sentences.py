@@ -175,6 +175,17 @@ def sentence(pc: "PlayerChange", context: Context = Context()) -> str:
     return " ".join(lead + clauses)
 
 
+def update_note(state_missing: bool, first: bool, settings_changed) -> str:
+    """The one sentence about the whole update ("" when nothing special)."""
+    if state_missing:
+        return "The record of the previous update was missing, so these are shown as first ratings with no breakdown."
+    if first:
+        return "First update: these are first ratings, so there is nothing to compare with yet."
+    if settings_changed:
+        return "The league's settings changed since the previous update; the effect is in the corrections column."
+    return ""
+
+
 IRREGULAR_PLURALS = {"match": "matches", "division": "divisions", "is": "are", "was": "were", "has": "have"}
 
 

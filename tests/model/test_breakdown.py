@@ -342,3 +342,123 @@ def test_real_results_week_by_week():
         assert sum(shown) == change == shown_after - shown_before
         assert not JARGON.search(pc.sentence), pc.sentence
     assert any(not pc.played and abs(pc.opponents) >= 1 for pc in b.players)
+
+
+# --- each part from its own definition ---------------------------------------------------------
+#
+# model.md section 2 (copied in docs/model.md): R0 = solve(D0, t0) and R1 = solve(D1, t1) with today's
+# settings; BR_i(x, D, t) is player i's best strength with everyone else frozen at x. With division
+# levels (r = L_d + u) the group part is the change of the player's division level with every
+# deviation u frozen, so "shifted" moves each player j by L1_d(j) - L0_d(j) and player i's prior mean
+# moves with their level. Here every part is computed again in the test: R0 and R1 by separate fits,
+# BR by a root search (scipy's brentq) on player i's own derivative written out over the raw rows,
+# and the opponents part not as the remainder but as BR_i(R1) - BR_i(shifted): at the joint optimum
+# BR_i(R1) = R1_i, so that difference is what the others' own re-rating did to player i.
+
+LN10 = np.log(10.0)
+
+
+def weight(res, t, half_life):
+    """Age weight of one row at the reference date t (model.md section 1)."""
+    return 0.5 ** (max((t - res.date).days, 0) / half_life) if half_life else 1.0
+
+
+def best_alone(rows, t, settings, name, frozen, prior_mean):
+    """BR for one player: the root of d/dy log posterior, everyone else at ``frozen`` (log-odds by name)."""
+    from scipy.optimize import brentq
+    from scipy.special import expit
+
+    s2 = (settings.skill_spread * LN10 / settings.scale) ** 2
+    games = []
+    for res in rows:
+        if res.void or name not in (res.player_a, res.player_b):
+            continue
+        won, lost = (res.games_a, res.games_b) if res.player_a == name else (res.games_b, res.games_a)
+        other = res.player_b if res.player_a == name else res.player_a
+        games.append((weight(res, t, settings.half_life_days), won, lost, frozen[other]))
+
+    def slope(y):
+        return sum(w * (won - (won + lost) * expit(y - x)) for w, won, lost, x in games) - (y - prior_mean) / s2
+
+    return brentq(slope, prior_mean - 60.0, prior_mean + 60.0, xtol=1e-14, rtol=1e-15)
+
+
+def tiered_weeks():
+    """Three divisions, last update's rows (one of them since corrected) and a new week.
+
+    Division Two does well at a cross-division open night; Kit Ormond, on no Players sheet, played
+    mostly in Three before and mostly in Two this week, so his home division changes; Uma Vance plays
+    for the first time (not published before: corrections 0, R0 her prior mean given Three's level).
+    """
+    one = ["Ann Holt", "Bea Marsh", "Cal Penn", "Dee Varga", "Ross Kell"]
+    two = ["Fay Dunn", "Gus Orme", "Hal Ives", "Ida Lowe", "Jon Pike"]
+    three = ["Lea Quinn", "Max Rudd", "Ned Sole", "Ola Tate", "Pia Ueda"]
+    mover, newcomer = "Kit Ormond", "Uma Vance"
+    old = round_robin(one, START, "One", (5, 3)) + round_robin(two, START + DAY, "Two", (5, 4))
+    old += round_robin(three, START + 2 * DAY, "Three", (5, 2))
+    old += round_robin(one[::-1], START + 14 * DAY, "One", (5, 4)) + round_robin(two[::-1], START + 15 * DAY, "Two", (5, 2))
+    old += [Result(START + 7 * DAY, a, b, 5, 4, "", "Cup") for a, b in zip(one, two)]
+    old += [Result(START + 8 * DAY, a, b, 5, 3, "", "Cup") for a, b in zip(two, three)]
+    old += [Result(START + 9 * DAY, mover, o, 5, 4, "Three") for o in three[:3]]
+    night = START + 30 * DAY
+    new = [Result(night, b, a, 5, 2, "", "Open night") for a in one for b in two[:3]]
+    new += [Result(night + DAY, mover, o, 3, 5, "Two") for o in two]
+    new += [Result(night + DAY, newcomer, "Lea Quinn", 5, 1, "Three")]
+    fixed = list(old)
+    fixed[0] = replace(old[0], games_a=2, games_b=5)  # Ann Holt v Bea Marsh was entered the wrong way round
+    players = ([Player(p, "One") for p in one] + [Player(p, "Two") for p in two]
+               + [Player(p, "Three", starting=1400.0 if p == "Pia Ueda" else None) for p in three])
+    return old, fixed, fixed + new, players, mover, newcomer
+
+
+@pytest.mark.parametrize("division_spread", [100.0, 0.0], ids=["levels", "one pool"])
+def test_each_part_equals_its_own_definition(division_spread):
+    old, d0, d1, players, mover, newcomer = tiered_weeks()
+    settings = Settings(half_life_days=60.0, division_spread=division_spread)
+    published = publish(old, settings, players)
+    b = explain_changes(d1, published, settings, players)
+    ppl = settings.scale / LN10
+
+    t0, t1 = max(r.date for r in d0), max(r.date for r in d1)
+    fit0 = fit_league(d0, settings, players=players, reference_date=t0)  # R0: D0 alone, from scratch
+    fit1 = fit_league(d1, settings, players=players)
+    assert fit0.division(mover) == "Three" and fit1.division(mover) == "Two"
+
+    def prior_mean(name):  # starting rating, else the centre, in log-odds
+        start = {p.name: p.starting for p in players if p.starting is not None}.get(name)
+        return 0.0 if start is None else (start - settings.centre) * LN10 / settings.scale
+
+    names = list(b.names)
+    L0 = dict(zip(fit0.group_names, fit0.level))
+    L1 = dict(zip(fit1.group_names, fit1.level))
+    home0 = {n: fit0.division(n) if n in fit0.names else fit1.division(n) for n in names}
+    home1 = {n: fit1.division(n) for n in names}
+    # A player with no row in D0 (the newcomer) sits at their prior mean given their division's level.
+    r0 = {n: float(fit0.r[fit0.index(n)]) if n in fit0.names else prior_mean(n) + L0[home1[n]] for n in names}
+    r1 = {n: fit1.r[fit1.index(n)] for n in names}
+    if division_spread:
+        shifted = {n: r0[n] - L0[home0[n]] + L1[home1[n]] for n in names}  # every deviation frozen
+    else:  # one pool: each division moves by its players' mean change
+        move = {g: np.mean([r1[n] - r0[n] for n in names if home1[n] == g]) for g in fit1.group_names}
+        shifted = {n: r0[n] + move[home1[n]] for n in names}
+    br0 = {n: best_alone(d1, t1, settings, n, r0, prior_mean(n) + L0[home0[n]]) for n in names}
+    br_shifted = {n: best_alone(d1, t1, settings, n, shifted, prior_mean(n) + L1[home1[n]]) for n in names}
+    br1 = {n: best_alone(d1, t1, settings, n, r1, prior_mean(n) + L1[home1[n]]) for n in names}
+
+    # Measured: the parts agree to 5e-9 log-odds (R0's warm start against a fit from scratch), and
+    # BR(R1) = R1 to 3e-15.
+    for k, n in enumerate(names):
+        was = published.ratings.get(n)
+        p = r0[n] if was is None else (was - settings.centre) * LN10 / settings.scale
+        assert b.corrections_r[k] == pytest.approx(r0[n] - p, abs=2e-8), n
+        assert b.own_r[k] == pytest.approx(br0[n] - r0[n], abs=2e-8), n
+        assert b.group_r[k] == pytest.approx(br_shifted[n] - br0[n], abs=2e-8), n
+        assert b.opponents_r[k] == pytest.approx(br1[n] - br_shifted[n], abs=2e-8), n
+        assert br1[n] == pytest.approx(r1[n], abs=1e-12)  # R1 is everyone's best response to R1
+    # The scenario moves every part somewhere, so none of the checks above is empty.
+    for part in (b.corrections_r, b.own_r, b.group_r, b.opponents_r):
+        assert np.abs(part).max() * ppl > 2
+    k = names.index(mover)
+    if division_spread:  # the mover's group part is Two's new level against Three's old one
+        assert b.group_r[k] * ppl > 5 and L1["Two"] - L0["Three"] > 0
+    assert newcomer not in published.ratings and b.corrections_r[names.index(newcomer)] == 0.0
