@@ -1,4 +1,4 @@
-"""Why every rating changed: the exact four-part breakdown (model.md, section 2).
+"""Why every rating changed: the exact four-part breakdown (docs/model.md, section 2).
 
 With ``D0`` = last update's rows as they stand now, ``D1`` = every rated row
 now, ``t0``/``t1`` their reference dates and ``P`` the published ratings
@@ -7,13 +7,21 @@ now, ``t0``/``t1`` their reference dates and ``P`` the published ratings
     R0 = solve(D0, t0)  and  R1 = solve(D1, t1)       (both with today's settings)
     corrections = R0 - P
     own         = BR(R0, D1, t1) - R0
-    group       = BR(R0 + d_group, D1, t1) - BR(R0, D1, t1),  d_g = mean_{j in g} (R1_j - R0_j)
+    group       = BR(R0 + d, D1, t1) - BR(R0, D1, t1)
     opponents   = R1 - R0 - own - group
 
 so ``R1 - P = corrections + own + opponents + group`` holds exactly (the
-opponents part is the remainder).  ``BR_i(x, D, t)`` is player i's best
-strength with every other player frozen at ``x``: a one-dimensional convex
-problem, solved for all players at once (``best_response``).
+opponents part is the remainder; since ``BR(R1, D1, t1) = R1`` it is also
+``BR(R1) - BR(R0 + d)``, what the others' own re-rating did).  ``BR_i(x, D, t)``
+is player i's best strength with every other player frozen at ``x``: a
+one-dimensional convex problem, solved for all players at once
+(``best_response``).  The shift ``d_j`` moves each player with their division:
+with division levels it is the change of their division's level with every
+deviation frozen, ``L1_d(j) - L0_d(j)`` (their prior mean moving with it; a
+player whose home division changed goes from the old division's ``L0`` to the
+new one's ``L1``); in one pool it is their division's mean change
+``mean_{k in g} (R1_k - R0_k)``.  ``tests/model/test_breakdown.py`` computes
+each part again from these definitions.
 
 Choices made here (the contract leaves them open):
 
@@ -22,7 +30,7 @@ Choices made here (the contract leaves them open):
   "previous" rating is their prior mean and their corrections part is 0.
   ``R0``'s fit starts from ``P`` (warm start).
 - Groups are the current fit's divisions (Players sheet, else the division
-  played most); ``d_g`` averages over every player counted in the division.
+  played most); in one pool ``d_g`` averages over every player counted in the division.
 - The first update (or a missing record) runs the same arithmetic with
   ``D0`` empty and ``P`` = the starting ratings; ``Breakdown.first_update``
   tells writers to show first ratings only.

@@ -1,4 +1,4 @@
-"""The exact four-part breakdown of every change (model.md, section 2)."""
+"""The exact four-part breakdown of every change (docs/model.md, section 2)."""
 import datetime as dt
 import random
 import re
@@ -180,7 +180,7 @@ def test_beating_expectation_raises_own_part_and_quotes_the_games():
     pc = b.player(c)
     assert pc.own > 10 and largest_part(pc) == "own"
     # Expected games from the published ratings with the standard logistic formula
-    # E = 1 / (1 + 10 ** (-D / 400)) (checks.md section 3, USCF rating system description);
+    # E = 1 / (1 + 10 ** (-D / 400)) (docs/checks.md section 3, USCF rating system description);
     # same data and settings, so the pre-week strengths equal the published ratings.
     expected = sum(
         (res.games_a + res.games_b)
@@ -346,7 +346,7 @@ def test_real_results_week_by_week():
 
 # --- each part from its own definition ---------------------------------------------------------
 #
-# model.md section 2 (copied in docs/model.md): R0 = solve(D0, t0) and R1 = solve(D1, t1) with today's
+# docs/model.md section 2: R0 = solve(D0, t0) and R1 = solve(D1, t1) with today's
 # settings; BR_i(x, D, t) is player i's best strength with everyone else frozen at x. With division
 # levels (r = L_d + u) the group part is the change of the player's division level with every
 # deviation u frozen, so "shifted" moves each player j by L1_d(j) - L0_d(j) and player i's prior mean
@@ -359,7 +359,7 @@ LN10 = np.log(10.0)
 
 
 def weight(res, t, half_life):
-    """Age weight of one row at the reference date t (model.md section 1)."""
+    """Age weight of one row at the reference date t (docs/model.md section 1)."""
     return 0.5 ** (max((t - res.date).days, 0) / half_life) if half_life else 1.0
 
 

@@ -75,7 +75,7 @@ def test_baseball_maximum_likelihood_agresti_table_10_11():
     ],
 )
 def test_baseball_map_with_gaussian_prior(alpha, expected, sd_baltimore):
-    # Source: checks.md section 1, MAP table (computed independently, prior N(0, 1/alpha)).
+    # Source: docs/checks.md section 1, MAP table (computed independently, prior N(0, 1/alpha)).
     _, pairs = baseball_pairs()
     s = 1 / np.sqrt(alpha)
     fit = fit_map(pairs, np.zeros(7), s)
@@ -96,7 +96,7 @@ def random_league(seed, n=40, m=600):
 
 
 def test_same_map_as_scikit_learn():
-    # Source: checks.md section 2 - L2 logistic regression with rows e_i - e_j, C = s^2.
+    # Source: docs/checks.md section 2 - L2 logistic regression with rows e_i - e_j, C = s^2.
     from sklearn.linear_model import LogisticRegression
 
     a, b, ga, gb, _ = random_league(3)
@@ -117,7 +117,7 @@ def test_same_map_as_scikit_learn():
 
 
 def test_same_map_as_choix():
-    # Source: checks.md section 2 - choix opt_pairwise penalty alpha * sum(r^2) = prior variance 1/(2 alpha).
+    # Source: docs/checks.md section 2 - choix opt_pairwise penalty alpha * sum(r^2) = prior variance 1/(2 alpha).
     import choix
 
     a, b, ga, gb, _ = random_league(4, n=30, m=300)
@@ -147,7 +147,7 @@ def test_gradient_and_hessian_match_finite_differences():
 
 
 def test_joint_gradient_and_hessian_with_levels_match_finite_differences():
-    # F(r, L) written here from its definition (model.md section 1, division levels), over the raw
+    # F(r, L) written here from its definition (docs/model.md section 1, division levels), over the raw
     # matches rather than the aggregated pairs: nll + |r - B L - mu|^2 / 2 s^2 + |L - m|^2 / 2 tau^2.
     # The solver's gradient (fit.gradient is the one fit_map steps with) and the joint Hessian must be
     # its derivatives, by central differences (measured: 4e-9 and 2e-9).
@@ -180,7 +180,7 @@ def test_joint_gradient_and_hessian_with_levels_match_finite_differences():
 
 
 def test_isolated_unbeaten_pair_is_held_finite_by_the_prior():
-    # Source: checks.md section 1 - solve w (1 - sigmoid(2t)) = t / s^2: w=10 -> 1.0640, w=30 -> 1.4795.
+    # Source: docs/checks.md section 1 - solve w (1 - sigmoid(2t)) = t / s^2: w=10 -> 1.0640, w=30 -> 1.4795.
     for w, expected in ((10, 1.0640), (30, 1.4795)):
         fit = fit_map(aggregate([0], [1], [w], [0], 2), np.zeros(2), 1.0)
         assert fit.r[0] == pytest.approx(expected, abs=1e-4)
@@ -195,7 +195,7 @@ def test_expected_score_on_the_400_point_scale():
 
 
 def test_rule_of_thumb_sd_after_n_games_against_equal_opponents():
-    # checks.md section 5 (derivation, Bishop 2006 eqs. 4.132-4.134): SD ~ (400/ln 10)/sqrt(n/4).
+    # docs/checks.md section 5 (derivation, Bishop 2006 eqs. 4.132-4.134): SD ~ (400/ln 10)/sqrt(n/4).
     # One player meets many equal, well-known opponents: 100 games -> ~35 points.
     n_opp = 50
     a = np.zeros(n_opp, dtype=int)

@@ -46,7 +46,7 @@ def test_every_fixture_in_plain_words(league, card):
 def test_chance_printed_matches_an_independent_race_formula(league, card):
     """A's chance at the set race: first to a before the other gets b, averaged over the posterior.
 
-    Source: checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p),
+    Source: docs/checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p),
     integrated over the difference's normal posterior by the trapezoid rule.
     """
     _, fcs = league
