@@ -59,6 +59,7 @@ from typing import Mapping, Sequence
 import numpy as np
 from scipy.special import expit
 
+from secretary.model import doubles
 from secretary.model.changes import DataChanges, all_new, compare_rows
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.pairs import Pairs, age_weights, aggregate
@@ -105,6 +106,7 @@ class PlayerChange:
     games: int = 0  # every rated game now, unweighted
     ageing: float = 0.0  # points of ``own`` that the ageing of older games alone would give (no new games)
     days_away: int | None = None  # days since the previous game: before this week's first game, or to the reference date
+    top_partners: tuple[tuple[str, float], ...] = ()  # doubles partners who moved the opponents part (not in top_opponents)
 
     @property
     def parts(self) -> tuple[float, float, float, float]:
@@ -174,13 +176,19 @@ def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 
     wins = pairs.wins_per_player()
     lost = pairs.games_per_player() - wins
     prec = 1.0 / prior_sd**2
-    lo = mu - lost / prec - 1.0
+    lo = mu - lost / prec - 1.0  # (doubles games count in full here: the bracket only widens)
     hi = mu + wins / prec + 1.0
     y = np.clip(x, lo, hi)
+    if pairs.doubles is not None:
+        wins = wins - pairs.doubles.wins_per_player()  # the singles wins; doubles slopes come from ``alone``
     for _ in range(max_iter):
         pa, pb = _alone_chances(pairs, y, x)
         g = pairs.per_player(tot * pa, tot * pb) - wins + (y - mu) * prec
         h = pairs.per_player(tot * pa * (1 - pa), tot * pb * (1 - pb)) + prec
+        if pairs.doubles is not None:
+            slope, curvature = doubles.alone(pairs.doubles, y, x)
+            g += slope
+            h += curvature
         lo = np.where(g < 0, y, lo)
         hi = np.where(g > 0, y, hi)
         y_new = y - g / h
@@ -205,12 +213,14 @@ def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     ``p = sigmoid(BR_i(x) - x_j)``, integrated along the straight path from
     ``start`` to ``end`` by Gauss-Legendre quadrature: the shares of player i
     then add up to ``BR_i(end) - BR_i(start)`` up to the quadrature error
-    (small: the path is short and smooth).  Returns ``(to_i, to_j)`` per pair:
-    what j moved i by, and what i moved j by.
+    (small: the path is short and smooth).  Returns ``(to_i, to_j, to_seat)``:
+    per pair what j moved i by and what i moved j by, and per doubles link
+    (``doubles.links``) what the partner or opponent moved the seat's player by.
     """
     delta = end - start
     to_i = np.zeros(len(pairs.i))
     to_j = np.zeros(len(pairs.i))
+    to_seat = np.zeros(0 if pairs.doubles is None else 12 * len(pairs.doubles))
     nodes, weights = np.polynomial.legendre.leggauss(GAUSS_NODES)
     for node, weight in zip((nodes + 1) / 2, weights / 2):
         x = start + node * delta
@@ -219,16 +229,25 @@ def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
         ha = pairs.total * pa * (1 - pa)
         hb = pairs.total * pb * (1 - pb)
         curv = pairs.per_player(ha, hb) + 1.0 / prior_sd**2
+        if pairs.doubles is not None:
+            curv += doubles.alone(pairs.doubles, y, x)[1]
+            to_seat += weight * doubles.link_shares(pairs.doubles, y, x, curv, delta)
         to_i += weight * ha / curv[pairs.i] * delta[pairs.j]
         to_j += weight * hb / curv[pairs.j] * delta[pairs.i]
-    return to_i, to_j
+    return to_i, to_j, to_seat
 
 
-def _top_opponents(pairs: Pairs, to_i, to_j, opponents, names) -> list[tuple[tuple[str, float], ...]]:
-    """Per player, the (up to 3) opponents that moved the opponents part most, in its direction."""
+def _top_opponents(pairs: Pairs, to_i, to_j, opponents, names, to_seat=()) -> list[tuple[tuple[str, float], ...]]:
+    """Per player, the (up to 3) opponents or doubles partners that moved the opponents part most, in its direction."""
     player = np.concatenate([pairs.i, pairs.j])
     other = np.concatenate([pairs.j, pairs.i])
     share = np.concatenate([to_i, to_j])
+    if pairs.doubles is not None:  # a player met the same partner or opponent in several rows: one sum each
+        _, seat_player, seat_other, _ = doubles.links(pairs.doubles)
+        player, other = np.concatenate([player, seat_player]), np.concatenate([other, seat_other])
+        key, where = np.unique(player * len(names) + other, return_inverse=True)
+        share = np.bincount(where.ravel(), np.concatenate([share, to_seat]), len(key))
+        player, other = key // len(names), key % len(names)
     # Only movers in the part's own direction explain it; sort each player's by size.
     keep = np.sign(share) == np.sign(opponents[player])
     player, other, share = player[keep], other[keep], share[keep]
@@ -243,6 +262,17 @@ def _top_opponents(pairs: Pairs, to_i, to_j, opponents, names) -> list[tuple[tup
             top = [t for t in top if abs(t[1]) >= OPPONENT_SHARE * abs(top[0][1])]
         out.append(tuple(top))
     return out
+
+
+def _split_partners(pairs: Pairs, top, names):
+    """Per player, ``(opponents, partners)``: the movers split by whether they ever partnered the player."""
+    if pairs.doubles is None:
+        return [(movers, ()) for movers in top]
+    _, player, other, partner = doubles.links(pairs.doubles)
+    partnered = set(zip(player[partner].tolist(), other[partner].tolist()))
+    index = {name: k for k, name in enumerate(names)}
+    return [(tuple(m for m in movers if (k, index[m[0]]) not in partnered),
+             tuple(m for m in movers if (k, index[m[0]]) in partnered)) for k, movers in enumerate(top)]
 
 
 def shown_round(value: float) -> int:
@@ -288,22 +318,27 @@ def _rows_pairs(rows: Sequence[Result], index: Mapping[str, int], reference_date
     ga = np.array([res.games_a for res in rows], dtype=float)
     gb = np.array([res.games_b for res in rows], dtype=float)
     age = np.array([max((reference_date - res.date).days, 0) if half_life_days else 0 for res in rows], dtype=float)
-    return aggregate(a, b, ga, gb, len(index), age_weights(age, half_life_days))
+    partner_a = np.array([index[res.partner_a] if res.is_doubles else -1 for res in rows], dtype=np.int64)
+    partner_b = np.array([index[res.partner_b] if res.is_doubles else -1 for res in rows], dtype=np.int64)
+    return aggregate(a, b, ga, gb, len(index), age_weights(age, half_life_days), partner_a, partner_b)
 
 
 def _week_games(rows: Sequence[Result], index: Mapping[str, int], r0):
     """This update's new games per player (unweighted): played, won, and expected at the strengths ``r0``."""
     week = _rows_pairs(rows, index)
-    return week.games_per_player(), week.wins_per_player(), week.expected_wins(expit(week.difference(r0)))
+    expected = week.expected_wins(expit(week.difference(r0)))
+    if week.doubles is not None:
+        expected += doubles.expected_wins(week.doubles, r0)
+    return week.games_per_player(), week.wins_per_player(), expected
 
 
 def _group_events(new_rows: Sequence[Result], home: Mapping[str, str]) -> tuple[dict[str, str], set[str]]:
     """Per division: the usual event name of its new games against other divisions, and which divisions had any."""
     events: dict[str, Counter] = {}
     for res in new_rows:
-        ga, gb = home.get(res.player_a, ""), home.get(res.player_b, "")
-        if ga != gb and not res.void:
-            for g in (ga, gb):
+        met = {home.get(name, "") for name in res.players}
+        if len(met) > 1 and not res.void:
+            for g in sorted(met):
                 events.setdefault(g, Counter())[res.event.strip()] += 1
     named = {g: next((e for e, _ in c.most_common() if e), "") for g, c in events.items()}
     return named, set(events)
@@ -349,7 +384,7 @@ def _before(results_now: Sequence[Result], published: PublishedState | None, set
     if previous:
         # Last update's rows with their own home divisions (so unchanged rows give P again); a player
         # with no row among them is placed where the current fit places them.
-        seen = {name for res in previous for name in (res.player_a, res.player_b)}
+        seen = {name for res in previous for name in res.players}
         fit0 = fit_league(
             previous, settings, players=_order_players(fit1, players), reference_date=published.reference_date,
             start=dict(zip(names, p)), with_uncertainty=False, starting_levels=fit1.starting_levels(),
@@ -415,7 +450,7 @@ def _activity(previous: Sequence[Result], new: Sequence[Result], index: Mapping[
     first_new: dict[str, dt.date] = {}
     for rows, book, pick in ((previous, last_before, max), (new, first_new, min)):
         for res in rows:
-            for name in (res.player_a, res.player_b):
+            for name in res.players:
                 played_all[index[name]] += res.games_a + res.games_b
                 book[name] = pick(book.get(name, res.date), res.date)
     return played_all, last_before, first_new
@@ -457,7 +492,8 @@ def _player_changes(fit1: LeagueFit, before: _Before, parts: _Parts, published, 
             name=name, division=home[name], before=start, after=after, change=after - start,
             own=values[0], opponents=values[1], group=values[2], corrections=values[3],
             shown=displayed_parts(start, after, values), new_games=int(new_played[k]), new_won=int(new_won[k]),
-            new_expected=float(new_expected[k]), played=played, is_new=not was, top_opponents=top[k],
+            new_expected=float(new_expected[k]), played=played, is_new=not was, top_opponents=top[k][0],
+            top_partners=top[k][1],
             sentence="", games=int(played_all[k]), ageing=float(parts.ageing[k] * ppl),
             days_away=_days_away(name, played, last_before, first_new, t1),
         )
@@ -496,8 +532,9 @@ def explain_changes(
     ppl = points_per_logodds(settings.scale)
     before = _before(results_now, published, settings, players, fit1)
     parts = _parts(fit1, before, settings, index)
-    to_i, to_j = opponent_shares(fit1.pairs, parts.shifted, fit1.r, parts.shifted_mean, fit1.prior_sd)
-    top = _top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names)
+    to_i, to_j, to_seat = opponent_shares(fit1.pairs, parts.shifted, fit1.r, parts.shifted_mean, fit1.prior_sd)
+    top = _top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names, to_seat * ppl)
+    top = _split_partners(fit1.pairs, top, names)
     out, played_all = _player_changes(fit1, before, parts, published, settings, top)
     published_ratings = published.ratings if published is not None else {}
     removed_players = tuple(

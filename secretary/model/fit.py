@@ -30,6 +30,15 @@ Newton step eliminates it exactly and solves the Schur complement
 over the players, by dense Cholesky or preconditioned CG as without levels.
 ``tau = 0`` fixes every level at ``m_d``: that is the one-pool model with prior
 means ``mu + B m`` and is fitted as such.
+
+Doubles (``Pairs.doubles``): a side's strength is the mean of its players'
+strengths, ``d = x . r`` with ``x = (e_a0 + e_a1 - e_b0 - e_b1) / 2``; each pair
+of sides adds ``n p (1 - p) x x^T`` to ``H``.  ``x x^T`` is a Laplacian with
+weight ``1/4`` between opponents and ``-1/4`` between partners, so ``H`` keeps
+the pattern of a graph (the union of singles pairs and doubles edges), stays
+sparse and positive definite, and every solver path is unchanged.  The
+per-row curvatures are the singles pairs' followed by the pairs of sides'
+(``pair_curvature``); ``LaplacianPattern`` folds them onto the edges.
 """
 from __future__ import annotations
 
@@ -39,7 +48,7 @@ from functools import cached_property
 import numpy as np
 import scipy.linalg as sla
 import scipy.sparse as sp
-from scipy.special import log_expit
+from scipy.special import expit, log_expit
 
 from secretary.errors import FitFailed
 from secretary.model.pairs import Pairs
@@ -108,6 +117,9 @@ def objective(pairs: Pairs, x, prior_mean, prior_sd: float, levels: Levels | Non
     r = np.asarray(x, dtype=float)[:n]
     d = pairs.difference(r)
     nll = -(pairs.won_i @ log_expit(d) + pairs.won_j @ log_expit(-d))
+    if pairs.doubles is not None:
+        dd = pairs.doubles.difference(r)
+        nll -= pairs.doubles.won_a @ log_expit(dd) + pairs.doubles.won_b @ log_expit(-dd)
     if levels is None:
         return float(nll + np.sum((r - prior_mean) ** 2) / (2.0 * prior_sd**2))
     level = np.asarray(x, dtype=float)[n:]
@@ -138,10 +150,17 @@ def gradient_and_curvature(pairs: Pairs, x, prior_mean, prior_sd: float, levels:
     return np.concatenate([grad, (level - levels.mean) / levels.sd**2 - pull]), h
 
 
+def doubles_terms(doubles, r) -> tuple[np.ndarray, np.ndarray]:
+    """The doubles games' part of ``dF/dr`` and each pair of sides' curvature ``n p (1 - p)``."""
+    p = expit(doubles.difference(r))
+    return doubles.per_player_difference(doubles.total * p - doubles.won_a), doubles.total * p * (1.0 - p)
+
+
 def pair_curvature(pairs: Pairs, r) -> np.ndarray:
-    """``n_ij p (1 - p)`` per pair: the pair's weight in the Hessian's Laplacian."""
+    """``n_ij p (1 - p)`` per pair (then per pair of doubles sides): the weights ``LaplacianPattern`` takes."""
     p = pair_chance(pairs, r)
-    return pairs.total * p * (1.0 - p)
+    h = pairs.total * p * (1.0 - p)
+    return h if pairs.doubles is None else np.concatenate([h, doubles_terms(pairs.doubles, r)[1]])
 
 
 class LaplacianPattern:
@@ -156,19 +175,41 @@ class LaplacianPattern:
         n = pairs.n_players
         self.n = n
         self.pairs = pairs
-        key = pairs.i.astype(np.int64) * max(n, 1) + pairs.j
+        self.i, self.j, self.fold = pairs.i, pairs.j, None
+        if pairs.doubles is not None:
+            self._add_doubles(pairs)
+        key = self.i.astype(np.int64) * max(n, 1) + self.j
         self.order = None if np.all(key[1:] >= key[:-1]) else np.argsort(key, kind="stable")
-        rows = pairs.i if self.order is None else pairs.i[self.order]
-        self.indices = (pairs.j if self.order is None else pairs.j[self.order]).astype(np.int32)
+        rows = self.i if self.order is None else self.i[self.order]
+        self.indices = (self.j if self.order is None else self.j[self.order]).astype(np.int32)
         self.indptr = np.concatenate([[0], np.cumsum(np.bincount(rows, minlength=n))]).astype(np.int32)
+
+    def _add_doubles(self, pairs: Pairs) -> None:
+        """Edges = singles pairs and doubles edges merged; ``fold`` sums row weights onto them."""
+        n, m = self.n, len(pairs.i)
+        row, i, j, c = pairs.doubles.edges()
+        key = np.concatenate([pairs.i.astype(np.int64) * n + pairs.j, np.minimum(i, j).astype(np.int64) * n
+                              + np.maximum(i, j)])
+        keys, edge = np.unique(key, return_inverse=True)
+        self.i, self.j = keys // n, keys % n
+        self.fold = (edge.ravel(), np.concatenate([np.arange(m), m + row]), np.concatenate([np.ones(m), c]))
+
+    def weights(self, h) -> np.ndarray:
+        """Each edge's weight in the Laplacian from the per-row curvatures ``h`` (``pair_curvature``)."""
+        if self.fold is None:
+            return h
+        edge, source, coefficient = self.fold
+        return np.bincount(edge, coefficient * np.asarray(h)[source], len(self.i))
 
     def diagonal(self, h, prior_sd: float) -> np.ndarray:
         """``diag(H)``: each player's summed pair weights plus ``1 / sd^2``."""
-        return self.pairs.per_player(h) + 1.0 / prior_sd**2
+        n, w = self.n, self.weights(h)
+        return np.bincount(self.i, w, n) + np.bincount(self.j, w, n) + 1.0 / prior_sd**2
 
     def upper(self, h) -> sp.csr_matrix:
         """The strictly upper triangle ``U`` of ``H`` for pair weights ``h``."""
-        values = -h if self.order is None else -h[self.order]
+        w = self.weights(h)
+        values = -w if self.order is None else -w[self.order]
         return sp.csr_matrix((values, self.indices, self.indptr), shape=(self.n, self.n))
 
     def matvec(self, h, diag):
@@ -180,8 +221,9 @@ class LaplacianPattern:
     def dense(self, h, prior_sd: float) -> np.ndarray:
         """``H`` as a dense array (small leagues: cheaper than building the sparse matrix first)."""
         H = np.zeros((self.n, self.n))
-        H[self.pairs.i, self.pairs.j] = -h  # pairs are distinct, so plain assignment is exact
-        H[self.pairs.j, self.pairs.i] = -h
+        w = self.weights(h)
+        H[self.i, self.j] = -w  # edges are distinct, so plain assignment is exact
+        H[self.j, self.i] = -w
         H[np.diag_indices(self.n)] = self.diagonal(h, prior_sd)
         return H
 
@@ -229,6 +271,10 @@ def _player_gradient_and_curvature(pairs: Pairs, r, mu, prior_sd: float):
     np.subtract(1.0, p, out=g)
     g *= p
     g *= total
+    if pairs.doubles is not None:
+        grad_doubles, h_doubles = doubles_terms(pairs.doubles, r)
+        grad += grad_doubles
+        g = np.concatenate([g, h_doubles])
     return grad, g
 
 

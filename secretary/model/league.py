@@ -78,6 +78,16 @@ class LeagueFit:
         """Age-weighted games won per player."""
         return self.pairs.wins_per_player()
 
+    @property
+    def doubles_games(self) -> np.ndarray:
+        """Age-weighted doubles games played per player (included in ``games``)."""
+        return self.pairs.doubles_games_per_player()
+
+    def side_strength(self, side) -> float:
+        """A side's strength in log-odds: one player's, or the mean of two players' (doubles)."""
+        names = (side,) if isinstance(side, str) else tuple(side)
+        return float(np.mean([self.r[self.index(name)] for name in names]))
+
     def index(self, name: str) -> int:
         """Position of ``name`` in ``names``; KeyError if not rated."""
         try:
@@ -146,7 +156,7 @@ def _placed(matches: Matches, players: Sequence[Player], home: Mapping[str, str]
     """Each player's (home division, the rule that placed them: one of ``HOME_RULES``)."""
     given = {p.name for p in players if p.division}
     played = np.zeros(len(matches.names), dtype=bool)
-    played[matches.idx_a] = played[matches.idx_b] = True
+    played[matches.seats()[0]] = True
     placed = [(division, HOME_RULES[0] if name in given else HOME_RULES[1] if was else HOME_RULES[2])
               for name, division, was in zip(matches.names, home_divisions(matches, players), played.tolist())]
     if home:
@@ -158,7 +168,7 @@ def _weighted_pairs(matches: Matches, reference_date: dt.date | None, half_life_
     """The matches' games per pair, each weighted by its age from ``reference_date`` (never negative)."""
     age = (reference_date.toordinal() - matches.day).astype(float) if len(matches) else np.zeros(0)
     return aggregate(matches.idx_a, matches.idx_b, matches.games_a, matches.games_b, len(matches.names),
-                     age_weights(np.maximum(age, 0.0), half_life_days))
+                     age_weights(np.maximum(age, 0.0), half_life_days), matches.partner_a, matches.partner_b)
 
 
 def _prior_means(order: Sequence[str], players: Sequence[Player], settings: Settings) -> np.ndarray:

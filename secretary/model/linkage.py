@@ -21,6 +21,7 @@ import numpy as np
 from scipy.special import expit
 
 from secretary.model.contrasts import against_the_rest, average_contrasts, division_contrasts, posterior_solver
+from secretary.model.doubles import expected_wins
 from secretary.model.linking_matches import LinkingMatch, expected_race_games, suggest_matches
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
@@ -202,15 +203,14 @@ def _recent_cross_games(fit, results: Iterable[Result]) -> np.ndarray:
     half_life = fit.settings.half_life_days
     lookup = {name: k for k, name in enumerate(fit.names)}
     for res in results:
-        if res.void or res.player_a not in lookup or res.player_b not in lookup:
+        if res.void or any(name not in lookup for name in res.players):
             continue
         if half_life and fit.reference_date and (fit.reference_date - res.date).days > half_life:
             continue
-        ga, gb = fit.group[lookup[res.player_a]], fit.group[lookup[res.player_b]]
-        if ga != gb:
-            games = int(round(res.games_a + res.games_b))
-            counts[ga] += games
-            counts[gb] += games
+        sides = [sorted(int(fit.group[lookup[name]]) for name in side) for side in (res.side_a, res.side_b)]
+        if sides[0] != sides[1]:  # the sides' divisions differ: the game compares division levels
+            for g in set(sides[0] + sides[1]):
+                counts[g] += int(round(res.games_a + res.games_b))
     return counts
 
 
@@ -220,7 +220,24 @@ def _cross_games(fit) -> tuple[np.ndarray, np.ndarray]:
     cross = (pairs.difference(fit.group) != 0) & (pairs.total > 0)
     t = np.where(cross, pairs.total, 0.0)
     per_player = pairs.per_player(t)
-    return np.bincount(fit.group, per_player, n_groups), per_player
+    per_division = np.bincount(fit.group, per_player, n_groups)
+    if pairs.doubles is not None:
+        division, player = _doubles_cross_games(fit)
+        per_division, per_player = per_division + division, per_player + player
+    return per_division, per_player
+
+
+def _doubles_cross_games(fit) -> tuple[np.ndarray, np.ndarray]:
+    """Doubles games whose two sides' divisions differ (a side of North and South against two of North links
+    them; North and South against North and South does not), per division present and per player in them."""
+    table, n_groups = fit.pairs.doubles, len(fit.group_names)
+    side_a, side_b = np.sort(fit.group[table.a], axis=1), np.sort(fit.group[table.b], axis=1)
+    cross = np.any(side_a != side_b, axis=1) & (table.total > 0)
+    t = np.where(cross, table.total, 0.0)
+    groups = np.column_stack([side_a, side_b])
+    present = np.zeros((len(t), n_groups), dtype=bool)
+    present[np.repeat(np.arange(len(t)), 4), groups.ravel()] = True
+    return present.T.astype(float) @ t, table.per_player(t, t)
 
 
 def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[DivisionLink]:
@@ -309,11 +326,15 @@ def _pools(fit, solver) -> list[Pool]:
     for col, k in enumerate(separate):
         idx = np.flatnonzero(pool == k)
         inner = (pool[pairs.i] == k) & (pool[pairs.j] == k)
+        games = float(pairs.total[inner].sum())
+        if pairs.doubles is not None:  # a pool's doubles games have all four players in it
+            games += float(pairs.doubles.total[np.all(pool[np.column_stack([pairs.doubles.a, pairs.doubles.b])] == k,
+                                                      axis=1)].sum())
         names = tuple(fit.names[x] for x in idx)
         out.append(Pool(
             players=names,
             divisions=tuple(sorted({fit.group_names[fit.group[x]] for x in idx})),
-            games=float(pairs.total[inner].sum()),
+            games=games,
             level_sd=float(np.sqrt(max(var[col], 0.0)) * ppl),
             what_to_do=pool_todo(names),
         ))
@@ -329,11 +350,19 @@ def surplus(fit, h: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
     ``expected = sum w p``; ``z = (won - expected) / sqrt(L_ii)``; ``held = (won - expected) / L_ii``
     in points, ``L_ii = sum_pairs n p (1 - p)`` (the likelihood's curvature; 0 for no games).
+    A doubles game counts in full in ``expected``; in the pull (the gradient's data part) and in
+    ``L_ii`` with the player's coefficient in ``x``: ``(won - expected) / 2`` and ``n p (1 - p) / 4``.
     """
     pairs = fit.pairs
     expected = pairs.expected_wins(expit(pairs.difference(fit.r)))
-    L = pairs.per_player(h)
+    m = len(pairs.i)
+    L = pairs.per_player(h[:m])
     pull = fit.wins - expected
+    if pairs.doubles is not None:
+        doubles_expected = expected_wins(pairs.doubles, fit.r)
+        expected = expected + doubles_expected
+        pull = pull - 0.5 * (pairs.doubles.wins_per_player() + doubles_expected)
+        L = L + pairs.doubles.per_player(0.25 * h[m:], 0.25 * h[m:])
     with np.errstate(invalid="ignore", divide="ignore"):
         z = np.where(L > 0, pull / np.sqrt(L), 0.0)
         held = np.where(L > 0, pull / L, 0.0) * points_per_logodds(fit.settings.scale)

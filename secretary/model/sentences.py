@@ -97,6 +97,9 @@ def _own(pc: "PlayerChange", points: int, context: Context) -> str:
 
 
 def _opponents(pc: "PlayerChange", points: int) -> str:
+    partners = getattr(pc, "top_partners", ())
+    if partners and (not pc.top_opponents or abs(partners[0][1]) >= abs(pc.top_opponents[0][1])):
+        return _partners(partners, points)
     who = "Players you met earlier" if not pc.played else "Players you have met"
     if pc.top_opponents:
         who += f" ({_names(pc.top_opponents)})"
@@ -104,6 +107,16 @@ def _opponents(pc: "PlayerChange", points: int) -> str:
     much = "a bit " if abs(points) < 10 else ""
     more = "more" if points > 0 else "less"
     return f"{who} did {how} elsewhere, so your results against them count for {much}{more}: {signed(points)}."
+
+
+def _partners(partners, points: int) -> str:
+    """A partner re-rated up takes a larger share of the side's wins: you move the other way."""
+    who = "Your doubles partner" if len(partners) == 1 else "Your doubles partners"
+    how = "worse" if points > 0 else "better"
+    much = "a bit " if abs(points) < 10 else ""
+    more = "more" if points > 0 else "less"
+    return (f"{who} {_names(partners)} did {how} elsewhere, so your doubles results together "
+            f"count for {much}{more} for you: {signed(points)}.")
 
 
 def _group(pc: "PlayerChange", points: int, context: Context) -> str:

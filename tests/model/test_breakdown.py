@@ -315,7 +315,7 @@ def test_opponent_shares_add_up_to_the_opponents_part():
     b = explain_changes(old + new, publish(old), Settings(), current=fit)
     r0 = b.before_r + b.corrections_r
     shifted = b.after_r - b.own_r - b.opponents_r - b.group_r + (b.after_r - r0).mean()  # one division
-    to_i, to_j = opponent_shares(fit.pairs, shifted, b.after_r, fit.prior_mean, fit.prior_sd)
+    to_i, to_j, _ = opponent_shares(fit.pairs, shifted, b.after_r, fit.prior_mean, fit.prior_sd)
     n = len(fit.names)
     total = np.bincount(fit.pairs.i, to_i, n) + np.bincount(fit.pairs.j, to_j, n)
     assert np.abs(b.opponents_r).max() > 0.01  # the check below is not empty
