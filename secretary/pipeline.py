@@ -97,10 +97,16 @@ def handicap_pdf_path(path: str | Path) -> Path:
 
 
 def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRating, ...]:
+    """The players with a rated game now, rated; a player with none (listed on Players only, or whose
+    results were all removed) is not published: one state per player, never ranked at a starting rating
+    and listed as no longer rated at once."""
     by_name = {c.name: c for c in breakdown.players}
     games, wins, ratings, sds = fit.games, fit.wins, fit.ratings, fit.sds
+    unrated = set(fit.diagnosis.no_games.tolist())
     out = []
     for k, name in enumerate(fit.names):
+        if k in unrated:
+            continue
         change = by_name.get(name)
         is_new = breakdown.first_update or change is None or change.is_new
         out.append(PlayerRating(
@@ -108,6 +114,15 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
             games=float(games[k]), wins=float(wins[k]), last_played=fit.last_played[k],
             change=None if is_new else float(change.change), is_new=is_new))
     return tuple(out)
+
+
+def _notes(fit: LeagueFit, breakdown: Breakdown) -> tuple[str, ...]:
+    """The pre-fit diagnosis in league words; a player whose rated games were all removed is named once,
+    as no longer rated (the Why it changed sheet), not also as having no games yet."""
+    gone = {name for name, _ in breakdown.removed_players}
+    none = fit.diagnosis.no_games
+    yet = none[[fit.names[k] not in gone for k in none.tolist()]] if len(none) else none
+    return tuple(describe(replace(fit.diagnosis, no_games=yet), fit.names))
 
 
 def starting_levels(book: LeagueBook) -> dict[str, float]:
@@ -248,7 +263,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + tuple(n for n in (advice, clash) if n))
+        forecasts=forecasts, log=log, notes=_notes(fit, breakdown) + tuple(n for n in (advice, clash) if n))
 
 
 def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):
@@ -361,7 +376,7 @@ def _outcome(path: Path, pub: Published, *, reason: str, unchanged: bool = False
         book=pub.book, fit=pub.fit, ratings=pub.ratings, breakdown=pub.breakdown,
         watch=watch_list(pub.fit, pub.book.results), forecasts=forecast_fixtures(pub.book.fixtures, pub.fit),
         log=_update_log(pub.book, pub.fit, pub.breakdown, pub.book.state.updated_at),
-        notes=tuple(describe(pub.fit.diagnosis, pub.fit.names)) + tuple(
+        notes=_notes(pub.fit, pub.breakdown) + tuple(
             a for a in (tune_advice(pub.book.state.tune_check, pub.book.settings, path.name),) if a))
 
 
