@@ -8,16 +8,8 @@ from scipy.special import expit
 
 from secretary.model.fit import hessian, pair_curvature
 from secretary.model.league import fit_league
-from secretary.model.linkage import (
-    HELD_SHOWN,
-    HessianSolver,
-    average_contrasts,
-    division_contrasts,
-    level_vectors,
-    posterior_solver,
-    surplus,
-    watch_list,
-)
+from secretary.model.contrasts import HessianSolver, average_contrasts, division_contrasts, level_vectors, posterior_solver
+from secretary.model.linkage import HELD_SHOWN, surplus, watch_list
 from secretary.model.linking_matches import expected_race_games
 from secretary.model.records import Player, Result, Settings
 from secretary.model.scale import points_per_logodds
