@@ -28,6 +28,8 @@ from secretary.model.tune import Tuning, check_tuning, tune, tune_advice, tune_d
 from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
+from secretary.report.layout import fonts
+from secretary.report.scripts import unprintable
 from secretary.report.notice import write_notice_pdf
 from secretary.workbook import fidelity, graft, save, schema, state, toolsheets
 from secretary.workbook.fixtures_sheet import write_fixture_columns
@@ -259,11 +261,26 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
         pdf, card, failed = _printouts(written, breakdown, ratings, settings, watch, forecasts)
         reason += failed
+    unprinted = unprinted_note(ratings, forecasts) if pdf or card else None
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, notes=_notes(fit, breakdown) + tuple(n for n in (advice, clash) if n))
+        forecasts=forecasts, log=log,
+        notes=_notes(fit, breakdown) + tuple(n for n in (advice, clash, unprinted) if n))
+
+
+def unprinted_note(ratings, forecasts=()) -> str | None:
+    """Which names the PDFs could not print in their own script, in plain words (None when all could)."""
+    names = [p.name for p in ratings] + [n for fc in forecasts for n in (fc.fixture.player_a, fc.fixture.player_b)]
+    missing = unprintable(names, fonts()[0])
+    if not missing:
+        return None
+    shown = ", ".join(missing[:10]) + (f" and {len(missing) - 10} more" if len(missing) > 10 else "")
+    return (f"The printouts could not show {len(missing)} name(s) in their own script, so letters there print "
+            f"as '?': {shown}. Either no font on this computer has their letters (installing one that does, "
+            "such as a Noto font for that script, fixes it) or the script needs text shaping (Arabic, Hebrew, "
+            "the Indic scripts, Thai ...), which the PDF maker here does not do. The workbook shows them in full.")
 
 
 def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):

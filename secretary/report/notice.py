@@ -77,8 +77,8 @@ def parts_chart(lines: Sequence[NoticeLine], width: float) -> Drawing:
     for k, line in enumerate(lines):
         y = top - (k + 1) * ROW_HEIGHT + 3
         bar_h = ROW_HEIGHT - 5
-        d.add(String(label_w - 4, y + 2, layout.printable(_short(line.name), regular), fontName=regular,
-                     fontSize=8, textAnchor="end", fillColor=layout.INK))
+        label, font = layout.drawable(_short(line.name), regular)
+        d.add(String(label_w - 4, y + 2, label, fontName=font, fontSize=8, textAnchor="end", fillColor=layout.INK))
         right = left = zero
         for value, colour in zip(line.parts, PART_COLOURS):
             if value == 0:
