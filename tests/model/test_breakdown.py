@@ -8,9 +8,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings as hyp_settings, strategies as st
 
-from secretary.model.breakdown import best_response, displayed_parts, explain_changes, opponent_shares
+from secretary.model.breakdown import displayed_parts, explain_changes
 from secretary.model.league import fit_league
 from secretary.model.records import Player, PublishedState, Result, Settings, fingerprint, identity
+from secretary.model.response import best_response, opponent_shares
 from secretary.model.scale import game_chance, points_per_logodds
 
 JARGON = re.compile(r"\b(prior|map|hessian|log-?odds|bradley|terry|posterior|z-?score|logit|gradient)\b", re.I)
