@@ -182,3 +182,23 @@ def test_a_section_that_would_run_over_a_page_end_starts_a_page():
         ws2.cell(row, 1).value = "x"
         ws2.row_dimensions[row].height = 10
     assert printing.keep_sections_together(ws2, [1, 5], page=250) == []
+
+
+def test_every_page_of_a_table_sheet_starts_with_its_whole_heading_row(converted):
+    """One page wide and headings repeated: each printed page of a table sheet begins with every column heading
+    of its first row, in order (a sheet wider than its page would lose its right-hand headings)."""
+    import openpyxl
+
+    pages, _, workbook = converted
+    wb = openpyxl.load_workbook(workbook, read_only=True)
+    try:
+        headings = {sheet: [str(v) for v in next(wb[sheet].iter_rows(max_row=1, values_only=True)) if v is not None]
+                    for sheet in printing.TABLE_SHEETS if sheet in pages}
+    finally:
+        wb.close()
+    assert set(headings) == set(printing.TABLE_SHEETS)
+    for sheet, names in headings.items():
+        for number, text in enumerate(pages[sheet], start=1):
+            first = next(line for line in text.splitlines() if line.strip())
+            pattern = r"\s+".join(re.escape(n) for n in names)
+            assert re.match(rf"\s*{pattern}\s*$", first), f"{sheet} page {number} starts {first!r}"
