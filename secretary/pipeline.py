@@ -29,6 +29,8 @@ from secretary.model.tune import Tuning, check_tuning, tune, tune_advice, tune_d
 from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
+from secretary.report.layout import fonts
+from secretary.report.scripts import unprintable
 from secretary.report.notice import write_notice_pdf
 from secretary.workbook import fidelity, graft, save, schema, state, toolsheets
 from secretary.workbook.fixtures_sheet import write_fixture_columns
@@ -99,10 +101,16 @@ def handicap_pdf_path(path: str | Path) -> Path:
 
 
 def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRating, ...]:
+    """The players with a rated game now, rated; a player with none (listed on Players only, or whose
+    results were all removed) is not published: one state per player, never ranked at a starting rating
+    and listed as no longer rated at once."""
     by_name = {c.name: c for c in breakdown.players}
     games, wins, ratings, sds = fit.games, fit.wins, fit.ratings, fit.sds
+    unrated = set(fit.diagnosis.no_games.tolist())
     out = []
     for k, name in enumerate(fit.names):
+        if k in unrated:
+            continue
         change = by_name.get(name)
         is_new = breakdown.first_update or change is None or change.is_new
         out.append(PlayerRating(
@@ -111,6 +119,15 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
             change=None if is_new else float(change.change), is_new=is_new,
             division_from=fit.home_rule[k] if fit.home_rule else ""))
     return tuple(out)
+
+
+def _notes(fit: LeagueFit, breakdown: Breakdown) -> tuple[str, ...]:
+    """The pre-fit diagnosis in league words; a player whose rated games were all removed is named once,
+    as no longer rated (the Why it changed sheet), not also as having no games yet."""
+    gone = {name for name, _ in breakdown.removed_players}
+    none = fit.diagnosis.no_games
+    yet = none[[fit.names[k] not in gone for k in none.tolist()]] if len(none) else none
+    return tuple(describe(replace(fit.diagnosis, no_games=yet), fit.names))
 
 
 def starting_levels(book: LeagueBook) -> dict[str, float]:
@@ -226,7 +243,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     write_problems(wb, book.warnings)
     set_up_printing(wb, settings)
     if book.fixtures and not companion and not graft_it:
-        write_fixture_columns(wb, forecasts, settings)
+        write_fixture_columns(wb, forecasts, settings, latest=fit.reference_date)
     state.write_state(wb, PublishedState(
         updated_at=stamp, reference_date=log.reference_date,
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
@@ -248,11 +265,26 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
         pdf, card, failed = _printouts(written, breakdown, ratings, settings, watch, forecasts, levels)
         reason += failed
+    unprinted = unprinted_note(ratings, forecasts) if pdf or card else None
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, levels=levels, notes=tuple(describe(fit.diagnosis, fit.names)) + tuple(n for n in (advice, clash) if n))
+        forecasts=forecasts, log=log, levels=levels,
+        notes=_notes(fit, breakdown) + tuple(n for n in (advice, clash, unprinted) if n))
+
+
+def unprinted_note(ratings, forecasts=()) -> str | None:
+    """Which names the PDFs could not print in their own script, in plain words (None when all could)."""
+    names = [p.name for p in ratings] + [n for fc in forecasts for n in (fc.fixture.player_a, fc.fixture.player_b)]
+    missing = unprintable(names, fonts()[0])
+    if not missing:
+        return None
+    shown = ", ".join(missing[:10]) + (f" and {len(missing) - 10} more" if len(missing) > 10 else "")
+    return (f"The printouts could not show {len(missing)} name(s) in their own script, so letters there print "
+            f"as '?': {shown}. Either no font on this computer has their letters (installing one that does, "
+            "such as a Noto font for that script, fixes it) or the script needs text shaping (Arabic, Hebrew, "
+            "the Indic scripts, Thai ...), which the PDF maker here does not do. The workbook shows them in full.")
 
 
 def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts, levels=()):
@@ -262,7 +294,8 @@ def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts, le
     try:
         pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch, levels)
         if forecasts:
-            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
+            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings,
+                                      latest=breakdown.reference_date)
     except OSError as exc:  # e.g. a PDF held open by a viewer
         return pdf, card, (f" The workbook was saved; the printouts failed because {exc.strerror or exc}. "
                            "If a PDF is open in a viewer, close it and run `secretary notice` to print the "
@@ -365,7 +398,7 @@ def _outcome(path: Path, pub: Published, *, reason: str, unchanged: bool = False
         book=pub.book, fit=pub.fit, ratings=pub.ratings, breakdown=pub.breakdown,
         watch=watch, levels=level_table(pub.fit, watch), forecasts=forecast_fixtures(pub.book.fixtures, pub.fit),
         log=_update_log(pub.book, pub.fit, pub.breakdown, pub.book.state.updated_at),
-        notes=tuple(describe(pub.fit.diagnosis, pub.fit.names)) + tuple(
+        notes=_notes(pub.fit, pub.breakdown) + tuple(
             a for a in (tune_advice(pub.book.state.tune_check, pub.book.settings, path.name),) if a))
 
 
@@ -387,9 +420,10 @@ def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | 
     written = None
     if not fidelity.unsupported_content(path):
         wb = save.load_for_update(path)
-        write_fixture_columns(wb, forecasts, pub.book.settings)
+        write_fixture_columns(wb, forecasts, pub.book.settings, latest=pub.fit.reference_date)
         written = save.save_workbook(wb, path).path
-    card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings)
+    card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings,
+                              latest=pub.fit.reference_date)
     return forecasts, written, card
 
 

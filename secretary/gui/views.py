@@ -7,7 +7,7 @@ from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
 from secretary.model.division_table import INFERRED
-from secretary.model.notice import forecast_note
+from secretary.model.notice import PAST_NOTE, fixture_note, is_past
 from secretary.model.records import HOME_RULES
 from secretary.model.sentences import naming, plural
 from secretary.workbook import schema
@@ -455,12 +455,7 @@ FIXTURE_COLUMNS = (
 )
 
 
-PAST = "past: dated before the latest results"
-
-
-def is_past(fixture_date: dt.date | None, latest: dt.date | None) -> bool:
-    """A fixture dated before the newest result is past (played, or not played on the day), not coming."""
-    return fixture_date is not None and latest is not None and fixture_date < latest
+PAST = PAST_NOTE
 
 
 def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row]:
@@ -469,7 +464,7 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
     for i, f in enumerate(forecasts):
         fx = f.fixture
         past = is_past(fx.date, latest)
-        note = "; ".join(n for n in (PAST if past else "", forecast_note(f)) if n)
+        note = fixture_note(f, latest)
         values = (fx.date, fx.player_a, fx.player_b, f"{f.race_a}-{f.race_b}", f.race_chance,
                   f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, note)
         shown = (day(fx.date), fx.player_a, fx.player_b, values[3], percent(f.race_chance), values[5],
@@ -482,8 +477,9 @@ DIVISION_COLUMNS = (
     Column("division", "Division", "The division (the group whose level is compared with the others).", 14),
     Column("players", "Players", "Players counted in the division.", 6, True),
     Column("level", "Against the rest", "The division's average rating minus the league's, in points.", 6, True),
-    Column("linked", "Linked share", "How well games against other divisions tie the division in: 100% is "
-           "fully tied in, a low share means its level is mostly a guess (the linked share of its level).", 9, True),
+    Column("linked", "How well linked", "How well games against other divisions tie the division in: 100% is "
+           "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (the share "
+           "of what is known about its level that comes from games against other divisions).", 9, True),
     Column("cross", "Games against other divisions", "Games (older ones counting less) against other "
            "divisions.", 9, True),
     Column("linkers", "Players who link it", "How many of its players met someone from another division.", 9,
@@ -575,9 +571,24 @@ def plain(value) -> str:
     return str(int(value)) if isinstance(value, float) and value.is_integer() else str(value)
 
 
+# The technical term behind a setting's plain name, for its tooltip (the screen keeps the plain name).
+SETTING_TERMS = {
+    "centre": "the prior mean, in points",
+    "scale": "logistic scale: points for odds of 10 to 1 per game (as in Elo)",
+    "skill_spread": "prior standard deviation of the players' strengths",
+    "half_life_days": "exponential age weighting of games",
+    "division_spread": "prior standard deviation of the division levels",
+    "weakly_linked_below": "threshold on the linked share",
+    "held_z": "z-score of the surplus of wins over the rating's expectation (held by the prior)",
+    "few_games": "age-weighted games",
+}
+
+
 def setting_tip(spec) -> str:
     default = default_text(spec)
-    return f"{spec.explanation}\nAllowed: {spec.allowed}. Leave it blank for the default ({default})."
+    term = SETTING_TERMS.get(spec.field)
+    return (f"{spec.explanation}\nAllowed: {spec.allowed}. Leave it blank for the default ({default})."
+            + (f"\nTechnical term: {term}." if term else ""))
 
 
 def settings_messages(texts: Mapping[str, str]) -> dict[str, str]:

@@ -1,4 +1,4 @@
-"""Division levels: the joint MAP over (u, L) and its Laplace posterior (model.md, section 1)."""
+"""Division levels: the joint MAP over (u, L) and its Laplace posterior (docs/model.md, section 1)."""
 import datetime as dt
 
 import numpy as np
@@ -52,7 +52,7 @@ def test_level_map_equals_scikit_learn_with_scaled_division_columns(seed, spread
     # Outside check: scikit-learn's LogisticRegression (no intercept, L2, C = s^2) on rows
     # x = [e_i - e_j, (e_d(i) - e_d(j)) tau / s] gives the MAP of r = u + B L with
     # u ~ N(0, s^2), L ~ N(0, tau^2): one penalty |beta|^2 / (2 s^2) is both priors when
-    # L = beta_L tau / s.  Pairs map to rows as in shared design checks.md section 2: each
+    # L = beta_L tau / s.  Pairs map to rows as in docs/checks.md section 2: each
     # match twice, label 1 weighted by games A won, label 0 by games B won (times the age weight).
     rows, players = tiered_league(seed)
     settings = Settings(division_spread=spread, half_life_days=half_life)

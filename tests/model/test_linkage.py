@@ -8,16 +8,8 @@ from scipy.special import expit
 
 from secretary.model.fit import hessian, pair_curvature
 from secretary.model.league import fit_league
-from secretary.model.linkage import (
-    HELD_SHOWN,
-    HessianSolver,
-    average_contrasts,
-    division_contrasts,
-    level_vectors,
-    posterior_solver,
-    surplus,
-    watch_list,
-)
+from secretary.model.contrasts import HessianSolver, average_contrasts, division_contrasts, level_vectors, posterior_solver
+from secretary.model.linkage import HELD_SHOWN, surplus, watch_list
 from secretary.model.linking_matches import expected_race_games
 from secretary.model.records import Player, Result, Settings
 from secretary.model.scale import points_per_logodds
@@ -28,7 +20,7 @@ START = dt.date(2025, 1, 6)
 # (z ~ sqrt(r) / s for an unbeaten player); the synthetic leagues use a threshold of 1.
 # Pinned, not the defaults (which evaluation may move): skill spread 145, Division spread 100 (levels).
 HELD = Settings(held_z=1.0, skill_spread=145.0, division_spread=100.0)
-ONE_POOL = HELD.replace(division_spread=0.0)  # today's one-pool model (model.md 4)
+ONE_POOL = HELD.replace(division_spread=0.0)  # today's one-pool model (docs/model.md 4)
 BOTH = pytest.mark.parametrize("settings", [HELD, ONE_POOL], ids=["levels", "one pool"])
 
 
@@ -128,7 +120,7 @@ def test_isolated_division_with_dominant_player_is_flagged(settings):
 
 
 def test_held_pull_equals_the_priors_pull_at_the_optimum():
-    # model.md section 4: at the optimum sum w (won - p) = (r_i - mu_i) / s^2 for every player.
+    # docs/model.md section 4: at the optimum sum w (won - p) = (r_i - mu_i) / s^2 for every player.
     results, players, _, _ = make_league(dominant="Valley 0")
     players = [p if p.name != "Hill 1" else Player("Hill 1", "Hill", starting=1650.0) for p in players]
     fit = fit_league(results, HELD, players=players, with_uncertainty=False)
@@ -270,7 +262,7 @@ def level_shares(fit, method="auto"):
 def joint_level_variance(fit):
     """``c^T Cov(L) c`` per division, the prior's, the part no game sees and ``Var(L_d)``, from dense matrices.
 
-    Built from the model's definition (model.md 1), in the (u, L) form the fit does not use:
+    Built from the model's definition (docs/model.md 1), in the (u, L) form the fit does not use:
     ``r = u + B L``, ``u ~ N(mu, s^2 I)``, ``L ~ N(m, tau^2 I)``; the Hessian is
     ``J^T diag(n p (1 - p)) J`` over the pairs' rows ``J = (e_i - e_j) [I  B]`` plus the prior
     precisions, and the hidden part is ``Cov(L | r)`` of the prior.
@@ -438,7 +430,7 @@ def mid_size_fit(seed=0, n_div=6, size=80, matches=6000, cross=0.03, spread=0.0)
 def test_sparse_level_variances_agree_with_a_dense_inverse(method):
     fit = mid_size_fit()
     H = hessian(fit.pairs, fit.r, fit.prior_sd)
-    # The dense Hessian built here from its definition (model.md 1): n p (1 - p) per pair, I / s^2.
+    # The dense Hessian built here from its definition (docs/model.md 1): n p (1 - p) per pair, I / s^2.
     pairs, n = fit.pairs, len(fit.names)
     p = expit(fit.r[pairs.i] - fit.r[pairs.j])
     h = pairs.total * p * (1 - p)
@@ -490,7 +482,7 @@ CAPITALISED = {"Kento MOMOTA", "Sameer VERMA", "Yuqi SHI", "Wan Ho SON", "Tien C
 
 @pytest.mark.realdata
 def test_badminton_finals_spelt_in_capitals_are_an_island_inside_a_linked_division():
-    # The real badminton set (world-tour men's singles 2018-2021, see tests/realdata.py): the 2018
+    # Source: docs/real-data.md (badminton, world-tour men's singles 2018-2021): the 2018
     # season-ending Finals write surnames in capitals, so taken literally those eight players play
     # nobody else. A player's home division is that of their most recent result, and the set ends in
     # March 2021, two months after the January 2021 Finals: four players whose last event was that
@@ -538,7 +530,7 @@ def tennis():
 
 @pytest.mark.realdata
 def test_tennis_tiers_are_ordered_and_unlink_without_their_crossing_players(tennis):
-    # Source: ../shared/data/README.md (tennis): the fitted levels come out ordered
+    # Source: docs/real-data.md (tennis): the fitted levels come out ordered
     # top > second > third, linked by the players who play in more than one tier.
     fit = fit_league(tennis, with_uncertainty=False)
     wl = watch_list(fit, tennis)
@@ -568,7 +560,7 @@ def _capitals(name: str) -> str:
 
 @pytest.mark.realdata
 def test_tennis_suggestions_touch_the_detached_tier_and_never_the_islands(tennis):
-    # Real results (../shared/data/README.md, tennis): the first eight months of 2019, the third tier
+    # Real results (docs/real-data.md, tennis): the first eight months of 2019, the third tier
     # cut off from the others (its cross-tier matches dropped), and three real top-tier matches
     # written with surnames in capitals, so that each becomes a two-player island inside the top
     # tier. Before this change all six suggestions paired islands with each other.
@@ -612,7 +604,7 @@ def test_tennis_suggestions_touch_the_detached_tier_and_never_the_islands(tennis
 
 @pytest.mark.realdata
 def test_tennis_tiers_with_levels_are_linked_where_one_pool_flagged_the_big_tier(tennis):
-    # ../shared/data/README.md (tennis): three tiers linked by about 950 players. Fitted on the first
+    # docs/real-data.md (tennis): three tiers linked by about 950 players. Fitted on the first
     # eight months, the one-pool model flags the 2,000-player third tier although it played thousands
     # of games against the others (its average is held tightly by the prior alone); its level is not.
     season = [r for r in tennis if r.date < dt.date(2019, 9, 1)]
