@@ -177,6 +177,10 @@ def test_a_player_who_changed_division_is_counted_in_the_one_they_play_in_now():
     assert fit.division("Moe") == "Upper" and fit.division("Low2") == "Lower"
     assert fit.division("Sal") == "Lower"
     assert dict(zip(fit.names, fit.home_rule))["Moe"] == "latest results"
+    # A doubles partner's seat counts like any other: Low3's latest game was as Moe's partner in Upper.
+    rows.append(Result(day[5] + dt.timedelta(days=1), "Moe", "Top0", 3, 2, "Upper", partner_a="Low3",
+                       partner_b="Top1"))
+    assert fit_league(rows, Settings()).division("Low3") == "Upper"
 
 
 def test_api_rates_with_division_levels_and_without_them_as_one_pool():
