@@ -124,6 +124,13 @@ def test_what_changed_after_the_new_week(app, demo_copy):
     texts = [app.changes.canvas.itemcget(i, "text") for i in app.changes.canvas.find_all()
              if app.changes.canvas.type(i) == "text"]
     assert not [t for t in texts if re.search(r"\b([Yy]ou|[Yy]our)\b", t)]
+    # The bars are in the printed board's part colours, under one axis of points.
+    from secretary.model.notice import PART_COLOURS
+
+    canvas = app.changes.canvas
+    fills = {canvas.itemcget(i, "fill").casefold() for i in canvas.find_all() if canvas.type(i) == "rectangle"}
+    assert fills == {c.casefold() for c in PART_COLOURS}
+    assert texts.count("Points") == 1  # the one axis at the top, shared by every card
     # A new filter starts at the top, so the biggest mover it keeps is in sight.
     app.changes.canvas.yview_moveto(0.6)
     app.changes.only_idle.set(True)
@@ -273,6 +280,11 @@ def test_restore_and_demo_from_the_file_menu(app, user_home):
     assert app.path == demo and app.session.checked
     assert app.session.updated and app.updated.new_rows > 0 and app.changes.updated.changes  # What changed is filled
     assert str(demo.parent) in app.status.cget("text")  # the window says where it is
+    from secretary.pipeline import run_demo
+
+    first, second = run_demo(user_home.parent / "command-line demo")  # `secretary demo`: the same two updates
+    assert {p.name: round(p.rating, 6) for p in app.updated.ratings} == \
+        {p.name: round(p.rating, 6) for p in second.ratings}
     app.dialogs.answers["ask_yes_no"] = True
     app.dialogs.answers["choose"] = 0  # the newest version that differs from the workbook now
     app.restore_previous()

@@ -8,9 +8,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings as hyp_settings, strategies as st
 
-from secretary.model.breakdown import best_response, displayed_parts, explain_changes, opponent_shares
+from secretary.model.breakdown import displayed_parts, explain_changes
 from secretary.model.league import fit_league
 from secretary.model.records import Player, PublishedState, Result, Settings, fingerprint, identity
+from secretary.model.response import best_response, opponent_shares
 from secretary.model.scale import game_chance, points_per_logodds
 
 JARGON = re.compile(r"\b(prior|map|hessian|log-?odds|bradley|terry|posterior|z-?score|logit|gradient)\b", re.I)
@@ -347,7 +348,7 @@ def test_real_results_week_by_week():
     names = list(b.names)
     who = {names[k] for part in (b.own_r, b.group_r, b.opponents_r) for k in np.argsort(-np.abs(part))[:5]}
     who |= set(np.random.default_rng(1).choice(names, 10, replace=False).tolist())
-    expected, _, _ = parts_by_definition(old, rows, published, Settings(), (), names, sorted(who))
+    expected, _, _, _ = parts_by_definition(old, rows, published, Settings(), (), names, sorted(who))
     assert_parts(b, expected, 1e-10)
     assert max(abs(b.group_r[names.index(n)]) for n in who) * points_per_logodds(400.0) > 3
 
@@ -423,6 +424,7 @@ def parts_by_definition(d0, d1, published, settings, players, names, who=None):
     """Per player of ``who`` (default all): (corrections, own, group, opponents, BR_i(R1), R1_i), log-odds.
 
     R0 and R1 are fits of D0 and D1 from scratch, at their own reference dates; BR is ``best_alone``.
+    Also returns the two fits and R0 by name.
     """
     t0, t1 = max(r.date for r in d0), max(r.date for r in d1)
     fit0 = fit_league(d0, settings, players=players, reference_date=t0)
@@ -451,7 +453,7 @@ def parts_by_definition(d0, d1, published, settings, players, names, who=None):
         was = published.ratings.get(n)
         p = r0[n] if was is None else (was - settings.centre) * LN10 / settings.scale
         out[n] = (r0[n] - p, br0 - r0[n], br_shifted - br0, br1 - br_shifted, br1, r1[n])
-    return out, fit0, fit1
+    return out, fit0, fit1, r0
 
 
 def assert_parts(b, expected, tol):
@@ -472,7 +474,7 @@ def test_each_part_equals_its_own_definition(division_spread):
     published = publish(old, settings, players)
     b = explain_changes(d1, published, settings, players)
     ppl = settings.scale / LN10
-    expected, fit0, fit1 = parts_by_definition(d0, d1, published, settings, players, list(b.names))
+    expected, fit0, fit1, r0 = parts_by_definition(d0, d1, published, settings, players, list(b.names))
     assert fit0.division(mover) == "Three" and fit1.division(mover) == "Two"
     # Measured: the parts agree to 5e-9 log-odds (R0's warm start against a fit from scratch), and
     # BR(R1) = R1 to 3e-15.
@@ -480,6 +482,13 @@ def test_each_part_equals_its_own_definition(division_spread):
     # The scenario moves every part somewhere, so none of the checks above is empty.
     for part in (b.corrections_r, b.own_r, b.group_r, b.opponents_r):
         assert np.abs(part).max() * ppl > 2
+    for g in fit1.group_names:  # each division's shift: its level's change (one pool: its mean change)
+        if division_spread:
+            assert b.group_shift[g] == pytest.approx(fit1.level_points(g) - fit0.level_points(g), abs=2e-8 * ppl)
+            assert b.level_before[g] == pytest.approx(fit0.level_points(g), abs=2e-8 * ppl)
+        else:
+            moved = np.mean([fit1.r[fit1.index(n)] - r0[n] for n in b.names if fit1.division(n) == g])
+            assert b.group_shift[g] == pytest.approx(moved * ppl, abs=2e-8 * ppl)
     k = b.names.index(mover)
     if division_spread:  # the mover's group part is Two's new level against Three's old one
         assert b.group_r[k] * ppl > 5 and fit1.level_points("Two") - fit0.level_points("Three") > 0
