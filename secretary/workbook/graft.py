@@ -99,6 +99,7 @@ def _check_graft(path: Path, outputs_wb: Workbook, temp: Path) -> None:
 
     The tool's sheets are read back by calamine (see `cells`), a reader independent of the openpyxl
     that wrote them; a tool sheet calamine cannot read faithfully is read by openpyxl instead."""
+    save.check_opens_again(temp, path)
     try:
         before, tool_before = _sheet_names(path)
         names, tool = _sheet_names(temp)

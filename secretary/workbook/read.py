@@ -12,7 +12,7 @@ from typing import Mapping
 import openpyxl
 
 from secretary.errors import FileRefused, SecretaryError
-from secretary.model.records import Fixture, Player, Problem, PublishedState, Result, Settings
+from secretary.model.records import Division, Fixture, Player, Problem, PublishedState, Result, Settings
 from secretary.workbook import guard, schema, toolsheets
 from secretary.workbook.cells import SheetCells
 from secretary.workbook.cells import Workbook as ValuesBook
@@ -24,6 +24,7 @@ from secretary.workbook.state import read_state, state_from_rows
 
 HEADER_SEARCH_ROWS = 10  # a title line or two above the headers is allowed
 SHOWN_LENGTH = 80  # characters of a cell's value shown in a message at most
+DIVISIONS_LISTED = 8  # a message about an unknown division names at most this many known ones
 OUTLIER_ROWS = 5  # at most this many rows dated far after the rest count as typing slips
 _SHEET_ORDER = {spec.name: i for i, spec in enumerate(schema.INPUT_SHEETS)}
 _FORMULA_FIX = "Open and save the workbook in your spreadsheet program, or type the value."
@@ -49,6 +50,7 @@ class LeagueBook:
     settings: Settings
     fixtures: tuple[Fixture, ...]
     problems: tuple[Problem, ...]
+    divisions: tuple[Division, ...] = ()  # the Divisions sheet, under the Results' spelling
     state: PublishedState | None = None
     sheet_names: tuple[str, ...] = ()
     tool_sheets: dict[str, str] = field(default_factory=dict)  # role -> name of the tool's sheets (see toolsheets)
@@ -237,17 +239,19 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
                        f"Add a sheet named '{spec.name}' with the results, or rename the sheet that holds them.")
     settings = _read_settings(sheets.get(schema.SETTINGS.name), reader)
     players = _read_players(sheets.get(schema.PLAYERS.name), reader)
+    divisions = _read_divisions(sheets.get(schema.DIVISIONS.name), settings, reader)
     rows = _read_results(sheets.get(schema.RESULTS.name), settings, reader)
     fixtures = _read_fixtures(sheets.get(schema.FIXTURES.name), settings, reader)
     formula_cells = _check_formulas(path, wb, sheets, reader)
     results, players, fixtures = _link_names(rows, players, fixtures, sheets, reader)
+    divisions = _link_divisions(divisions, results, players, sheets.get(schema.DIVISIONS.name), reader)
     _check_results(results, sheets.get(schema.RESULTS.name), reader)
     tool = toolsheets.of_package(path)
     state = _read_state(wb, values_wb, tool, reader)
     problems = sorted(reader.problems, key=lambda p: (not p.is_error, _SHEET_ORDER.get(p.sheet, 9), p.row or 0))
     return LeagueBook(
         path=path, results=results, players=players, settings=settings, fixtures=fixtures,
-        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames), tool_sheets=tool,
+        divisions=divisions, problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames), tool_sheets=tool,
         layouts={name: sheet.layout() for name, sheet in sheets.items()},
         formula_cells=formula_cells)
 
@@ -315,6 +319,10 @@ def _read_players(sheet: _Sheet | None, reader: _Reader) -> list[Player]:
                                "Write the name, or delete the row.")
             reader.note_blank(sheet, row, "player", index)
             continue
+        if len(player) > MAX_NAME_LENGTH:  # as on the Results sheet, where such a name is refused too
+            reader.add("error", name, row, sheet.header("player"), player, _too_long(player),
+                       "Write the player's name alone in the cell.")
+            continue
         starting = None
         raw = values.get("starting")
         if _blank(raw):
@@ -326,8 +334,90 @@ def _read_players(sheet: _Sheet | None, reader: _Reader) -> list[Player]:
                 reader.add("error", name, row, sheet.header("starting"), raw, "the starting rating is not a number",
                            "Write a number in points (like 1650), or leave it blank.")
         aliases = tuple(a for a in (clean(s) for s in str(values.get("aliases") or "").split(schema.ALIAS_SEPARATOR)) if a)
-        players.append(Player(player, clean(values.get("division")), starting, aliases, row))
+        for alias in (a for a in aliases if len(a) > MAX_NAME_LENGTH):
+            reader.add("error", name, row, sheet.header("aliases"), alias, _too_long(alias),
+                       f"Write only the player's other names, separated by '{schema.ALIAS_SEPARATOR}'.")
+        division = clean(values.get("division"))
+        if len(division) > MAX_NAME_LENGTH:
+            reader.add("error", name, row, sheet.header("division"), division, _too_long(division, "a division's"),
+                       "Write the division's name alone in the cell.")
+            division = ""
+        players.append(Player(player, division, starting, tuple(a for a in aliases if len(a) <= MAX_NAME_LENGTH), row))
     return players
+
+
+def _too_long(name: str, whose: str = "a player's") -> str:
+    return f"this name is {len(name):,} characters long; {whose} name has at most {MAX_NAME_LENGTH}"
+
+
+# ---------------------------------------------------------------- Divisions
+
+
+def _read_divisions(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> list[Division]:
+    """The Divisions sheet's rows with a readable starting level (blank = 0), each division once."""
+    if sheet is None or sheet.missing:
+        return []
+    name, col_division = sheet.spec.name, sheet.header("division")
+    bound = schema.LEVEL_SCALES * settings.scale
+    divisions, where = [], {}
+    for row, values in sheet.records():
+        division, raw = clean(values["division"]), values.get("starting")
+        if not division:
+            if not _blank(raw):
+                reader.add("error", name, row, col_division, "", "a starting level without a division",
+                           f"Write the division's name in the '{col_division}' column, or delete the row.")
+            continue  # a row with only a note is the secretary's remark
+        key = name_key(division)
+        if key in where:
+            reader.add("error", name, row, col_division, division,
+                       f"this division is listed twice (also row {where[key]})", "Keep one of the two rows.")
+            continue
+        where[key] = row
+        level = 0.0
+        if _blank(raw):
+            if "starting" in sheet.columns:
+                reader.note_blank(sheet, row, "starting", None)
+        else:
+            level = schema.as_number(raw)
+            if level is None or abs(level) > bound:
+                _bad_level(reader, sheet, row, raw, level, settings)
+                continue
+        divisions.append(Division(division, float(level), clean(values.get("note")), row))
+    return divisions
+
+
+def _bad_level(reader: _Reader, sheet: _Sheet, row: int, raw, level: float | None, settings: Settings) -> None:
+    bound = schema.LEVEL_SCALES * settings.scale
+    what = "not a number" if level is None else \
+        f"further from the centre than {bound:.0f} points ({schema.LEVEL_SCALES} times the Scale)"
+    fix = (f"Write the division's level in points above (+) or below (-) the Centre ({settings.centre:.0f}), "
+           f"like +150 or -150, from -{bound:.0f} to +{bound:.0f}; or leave it blank for 0.")
+    if level is not None and abs(level - settings.centre) <= bound:
+        fix = f"{shown(level)} looks like a rating; the level is relative to the Centre, so write " \
+              f"{level - settings.centre:+.0f}. " + fix
+    reader.add("error", sheet.spec.name, row, sheet.header("starting"), raw, f"the starting level is {what}", fix)
+
+
+def _link_divisions(divisions: list[Division], results, players, sheet: _Sheet | None,
+                    reader: _Reader) -> tuple[Division, ...]:
+    """The Divisions sheet's divisions under the Results' spelling; unknown ones are errors."""
+    known = {name_key(d): d for d in (*(r.division for r in results), *(p.division for p in players)) if d}
+    out, index = [], None
+    for d in divisions:
+        spelling = known.get(name_key(d.name), d.name if not known else None)  # no divisions yet: nothing to check
+        if spelling is None:
+            index = index or CloseIndex(sorted(set(known.values())))
+            close = index.matches(d.name)
+            hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
+            listed = sorted(set(known.values()), key=str.casefold)
+            reader.add("error", sheet.spec.name, d.row, sheet.header("division"), d.name,
+                       f"no result in Results and no player in Players has the division '{shown(d.name)}'{hint}",
+                       "Write the division as the Results sheet's Division column does ("
+                       f"{', '.join(listed[:DIVISIONS_LISTED])}{', ...' if len(listed) > DIVISIONS_LISTED else ''}),"
+                       " or delete the row.")
+            continue
+        out.append(Division(spelling, d.starting_level, d.note, d.row))
+    return tuple(out)
 
 
 # ------------------------------------------------------------------ Results
@@ -395,6 +485,8 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
     if not division:
         fault("division", "", "the division is blank",
               "Write the division (or the event, like 'Open night') where the match was played.", blank=True)
+    elif len(division) > MAX_NAME_LENGTH:
+        fault("division", division, _too_long(division, "a division's"), "Write the division's name alone in the cell.")
     players = []
     for key in ("player_a", "player_b"):
         spelling = str(values[key]).strip() if values[key] is not None else ""
@@ -402,8 +494,7 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
         if not spelling:
             fault(key, "", "the player's name is blank", "Write the player's name.", blank=True)
         elif len(spelling) > MAX_NAME_LENGTH:
-            fault(key, spelling, f"this name is {len(spelling):,} characters long; a player's name has at most "
-                  f"{MAX_NAME_LENGTH}", "Write the player's name alone in the cell.")
+            fault(key, spelling, _too_long(spelling), "Write the player's name alone in the cell.")
     if players[0] and players[1] and name_key(players[0]) == name_key(players[1]):
         fault("player_b", values["player_b"], "a player cannot play against themself",
               "Check the two names.")
@@ -604,9 +695,9 @@ def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _
                            f"Write '{slip[0]}' if it is that player, or add '{display}' to Players.")
                 continue
             close = index.matches(display)
-            hint = f"; close spellings: {', '.join(close)}" if close else ""
+            hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
             reader.add("warning", schema.RESULTS.name, mention.row, mention.column, mention.spelling,
-                       f"'{display}' is not in Players{hint}",
+                       f"'{shown(display)}' is not in Players{hint}",
                        "Add the player to the Players sheet, or correct the spelling (the player is rated anyway).")
     sheet = sheets[schema.PLAYERS.name]
     if "division" not in sheet.columns or not divisions:
@@ -617,7 +708,7 @@ def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _
         if key and key not in divisions and key not in warned:
             warned.add(key)
             reader.add("warning", schema.PLAYERS.name, player.row, sheet.header("division"), player.division,
-                       f"no result in the Results sheet has the division '{player.division}'",
+                       f"no result in the Results sheet has the division '{shown(player.division)}'",
                        "Check the spelling against the Results sheet's Division column.")
 
 
@@ -644,15 +735,17 @@ def _link_fixtures(fixture_rows, known, display, sheet: _Sheet | None, reader: _
         for key in ("player_a", "player_b"):
             spelling = clean(values[key])
             name = everyone.get(name_key(spelling))
-            if name is None:
+            if name is None and len(spelling) > MAX_NAME_LENGTH:
+                reader.add("error", schema.FIXTURES.name, row, sheet.header(key), spelling, _too_long(spelling),
+                           "Write the player's name alone in the cell.")
+            elif name is None:
                 index = index or CloseIndex(set(everyone.values()))
                 close = index.matches(spelling)
-                hint = f"; close spellings: {', '.join(close)}" if close else ""
+                hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
                 reader.add("warning", schema.FIXTURES.name, row, sheet.header(key), spelling,
-                           f"'{spelling}' has no results and is not in Players{hint}",
+                           f"'{shown(spelling)}' has no results and is not in Players{hint}",
                            "Check the spelling; a new player's chances are only a guess.")
-                name = spelling
-            names.append(name)
+            names.append(spelling if name is None else name)
         fixtures.append(Fixture(values["date"], names[0], names[1], values["race_a"], values["race_b"], row))
     return tuple(fixtures)
 

@@ -65,6 +65,19 @@ PLAYERS = SheetSpec(
     ),
 )
 
+DIVISIONS = SheetSpec(
+    "Divisions",
+    False,
+    (
+        Column("division", "Division", True, 16),
+        Column("starting", "Starting level", False, 15),
+        Column("note", "Note", False, 40),
+    ),
+)
+# A starting level is at most this many Scales from the centre (3 x 400 = 1200 points: a division
+# expected to win about 1,000 games to 1 against an average one); anything further is a typing slip.
+LEVEL_SCALES = 3
+
 SETTINGS = SheetSpec(
     "Settings",
     False,
@@ -89,7 +102,7 @@ FIXTURES = SheetSpec(
     ),
 )
 
-INPUT_SHEETS = (RESULTS, PLAYERS, SETTINGS, FIXTURES)
+INPUT_SHEETS = (RESULTS, PLAYERS, DIVISIONS, SETTINGS, FIXTURES)
 
 VOID_PREFIX = "void"  # a Results row whose Note starts with this is kept but not rated
 ALIAS_SEPARATOR = ";"
@@ -195,7 +208,7 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
                 "level is pinned down by games against other divisions.", 0, 1),
     SettingSpec("held_z", "Held back from", "number",
                 "How surprising (in standard deviations) a player's results must be before "
-                "the watch list says the starting assumption is holding them back (a z-score).", 0.1, 10,
+                "the watch list says the starting assumption is holding them back.", 0.1, 10,
                 aliases=("Held by the prior at z",)),  # its earlier name: workbooks that use it still read
     SettingSpec("linking_matches", "Linking matches to suggest", "whole",
                 "How many matches between divisions the watch list suggests.", 0, 50),

@@ -2,7 +2,7 @@
 import pytest
 from PIL import Image
 
-from secretary.model.notice import CLOSING
+from secretary.model.notice import CLOSING, long_date
 from secretary.report.handicap import chance_text, fair_race_text, write_handicap_pdf
 from tests.invented_league import SETTINGS, chance_by_integral, forecasts, two_updates
 from tests.report.poppler import A4_POINTS, LETTER_POINTS, needs_poppler, page_points, pdf_text, render_page, squeeze
@@ -46,7 +46,7 @@ def test_every_fixture_in_plain_words(league, card):
 def test_chance_printed_matches_an_independent_race_formula(league, card):
     """A's chance at the set race: first to a before the other gets b, averaged over the posterior.
 
-    Source: checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p),
+    Source: docs/checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p),
     integrated over the difference's normal posterior by the trapezoid rule.
     """
     _, fcs = league
@@ -90,3 +90,53 @@ def test_a_rating_is_never_split_and_an_empty_column_is_left_out(league, tmp_pat
     sure = [replace(fc, not_rated=(), care="") for fc in fcs]  # every chance sure enough: "How sure" is empty
     text = pdf_text(write_handicap_pdf(tmp_path / "sure.pdf", sure, SETTINGS, ratings=update.ratings))
     assert "How sure" not in text and "Fair race" in text
+
+
+def test_past_fixtures_are_marked_and_come_after_the_coming_ones(league, tmp_path):
+    """A fixture dated before the newest result is past: its date's heading says so, and coming days come first."""
+    update, fcs = league
+    latest = max(fc.fixture.date for fc in fcs)  # as if results had come in up to the last fixture day
+    past_days = sorted({fc.fixture.date for fc in fcs if fc.fixture.date < latest})
+    assert past_days  # the invented fixtures span two days: the first is past
+    card = write_handicap_pdf(tmp_path / "past.pdf", fcs, SETTINGS, ratings=update.ratings, latest=latest)
+    text = squeeze(pdf_text(card))
+    past = [squeeze(f"{long_date(d)} (past: dated before the latest results, {long_date(latest)})") for d in past_days]
+    assert all(p in text for p in past)
+    assert text.index(squeeze(f"{long_date(latest)}Match")) < min(text.index(p) for p in past)
+    count = sum(1 for fc in fcs if fc.fixture.date < latest)
+    assert squeeze(f"{count} past fixtures (dated before the latest results) at the end") in text
+    # Without a newest result nothing is past, and the card says nothing about past fixtures.
+    assert "past" not in pdf_text(write_handicap_pdf(tmp_path / "none.pdf", fcs, SETTINGS, ratings=update.ratings))
+
+
+def test_a_long_card_fills_its_pages(league, tmp_path):
+    """48 fixtures over six days: a day's table runs on over a page break (its header repeated) rather than
+    leave a page half empty, so every page but the last is filled to near its foot (measured 82-92 %)."""
+    import datetime as dt
+    import itertools
+    import re
+    import subprocess
+
+    from secretary.model.fixtures import forecast_fixtures
+    from secretary.model.league import fit_league
+    from secretary.model.records import Fixture
+    from tests.invented_league import WEEK_2, players
+
+    update, _ = league
+    fit = fit_league(update.results, SETTINGS, players=players())
+    pairs = list(itertools.combinations([p.name for p in players()], 2))[:48]
+    fixtures = [Fixture(WEEK_2 + dt.timedelta(days=7 + k // 8), a, b, None, None, row=2 + k)
+                for k, (a, b) in enumerate(pairs)]
+    card = write_handicap_pdf(tmp_path / "long.pdf", forecast_fixtures(fixtures, fit), SETTINGS,
+                              ratings=update.ratings)
+    boxes = subprocess.run(["pdftotext", "-bbox", str(card), "-"], check=True, capture_output=True,
+                           text=True).stdout.split("<page ")[1:]
+    assert len(boxes) >= 3
+    filled = []
+    for page in boxes:
+        height = float(re.search(r'height="([\d.]+)"', page).group(1))
+        lowest = max(float(y) for y in re.findall(r'yMax="([\d.]+)"', page) if float(y) < height - 50)  # not the footer
+        filled.append(lowest / height)
+    assert min(filled[:-1]) >= 0.78, filled
+    text = pdf_text(card)
+    assert text.count("Fair race") >= len(boxes)  # every page's table has its header row

@@ -142,3 +142,73 @@ def test_a_wall_page_in_large_type_then_the_full_list_in_12_point_text(updates, 
     first = [squeeze(page) for page in pdf_text(path).split("\f")]
     assert squeeze("Biggest movers this week") in first[0] and squeeze("How ratings work") in first[0]
     assert squeeze("the full list") in first[1]
+
+
+def test_watch_lines_are_the_watch_lists_own_words_islands_and_more(updates, tmp_path):
+    """The board's watch lines are model.watch_sentences.watch_lines: a separate pool named on its own line,
+    a long list of held-back players cut to the summary's few with "and N more"."""
+    import dataclasses
+    import datetime as dt
+
+    from secretary.model.records import Player, Result
+    from secretary.model.watch_sentences import SUMMARY_PLAYERS, watch_lines
+
+    update = updates[1]
+    day = update.results[-1].date
+    island = [Result(day - dt.timedelta(days=k), "Cara Quill", "Dov Reed", 5, 2 + k % 3, "Second") for k in range(6)]
+    results = (*update.results, *island)
+    everyone = players() + [Player("Cara Quill", "Second"), Player("Dov Reed", "Second")]
+    watch = watch_list(fit_league(results, SETTINGS, players=everyone), results)
+    (pool,) = watch.pools
+    assert {"Cara Quill", "Dov Reed"} == set(pool.players)
+    flagged = watch.flagged_players
+    assert flagged  # Premier is weakly linked in one pool: its held-back players are flagged
+    extra = SUMMARY_PLAYERS + 3 - len(flagged)  # more flagged players than the summary names
+    more = tuple(dataclasses.replace(flagged[0], name=f"Extra Player {k}") for k in range(max(extra, 0)))
+    watch = dataclasses.replace(watch, held=(*watch.held, *more))
+    path = write_notice_pdf(tmp_path / "watch.pdf", update.breakdown, update.ratings, SETTINGS, watch=watch)
+    text = squeeze(pdf_text(path))
+    lines = watch_lines(watch)
+    for line in lines:
+        assert squeeze(line) in text, line
+    hidden = len(watch.flagged_players) - SUMMARY_PLAYERS
+    assert squeeze(f"and {hidden} more players held back") in text
+    assert squeeze("Cara Quill, Dov Reed (2 players) have played nobody outside their group") in text
+    assert more and squeeze(more[-1].name) not in text  # past the summary's few: counted, not named
+
+
+def _words_by_page(path) -> list[list[tuple[float, str]]]:
+    """Per page, (height in points, text) of every word above the footer, from ``pdftotext -bbox``."""
+    import html
+    import re
+    import subprocess
+
+    out = subprocess.run(["pdftotext", "-bbox", str(path), "-"], check=True, capture_output=True,
+                         text=True).stdout
+    pages = []
+    for page in out.split("<page ")[1:]:
+        bottom = float(re.search(r'height="([\d.]+)"', page).group(1)) - 50
+        pages.append([(float(b) - float(a), html.unescape(t)) for a, b, t in
+                      re.findall(r'yMin="([\d.]+)" xMax="[\d.]+" yMax="([\d.]+)">([^<]*)<', page) if float(b) < bottom])
+    return pages
+
+
+def test_only_the_charts_print_below_12_points(updates, second_pdf):
+    """Body text, tables and headings of the full list are 12 points or more; the wall page 14 or more.
+    Smaller type is allowed only for the words of the parts charts: their names, totals, legend and caption."""
+    from secretary.model.notice import PART_NAMES
+    from secretary.report.notice import _short
+
+    path, _ = second_pdf
+    pages = _words_by_page(path)
+    assert min(h for h, _ in pages[0]) >= 13.9, "the wall page has text under 14 points"
+    notice = build_notice(updates[1].breakdown, updates[1].ratings, SETTINGS)
+    chart = {"Points", "from:", "gains", "right,", "losses", "left", *" ".join(PART_NAMES).split()}
+    for block in notice.divisions:
+        chart |= set(f"The biggest changes in {block.division}, split into their four parts. The number at the end "
+                     "of each bar is the whole change, in points.".split())
+        for line in block.biggest_changes():
+            chart |= {*_short(line.name).split(), change_text(line)}
+    small = [(round(h, 1), word) for page in pages[1:] for h, word in page if h < 11.9]
+    assert small, "no chart was drawn: the test would pass whatever the type size"
+    assert [(h, word) for h, word in small if word not in chart] == []
