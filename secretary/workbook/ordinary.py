@@ -44,7 +44,7 @@ def ordinary_rows(columns: Mapping[str, int], body: Sequence[Sequence], first_ro
         return [row[index - 1] if index <= len(row) else None for row in body]
 
     dates = _checked(column("date"), lambda v: parse_date(v, order)[0], _DATES)
-    divisions = _checked(column("division"), lambda v: clean(v) or None, _TEXT)
+    divisions = _checked(column("division"), _division, _TEXT)
     names_a = _checked(column("player_a"), _spelling, _TEXT)
     names_b = _checked(column("player_b"), _spelling, _TEXT)
     keys_a, keys_b = (_checked(names, _key, _TEXT) for names in (names_a, names_b))
@@ -68,6 +68,11 @@ def _checked(values: list, check: Callable, safe: frozenset) -> list:
         known = {v: check(v) for v in dict.fromkeys(values)}
         return list(map(known.__getitem__, values))
     return list(map(check, values))
+
+
+def _division(value) -> str | None:
+    division = clean(value)
+    return division if division and len(division) <= MAX_NAME_LENGTH else None
 
 
 def _spelling(value) -> str | None:

@@ -26,7 +26,7 @@ def _tricky_rows() -> list[list]:
     variants = [
         {}, {0: "2026-03-21"}, {0: "21/03/2026"}, {0: 46100}, {0: 46100.5}, {0: None}, {0: "soon"}, {0: True},
         {0: dt.datetime(1850, 1, 1)}, {0: dt.datetime(2026, 3, 14, 19, 30)},
-        {1: None}, {1: "  premier "}, {1: 1}, {1: 1.0}, {1: True}, {1: "\u200bPremier"},
+        {1: None}, {1: LONG}, {1: "  premier "}, {1: 1}, {1: 1.0}, {1: True}, {1: "\u200bPremier"},
         {2: None}, {2: "  Ada Finch  "}, {2: "ada  finch"}, {2: LONG}, {2: 7}, {2: 7.0}, {2: True},
         {3: "Ada Finch"}, {3: " ADA FINCH"}, {3: "Cafe\u0301 Owl"}, {3: "Café Owl"},
         {4: 5.0}, {4: "5"}, {4: " 4 "}, {4: 2.5}, {4: -1}, {4: 99}, {4: True}, {4: None}, {4: "five"},
