@@ -98,7 +98,7 @@ def handicap_pdf_path(path: str | Path) -> Path:
 
 def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRating, ...]:
     by_name = {c.name: c for c in breakdown.players}
-    games, wins, ratings, sds = fit.games, fit.wins, fit.ratings, fit.sds
+    games, wins, ratings, sds, doubles = fit.games, fit.wins, fit.ratings, fit.sds, fit.doubles_games
     out = []
     for k, name in enumerate(fit.names):
         change = by_name.get(name)
@@ -106,7 +106,8 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
         out.append(PlayerRating(
             name=name, division=fit.group_names[fit.group[k]], rating=float(ratings[k]), sd=float(sds[k]),
             games=float(games[k]), wins=float(wins[k]), last_played=fit.last_played[k],
-            change=None if is_new else float(change.change), is_new=is_new))
+            change=None if is_new else float(change.change), is_new=is_new,
+            doubles_games=float(doubles[k])))
     return tuple(out)
 
 

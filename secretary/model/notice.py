@@ -79,6 +79,7 @@ class Notice:
     divisions: tuple[NoticeDivision, ...]
     removed: str  # a closing line about players no longer rated, or ""
     closing: tuple[str, ...] = CLOSING
+    doubles: str = ""  # the week's doubles results in one paragraph, or ""
 
 
 def long_date(day: dt.date | None) -> str:
@@ -140,6 +141,19 @@ def _ranked_lines(ratings: Sequence[PlayerRating], changes: dict[str, "PlayerCha
     return tuple(lines)
 
 
+DOUBLES_SHOWN = 12  # doubles results listed on the board; the rest are counted
+
+
+def doubles_summary(rows: Iterable) -> str:
+    """The update's new doubles results in one paragraph ("" when there were none), oldest first."""
+    rows = sorted((r for r in rows if r.is_doubles and not r.void), key=lambda r: (r.date, r.row))
+    if not rows:
+        return ""
+    shown = [f"{r.label_a} {r.games_a}-{r.games_b} {r.label_b}" for r in rows[:DOUBLES_SHOWN]]
+    more = f"; and {len(rows) - DOUBLES_SHOWN} more" if len(rows) > DOUBLES_SHOWN else ""
+    return "Doubles this week: " + "; ".join(shown) + more + "."
+
+
 def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settings: Settings) -> Notice:
     """The notice board's content: one block per division (strongest first), players ranked within it."""
     changes = {pc.name: pc for pc in breakdown.players}
@@ -161,6 +175,7 @@ def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settin
         first_update=breakdown.first_update,
         divisions=divisions,
         removed=removed,
+        doubles=doubles_summary(breakdown.changes.new),
     )
 
 

@@ -50,8 +50,9 @@ def write_notice(wb: Workbook, breakdown: Breakdown, ratings: Sequence[PlayerRat
         put(cell, header)
         cell.font, cell.border = BOLD, UNDERLINE
     row = HEADER_ROWS + 1
-    if notice.note:
-        row = _paragraph(ws, row, notice.note, SMALL) + 1
+    for text in (notice.note, notice.doubles):
+        if text:
+            row = _paragraph(ws, row, text, SMALL) + 1
     for k, block in enumerate(notice.divisions):
         if k:
             # A break after the previous block's last row: every division starts a new page.

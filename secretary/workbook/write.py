@@ -38,6 +38,7 @@ LOG_HEADERS = (
 )
 PROBLEM_HEADERS = ("Kind", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
 CHART_PLAYERS = 10
+DOUBLES_GAMES = "Doubles games"  # after Weighted games, only in a league with doubles: how many of them were doubles
 NEW_NOTE = "new this update"
 FEW_GAMES_NOTE = "few games: rating still uncertain"
 
@@ -55,7 +56,8 @@ def ranked(ratings: Sequence[PlayerRating]) -> list[tuple[int, PlayerRating]]:
 
 
 def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Settings) -> None:
-    """Rewrite the Ratings sheet, best rating first."""
+    """Rewrite the Ratings sheet, best rating first (with a Doubles games column when any were played)."""
+    doubles = any(p.doubles_games > 0 for p in ratings)
     rows = []
     for rank, p in ranked(ratings):
         new = p.is_new or p.change is None
@@ -63,13 +65,14 @@ def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Setti
         if p.games < settings.few_games:
             notes.append(FEW_GAMES_NOTE)
         rows.append((
-            rank, p.name, p.division, p.rating, p.sd, p.games,
+            rank, p.name, p.division, p.rating, p.sd, p.games, *((p.doubles_games,) if doubles else ()),
             None if new else p.change, p.last_played, "; ".join(notes),
         ))
+    headers = RATINGS_HEADERS[:6] + ((DOUBLES_GAMES,) if doubles else ()) + RATINGS_HEADERS[6:]
     ws = replace_sheet(wb, RATINGS_SHEET)
     write_table(
-        ws, RATINGS_HEADERS, rows, freeze="C2",
-        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT,
+        ws, headers, rows, freeze="C2",
+        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT, DOUBLES_GAMES: GAMES_FORMAT,
                  "Change": CHANGE_FORMAT, "Last played": DATE_FORMAT},
     )
 
