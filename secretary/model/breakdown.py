@@ -15,7 +15,7 @@ opponents part is the remainder; since ``BR(R1, D1, t1) = R1`` it is also
 ``BR(R1) - BR(R0 + d)``, what the others' own re-rating did).  ``BR_i(x, D, t)``
 is player i's best strength with every other player frozen at ``x``: a
 one-dimensional convex problem, solved for all players at once
-(``best_response``).  The shift ``d_j`` moves each player with their division:
+(``response.best_response``).  The shift ``d_j`` moves each player with their division:
 with division levels it is the change of their division's level with every
 deviation frozen, ``L1_d(j) - L0_d(j)`` (their prior mean moving with it; a
 player whose home division changed goes from the old division's ``L0`` to the
@@ -30,7 +30,8 @@ Choices made here (the contract leaves them open):
   "previous" rating is their prior mean and their corrections part is 0.
   ``R0``'s fit starts from ``P`` (warm start).
 - Groups are the current fit's divisions (Players sheet, else the division
-  played most); in one pool ``d_g`` averages over every player counted in the division.
+  of the player's most recent result); in one pool ``d_g`` averages over every player counted in the
+  division.
 - The first update (or a missing record) runs the same arithmetic with
   ``D0`` empty and ``P`` = the starting ratings; ``Breakdown.first_update``
   tells writers to show first ratings only.
@@ -64,14 +65,12 @@ from secretary.model.changes import DataChanges, all_new, compare_rows
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, PublishedState, Result, Settings
+from secretary.model.response import best_response, opponent_shares, top_opponents
 from secretary.model.scale import points_per_logodds, to_points, to_strength
 from secretary.model.sentences import Context, sentence, update_note
 
 # Settings whose change moves ratings (the rest only change what is printed).
 RATING_SETTINGS = ("centre", "scale", "skill_spread", "half_life_days", "division_spread")
-GAUSS_NODES = 3  # quadrature nodes for attributing the opponents part to opponents
-TOP_OPPONENTS = 3
-OPPONENT_SHARE = 0.2  # an opponent is named when they moved the part by >= 20 % of the largest mover
 
 
 @dataclass(frozen=True)
@@ -157,116 +156,6 @@ class Breakdown:
             if pc.name == name:
                 return pc
         raise KeyError(name)
-
-
-def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 1e-12, max_iter: int = 200) -> np.ndarray:
-    """``BR_i(x)`` for every player: the best strength with all others frozen at ``x`` (log-odds).
-
-    Solves, independently for each i, ``sum_j n_ij sigmoid(y - x_j) - W_i +
-    (y - mu_i) / sd^2 = 0`` (the derivative of player i's convex 1-D
-    objective) by Newton steps kept inside a shrinking bracket (a bisection
-    step whenever Newton would leave it), until every step is below ``tol``.
-    The bracket ``[mu - sd^2 L_i - 1, mu + sd^2 W_i + 1]`` (W won, L lost,
-    weighted) always holds the root.
-    """
-    x = np.asarray(x, dtype=float)
-    mu = np.asarray(prior_mean, dtype=float)
-    n = pairs.n_players
-    tot = pairs.total
-    wins = pairs.wins_per_player()
-    lost = pairs.games_per_player() - wins
-    prec = 1.0 / prior_sd**2
-    lo = mu - lost / prec - 1.0  # (doubles games count in full here: the bracket only widens)
-    hi = mu + wins / prec + 1.0
-    y = np.clip(x, lo, hi)
-    if pairs.doubles is not None:
-        wins = wins - pairs.doubles.wins_per_player()  # the singles wins; doubles slopes come from ``alone``
-    for _ in range(max_iter):
-        pa, pb = _alone_chances(pairs, y, x)
-        g = pairs.per_player(tot * pa, tot * pb) - wins + (y - mu) * prec
-        h = pairs.per_player(tot * pa * (1 - pa), tot * pb * (1 - pb)) + prec
-        if pairs.doubles is not None:
-            slope, curvature = doubles.alone(pairs.doubles, y, x)
-            g += slope
-            h += curvature
-        lo = np.where(g < 0, y, lo)
-        hi = np.where(g > 0, y, hi)
-        y_new = y - g / h
-        outside = (y_new < lo) | (y_new > hi)
-        y_new = np.where(outside, 0.5 * (lo + hi), y_new)
-        step = float(np.max(np.abs(y_new - y))) if n else 0.0
-        y = y_new
-        if step <= tol:
-            return y
-    return y  # bisection halves the bracket every step: 200 steps leave it far below tol
-
-
-def _alone_chances(pairs: Pairs, y, x) -> tuple[np.ndarray, np.ndarray]:
-    """Per pair: side i at ``y`` against side j frozen at ``x``, and side j at ``y`` against side i at ``x``."""
-    return expit(y[pairs.i] - x[pairs.j]), expit(y[pairs.j] - x[pairs.i])
-
-
-def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
-    """Each pair's share of ``BR(end) - BR(start)`` for both players, by integrating the linearisation.
-
-    ``dBR_i/dx_j = n_ij p(1-p) / (sum_k n_ik p(1-p) + 1/sd^2)`` with
-    ``p = sigmoid(BR_i(x) - x_j)``, integrated along the straight path from
-    ``start`` to ``end`` by Gauss-Legendre quadrature: the shares of player i
-    then add up to ``BR_i(end) - BR_i(start)`` up to the quadrature error
-    (small: the path is short and smooth).  Returns ``(to_i, to_j, to_seat)``:
-    per pair what j moved i by and what i moved j by, and per doubles link
-    (``doubles.links``) what the partner or opponent moved the seat's player by.
-    """
-    delta = end - start
-    to_i = np.zeros(len(pairs.i))
-    to_j = np.zeros(len(pairs.i))
-    to_seat = np.zeros(0 if pairs.doubles is None else 12 * len(pairs.doubles))
-    nodes, weights = np.polynomial.legendre.leggauss(GAUSS_NODES)
-    for node, weight in zip((nodes + 1) / 2, weights / 2):
-        x = start + node * delta
-        y = best_response(pairs, x, prior_mean, prior_sd)
-        pa, pb = _alone_chances(pairs, y, x)
-        ha = pairs.total * pa * (1 - pa)
-        hb = pairs.total * pb * (1 - pb)
-        curv = pairs.per_player(ha, hb) + 1.0 / prior_sd**2
-        if pairs.doubles is not None:
-            curv += doubles.alone(pairs.doubles, y, x)[1]
-            to_seat += weight * doubles.link_shares(pairs.doubles, y, x, curv, delta)
-        to_i += weight * ha / curv[pairs.i] * delta[pairs.j]
-        to_j += weight * hb / curv[pairs.j] * delta[pairs.i]
-    return to_i, to_j, to_seat
-
-
-def _top_opponents(pairs: Pairs, to_i, to_j, opponents, names, to_seat=()):
-    """Per player, ``(opponents, partners)``: the (up to 3 in all) movers of the opponents part, in its direction.
-
-    A doubles partner's share is kept apart from the same player's share as an opponent
-    (a partner rated up moves you down, an opponent rated up moves you up).
-    """
-    player = np.concatenate([pairs.i, pairs.j])
-    other = np.concatenate([pairs.j, pairs.i])
-    share = np.concatenate([to_i, to_j])
-    partner = np.zeros(len(player), dtype=bool)
-    if pairs.doubles is not None:  # one sum per (player, other, role) over all rows
-        _, seat_player, seat_other, seat_partner = doubles.links(pairs.doubles)
-        player, other = np.concatenate([player, seat_player]), np.concatenate([other, seat_other])
-        partner = np.concatenate([partner, seat_partner])
-        key, where = np.unique((player * len(names) + other) * 2 + partner, return_inverse=True)
-        share = np.bincount(where.ravel(), np.concatenate([share, to_seat]), len(key))
-        player, other, partner = key // (2 * len(names)), key // 2 % len(names), key % 2 == 1
-    # Only movers in the part's own direction explain it; sort each player's by size.
-    keep = np.sign(share) == np.sign(opponents[player])
-    player, other, share, partner = player[keep], other[keep], share[keep], partner[keep]
-    order = np.lexsort((-np.abs(share), player))
-    player, other, share, partner = player[order], other[order], share[order], partner[order]
-    bounds = np.searchsorted(player, np.arange(len(names) + 1))
-    out = []
-    for k in range(len(names)):
-        lo, hi = bounds[k], min(bounds[k + 1], bounds[k] + TOP_OPPONENTS)
-        top = [m for m in range(lo, hi) if abs(share[m]) >= OPPONENT_SHARE * abs(share[lo])]
-        out.append(tuple(tuple((names[other[m]], float(share[m])) for m in top if partner[m] == role)
-                         for role in (False, True)))
-    return out
 
 
 def shown_round(value: float) -> int:
@@ -527,7 +416,7 @@ def explain_changes(
     before = _before(results_now, published, settings, players, fit1)
     parts = _parts(fit1, before, settings, index)
     to_i, to_j, to_seat = opponent_shares(fit1.pairs, parts.shifted, fit1.r, parts.shifted_mean, fit1.prior_sd)
-    top = _top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names, to_seat * ppl)
+    top = top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names, to_seat * ppl)
     out, played_all = _player_changes(fit1, before, parts, published, settings, top)
     published_ratings = published.ratings if published is not None else {}
     removed_players = tuple(

@@ -83,7 +83,8 @@ def describe(diagnosis: Diagnosis, names) -> list[str]:
         shown = ", ".join(names[k] for k in idx[:8])
         return shown + (f" and {len(idx) - 8} more" if len(idx) > 8 else "")
     if len(diagnosis.no_games):
-        lines.append(f"No rated games yet (rated at their starting rating): {listing(diagnosis.no_games)}.")
+        lines.append(f"No rated games yet (listed on the Players sheet; not on the Ratings sheet until they play): "
+                     f"{listing(diagnosis.no_games)}.")
     if len(diagnosis.unbeaten):
         lines.append(
             f"Unbeaten so far: {listing(diagnosis.unbeaten)}. Their rating rests partly on the starting "

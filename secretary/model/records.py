@@ -229,6 +229,11 @@ def fingerprint(result: Result) -> str:
     )
 
 
+# How a player's home division was found: the Players sheet's Division, else the division of their most
+# recent result (a player who changed division is counted in the one they play in now), else none.
+HOME_RULES = ("Players sheet", "latest results", "no results")
+
+
 @dataclass(frozen=True)
 class PlayerRating:
     """One line of the published ratings."""
@@ -243,6 +248,7 @@ class PlayerRating:
     change: float | None = None  # points since the previous update; None = new
     is_new: bool = False  # first published this update
     doubles_games: float = 0.0  # age-weighted doubles games played (included in ``games``)
+    division_from: str = ""  # how the division was found: one of HOME_RULES ("" when not known)
 
 
 @dataclass(frozen=True)

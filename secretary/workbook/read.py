@@ -314,6 +314,10 @@ def _read_players(sheet: _Sheet | None, reader: _Reader) -> list[Player]:
                                "Write the name, or delete the row.")
             reader.note_blank(sheet, row, "player", index)
             continue
+        if len(player) > MAX_NAME_LENGTH:  # as on the Results sheet, where such a name is refused too
+            reader.add("error", name, row, sheet.header("player"), player, _too_long(player),
+                       "Write the player's name alone in the cell.")
+            continue
         starting = None
         raw = values.get("starting")
         if _blank(raw):
@@ -325,8 +329,20 @@ def _read_players(sheet: _Sheet | None, reader: _Reader) -> list[Player]:
                 reader.add("error", name, row, sheet.header("starting"), raw, "the starting rating is not a number",
                            "Write a number in points (like 1650), or leave it blank.")
         aliases = tuple(a for a in (clean(s) for s in str(values.get("aliases") or "").split(schema.ALIAS_SEPARATOR)) if a)
-        players.append(Player(player, clean(values.get("division")), starting, aliases, row))
+        for alias in (a for a in aliases if len(a) > MAX_NAME_LENGTH):
+            reader.add("error", name, row, sheet.header("aliases"), alias, _too_long(alias),
+                       f"Write only the player's other names, separated by '{schema.ALIAS_SEPARATOR}'.")
+        division = clean(values.get("division"))
+        if len(division) > MAX_NAME_LENGTH:
+            reader.add("error", name, row, sheet.header("division"), division, _too_long(division, "a division's"),
+                       "Write the division's name alone in the cell.")
+            division = ""
+        players.append(Player(player, division, starting, tuple(a for a in aliases if len(a) <= MAX_NAME_LENGTH), row))
     return players
+
+
+def _too_long(name: str, whose: str = "a player's") -> str:
+    return f"this name is {len(name):,} characters long; {whose} name has at most {MAX_NAME_LENGTH}"
 
 
 # ---------------------------------------------------------------- Divisions
@@ -387,10 +403,10 @@ def _link_divisions(divisions: list[Division], results, players, sheet: _Sheet |
         if spelling is None:
             index = index or CloseIndex(sorted(set(known.values())))
             close = index.matches(d.name)
-            hint = f"; close spellings: {', '.join(close)}" if close else ""
+            hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
             listed = sorted(set(known.values()), key=str.casefold)
             reader.add("error", sheet.spec.name, d.row, sheet.header("division"), d.name,
-                       f"no result in Results and no player in Players has the division '{d.name}'{hint}",
+                       f"no result in Results and no player in Players has the division '{shown(d.name)}'{hint}",
                        "Write the division as the Results sheet's Division column does ("
                        f"{', '.join(listed[:DIVISIONS_LISTED])}{', ...' if len(listed) > DIVISIONS_LISTED else ''}),"
                        " or delete the row.")
@@ -453,6 +469,8 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
     if not division:
         fault("division", "", "the division is blank",
               "Write the division (or the event, like 'Open night') where the match was played.", blank=True)
+    elif len(division) > MAX_NAME_LENGTH:
+        fault("division", division, _too_long(division, "a division's"), "Write the division's name alone in the cell.")
     spellings = {}
     for key in [k for k in SEATS if k in values]:
         spelling = str(values[key]).strip() if values[key] is not None else ""
@@ -460,8 +478,7 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
         if not spelling and key not in PARTNERS:
             fault(key, "", "the player's name is blank", "Write the player's name.", blank=True)
         elif len(spelling) > MAX_NAME_LENGTH:
-            fault(key, spelling, f"this name is {len(spelling):,} characters long; a player's name has at most "
-                  f"{MAX_NAME_LENGTH}", "Write the player's name alone in the cell.")
+            fault(key, spelling, _too_long(spelling), "Write the player's name alone in the cell.")
     for key, found, problem, fix in seat_faults(spellings, {k: sheet.header(k) for k in SEATS}, name_key):
         fault(key, found, problem, fix, blank=not found and key in sheet.columns)
     games = []
@@ -667,9 +684,9 @@ def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _
                            f"Write '{slip[0]}' if it is that player, or add '{display}' to Players.")
                 continue
             close = index.matches(display)
-            hint = f"; close spellings: {', '.join(close)}" if close else ""
+            hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
             reader.add("warning", schema.RESULTS.name, mention.row, mention.column, mention.spelling,
-                       f"'{display}' is not in Players{hint}",
+                       f"'{shown(display)}' is not in Players{hint}",
                        "Add the player to the Players sheet, or correct the spelling (the player is rated anyway).")
     sheet = sheets[schema.PLAYERS.name]
     if "division" not in sheet.columns or not divisions:
@@ -680,7 +697,7 @@ def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _
         if key and key not in divisions and key not in warned:
             warned.add(key)
             reader.add("warning", schema.PLAYERS.name, player.row, sheet.header("division"), player.division,
-                       f"no result in the Results sheet has the division '{player.division}'",
+                       f"no result in the Results sheet has the division '{shown(player.division)}'",
                        "Check the spelling against the Results sheet's Division column.")
 
 
@@ -707,15 +724,17 @@ def _link_fixtures(fixture_rows, known, display, sheet: _Sheet | None, reader: _
         for key in [k for k in SEATS if clean(values.get(k))]:
             spelling = clean(values[key])
             name = everyone.get(name_key(spelling))
-            if name is None:
+            if name is None and len(spelling) > MAX_NAME_LENGTH:
+                reader.add("error", schema.FIXTURES.name, row, sheet.header(key), spelling, _too_long(spelling),
+                           "Write the player's name alone in the cell.")
+            elif name is None:
                 index = index or CloseIndex(set(everyone.values()))
                 close = index.matches(spelling)
-                hint = f"; close spellings: {', '.join(close)}" if close else ""
+                hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
                 reader.add("warning", schema.FIXTURES.name, row, sheet.header(key), spelling,
-                           f"'{spelling}' has no results and is not in Players{hint}",
+                           f"'{shown(spelling)}' has no results and is not in Players{hint}",
                            "Check the spelling; a new player's chances are only a guess.")
-                name = spelling
-            names.append(name)
+            names.append(spelling if name is None else name)
         a, pa, b, pb = names if len(names) == 4 else (names[0], "", names[1], "")
         fixtures.append(Fixture(values["date"], a, b, values["race_a"], values["race_b"], row, pa, pb))
     return tuple(fixtures)

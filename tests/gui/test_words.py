@@ -92,6 +92,36 @@ def test_the_screen_says_plain_words_and_tooltips_give_the_terms(app, demo_copy)
         dialog.top.destroy()
 
 
+def test_window_sentences_name_the_player(app, demo_copy):
+    """The printed board may say "you" to the player; the window's reader is the secretary, so every sentence
+    on screen (What changed, the Ratings panel, the Watch list) names the player instead."""
+    from secretary.pipeline import DATA, append_results_csv
+
+    app.open_workbook(demo_copy)
+    settle(app)
+    app.update()
+    settle(app, 300)
+    append_results_csv(demo_copy, DATA / "demo-new-week.csv")  # the second week: changes with reasons
+    app.check()
+    settle(app)
+    app.update()
+    settle(app, 300)
+    app.review()
+    settle(app)
+    texts = []
+    for name in [c.name for c in app.updated.changes][:20]:  # the Ratings panel of twenty players
+        app.notebook.select(app.ratings.frame)
+        app.ratings.table.tree.selection_set(name)
+        app.root.update()
+        canvas = app.ratings.change_canvas
+        texts += [canvas.itemcget(i, "text") for i in canvas.find_all() if canvas.type(i) == "text"]
+    canvas = app.changes.canvas
+    texts += [canvas.itemcget(i, "text") for i in canvas.find_all() if canvas.type(i) == "text"]
+    texts += _shown_words(app.root)
+    assert sum(1 for t in texts if " won " in t) >= 10  # sentences about the week's games were drawn
+    assert [t for t in texts if re.search(r"\b(you|your|yours)\b", t, re.IGNORECASE)] == []
+
+
 def test_counts_on_screen_are_in_the_right_number(app, demo_copy):
     """No "(s)" or "(es)" plural on screen: every count goes through sentences.plural."""
     app.open_workbook(demo_copy)

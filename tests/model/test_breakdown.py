@@ -8,9 +8,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings as hyp_settings, strategies as st
 
-from secretary.model.breakdown import best_response, displayed_parts, explain_changes, opponent_shares
+from secretary.model.breakdown import displayed_parts, explain_changes
 from secretary.model.league import fit_league
 from secretary.model.records import Player, PublishedState, Result, Settings, fingerprint, identity
+from secretary.model.response import best_response, opponent_shares
 from secretary.model.scale import game_chance, points_per_logodds
 
 JARGON = re.compile(r"\b(prior|map|hessian|log-?odds|bradley|terry|posterior|z-?score|logit|gradient)\b", re.I)
@@ -342,6 +343,14 @@ def test_real_results_week_by_week():
         assert sum(shown) == change == shown_after - shown_before
         assert not JARGON.search(pc.sentence), pc.sentence
     assert any(not pc.played and abs(pc.opponents) >= 1 for pc in b.players)
+    # Each part from its own definition for the players each part moved most and ten others
+    # (measured: agreement to 8e-15 log-odds; last update's rows are unchanged, so R0 = P).
+    names = list(b.names)
+    who = {names[k] for part in (b.own_r, b.group_r, b.opponents_r) for k in np.argsort(-np.abs(part))[:5]}
+    who |= set(np.random.default_rng(1).choice(names, 10, replace=False).tolist())
+    expected, _, _, _ = parts_by_definition(old, rows, published, Settings(), (), names, sorted(who))
+    assert_parts(b, expected, 1e-10)
+    assert max(abs(b.group_r[names.index(n)]) for n in who) * points_per_logodds(400.0) > 3
 
 
 # --- each part from its own definition ---------------------------------------------------------
@@ -411,6 +420,53 @@ def tiered_weeks():
     return old, fixed, fixed + new, players, mover, newcomer
 
 
+def parts_by_definition(d0, d1, published, settings, players, names, who=None):
+    """Per player of ``who`` (default all): (corrections, own, group, opponents, BR_i(R1), R1_i), log-odds.
+
+    R0 and R1 are fits of D0 and D1 from scratch, at their own reference dates; BR is ``best_alone``.
+    Also returns the two fits and R0 by name.
+    """
+    t0, t1 = max(r.date for r in d0), max(r.date for r in d1)
+    fit0 = fit_league(d0, settings, players=players, reference_date=t0)
+    fit1 = fit_league(d1, settings, players=players)
+    starting = {p.name: p.starting for p in players if p.starting is not None}
+
+    def prior_mean(name):  # starting rating, else the centre, in log-odds
+        return (starting[name] - settings.centre) * LN10 / settings.scale if name in starting else 0.0
+
+    L0, L1 = dict(zip(fit0.group_names, fit0.level)), dict(zip(fit1.group_names, fit1.level))
+    home0 = {n: fit0.division(n) if n in fit0.names else fit1.division(n) for n in names}
+    home1 = {n: fit1.division(n) for n in names}
+    # A player with no row in D0 (a newcomer) sits at their prior mean given their division's level.
+    r0 = {n: float(fit0.r[fit0.index(n)]) if n in fit0.names else prior_mean(n) + L0[home1[n]] for n in names}
+    r1 = {n: float(fit1.r[fit1.index(n)]) for n in names}
+    if settings.division_spread:
+        shifted = {n: r0[n] - L0[home0[n]] + L1[home1[n]] for n in names}  # every deviation frozen
+    else:  # one pool: each division moves by its players' mean change
+        move = {g: np.mean([r1[n] - r0[n] for n in names if home1[n] == g]) for g in fit1.group_names}
+        shifted = {n: r0[n] + move[home1[n]] for n in names}
+    out = {}
+    for n in names if who is None else who:
+        br0 = best_alone(d1, t1, settings, n, r0, prior_mean(n) + L0[home0[n]])
+        br_shifted = best_alone(d1, t1, settings, n, shifted, prior_mean(n) + L1[home1[n]])
+        br1 = best_alone(d1, t1, settings, n, r1, prior_mean(n) + L1[home1[n]])
+        was = published.ratings.get(n)
+        p = r0[n] if was is None else (was - settings.centre) * LN10 / settings.scale
+        out[n] = (r0[n] - p, br0 - r0[n], br_shifted - br0, br1 - br_shifted, br1, r1[n])
+    return out, fit0, fit1, r0
+
+
+def assert_parts(b, expected, tol):
+    """The breakdown's four parts against ``parts_by_definition``; R1 is everyone's best response to R1."""
+    for n, (corrections, own, group, opponents, br1, r1) in expected.items():
+        k = b.names.index(n)
+        assert b.corrections_r[k] == pytest.approx(corrections, abs=tol), n
+        assert b.own_r[k] == pytest.approx(own, abs=tol), n
+        assert b.group_r[k] == pytest.approx(group, abs=tol), n
+        assert b.opponents_r[k] == pytest.approx(opponents, abs=tol), n
+        assert br1 == pytest.approx(r1, abs=tol), n
+
+
 @pytest.mark.parametrize("division_spread", [100.0, 0.0], ids=["levels", "one pool"])
 def test_each_part_equals_its_own_definition(division_spread):
     old, d0, d1, players, mover, newcomer = tiered_weeks()
@@ -418,47 +474,22 @@ def test_each_part_equals_its_own_definition(division_spread):
     published = publish(old, settings, players)
     b = explain_changes(d1, published, settings, players)
     ppl = settings.scale / LN10
-
-    t0, t1 = max(r.date for r in d0), max(r.date for r in d1)
-    fit0 = fit_league(d0, settings, players=players, reference_date=t0)  # R0: D0 alone, from scratch
-    fit1 = fit_league(d1, settings, players=players)
+    expected, fit0, fit1, r0 = parts_by_definition(d0, d1, published, settings, players, list(b.names))
     assert fit0.division(mover) == "Three" and fit1.division(mover) == "Two"
-
-    def prior_mean(name):  # starting rating, else the centre, in log-odds
-        start = {p.name: p.starting for p in players if p.starting is not None}.get(name)
-        return 0.0 if start is None else (start - settings.centre) * LN10 / settings.scale
-
-    names = list(b.names)
-    L0 = dict(zip(fit0.group_names, fit0.level))
-    L1 = dict(zip(fit1.group_names, fit1.level))
-    home0 = {n: fit0.division(n) if n in fit0.names else fit1.division(n) for n in names}
-    home1 = {n: fit1.division(n) for n in names}
-    # A player with no row in D0 (the newcomer) sits at their prior mean given their division's level.
-    r0 = {n: float(fit0.r[fit0.index(n)]) if n in fit0.names else prior_mean(n) + L0[home1[n]] for n in names}
-    r1 = {n: fit1.r[fit1.index(n)] for n in names}
-    if division_spread:
-        shifted = {n: r0[n] - L0[home0[n]] + L1[home1[n]] for n in names}  # every deviation frozen
-    else:  # one pool: each division moves by its players' mean change
-        move = {g: np.mean([r1[n] - r0[n] for n in names if home1[n] == g]) for g in fit1.group_names}
-        shifted = {n: r0[n] + move[home1[n]] for n in names}
-    br0 = {n: best_alone(d1, t1, settings, n, r0, prior_mean(n) + L0[home0[n]]) for n in names}
-    br_shifted = {n: best_alone(d1, t1, settings, n, shifted, prior_mean(n) + L1[home1[n]]) for n in names}
-    br1 = {n: best_alone(d1, t1, settings, n, r1, prior_mean(n) + L1[home1[n]]) for n in names}
-
     # Measured: the parts agree to 5e-9 log-odds (R0's warm start against a fit from scratch), and
     # BR(R1) = R1 to 3e-15.
-    for k, n in enumerate(names):
-        was = published.ratings.get(n)
-        p = r0[n] if was is None else (was - settings.centre) * LN10 / settings.scale
-        assert b.corrections_r[k] == pytest.approx(r0[n] - p, abs=2e-8), n
-        assert b.own_r[k] == pytest.approx(br0[n] - r0[n], abs=2e-8), n
-        assert b.group_r[k] == pytest.approx(br_shifted[n] - br0[n], abs=2e-8), n
-        assert b.opponents_r[k] == pytest.approx(br1[n] - br_shifted[n], abs=2e-8), n
-        assert br1[n] == pytest.approx(r1[n], abs=1e-12)  # R1 is everyone's best response to R1
+    assert_parts(b, expected, 2e-8)
     # The scenario moves every part somewhere, so none of the checks above is empty.
     for part in (b.corrections_r, b.own_r, b.group_r, b.opponents_r):
         assert np.abs(part).max() * ppl > 2
-    k = names.index(mover)
+    for g in fit1.group_names:  # each division's shift: its level's change (one pool: its mean change)
+        if division_spread:
+            assert b.group_shift[g] == pytest.approx(fit1.level_points(g) - fit0.level_points(g), abs=2e-8 * ppl)
+            assert b.level_before[g] == pytest.approx(fit0.level_points(g), abs=2e-8 * ppl)
+        else:
+            moved = np.mean([fit1.r[fit1.index(n)] - r0[n] for n in b.names if fit1.division(n) == g])
+            assert b.group_shift[g] == pytest.approx(moved * ppl, abs=2e-8 * ppl)
+    k = b.names.index(mover)
     if division_spread:  # the mover's group part is Two's new level against Three's old one
-        assert b.group_r[k] * ppl > 5 and L1["Two"] - L0["Three"] > 0
-    assert newcomer not in published.ratings and b.corrections_r[names.index(newcomer)] == 0.0
+        assert b.group_r[k] * ppl > 5 and fit1.level_points("Two") - fit0.level_points("Three") > 0
+    assert newcomer not in published.ratings and b.corrections_r[b.names.index(newcomer)] == 0.0
