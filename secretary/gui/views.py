@@ -6,7 +6,9 @@ import re
 from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
+from secretary.model.division_table import INFERRED
 from secretary.model.notice import PAST_NOTE, fixture_note, is_past
+from secretary.model.records import HOME_RULES
 from secretary.model.sentences import naming, plural
 from secretary.workbook import schema
 
@@ -203,8 +205,35 @@ RATING_COLUMNS = (
     Column("games", "Weighted games", "Games played, old ones counting less (see Half-life in Settings), "
            "rounded to whole games: the Weighted games column of the Ratings sheet.", 6, True),
     Column("last", "Last played", "The date of the player's most recent result.", 10, True),
-    Column("note", "Note", "New players and ratings that rest on few games are marked here.", 12),
+    Column("note", "Note", "New players, ratings that rest on few games, and divisions that the Players sheet "
+           "does not give (taken from the player's most recent result) are marked here.", 12),
 )
+
+
+LEVEL_COLUMNS = (
+    Column("division", "Division", "The division.", 14),
+    Column("level", "Division level", "How strong the division is as a whole, in points above (+) or below (-) "
+           "the starting rating (Centre); a player's rating is their division's level plus how far they stand "
+           "from it (the division's level, a random effect fitted with the players).", 8, True),
+    Column("sd", "\u00b1", "How uncertain the division level is, in points (its posterior SD). It stays wide "
+           "even with many games, because games show a division's strength but not how it splits between the "
+           "level and its players' own distances from it; blank when Division spread is 0 (fixed levels).", 4, True),
+    Column("players", "Players", "Players counted in the division.", 6, True),
+    Column("cross", "Games against other divisions", "Games against other divisions (older ones counting "
+           "less): the games that set the level.", 9, True),
+    Column("note", "Note", "How the level was set: from a starting level on the Divisions sheet, or still at it.",
+           30, stretch=True),
+)
+
+
+def level_rows(levels: Sequence) -> list[Row]:
+    """The divisions table (``division_table.DivisionLevel``), strongest first as given."""
+    rows = []
+    for d in levels:
+        values = (d.label, d.level, d.sd, d.players, d.cross_games, d.note)
+        shown = (d.label, signed(d.level), points(d.sd), str(d.players), f"{d.cross_games:.0f}", d.note)
+        rows.append(Row(d.label, values, shown, () if d.cross_games or d.sd is None else ("flagged",)))
+    return rows
 
 
 def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
@@ -215,7 +244,8 @@ def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
         if position == 1 or round(p.rating) != round(order[position - 2].rating):
             place = position
         new = p.is_new or p.change is None
-        notes = (["new this update"] if new else []) + (["few games"] if p.games < few_games else [])
+        notes = (["new this update"] if new else []) + (["few games"] if p.games < few_games else []) + (
+            [INFERRED] if p.division_from == HOME_RULES[1] else [])
         values = (place, p.name, p.rating, None if new else p.change, p.division, p.sd, p.games,
                   p.last_played, ", ".join(notes))
         shown = (str(place), p.name, points(p.rating), "" if new else signed(p.change),

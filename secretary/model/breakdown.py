@@ -30,7 +30,8 @@ Choices made here (the contract leaves them open):
   "previous" rating is their prior mean and their corrections part is 0.
   ``R0``'s fit starts from ``P`` (warm start).
 - Groups are the current fit's divisions (Players sheet, else the division
-  played most); in one pool ``d_g`` averages over every player counted in the division.
+  of the player's most recent result); in one pool ``d_g`` averages over every player counted in the
+  division.
 - The first update (or a missing record) runs the same arithmetic with
   ``D0`` empty and ``P`` = the starting ratings; ``Breakdown.first_update``
   tells writers to show first ratings only.

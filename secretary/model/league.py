@@ -22,7 +22,7 @@ from secretary.model.diagnose import Diagnosis, diagnose
 from secretary.model.fit import Levels, fit_map, hessian
 from secretary.model.matches import Matches, from_results, home_divisions, last_played
 from secretary.model.pairs import Pairs, age_weights, aggregate
-from secretary.model.records import Player, Result, Settings
+from secretary.model.records import HOME_RULES, Player, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
 from secretary.model.uncertainty import contrast_variance, strength_variance
 
@@ -141,7 +141,6 @@ class LeagueFit:
         return self.group_names[self.group[self.index(name)]]
 
 
-HOME_RULES = ("Players sheet", "played most", "no results")
 
 
 def division_levels(group: np.ndarray, group_names: Sequence[str], settings: Settings,

@@ -286,12 +286,13 @@ def _levels(fit) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _whole_pools(fit) -> np.ndarray:
-    """Per pool: is it the largest pool, or the pool that holds most of some division's players?
+    """Per pool: is it the largest pool, or the pool that holds most of a division cut off from the largest?
 
     Any other separate pool is an island (two newcomers who only met each other, a
     misspelt name): it is listed once, on its own line, and never suggested for.
     A division that plays nobody else is a pool too, but that is the division's
-    problem, which its line and the suggestions address.
+    problem, which its line and the suggestions address; a pool inside a division
+    that others do reach is not (that line is not flagged), so it is an island.
     """
     pool = fit.diagnosis.pool
     if not len(pool):
@@ -300,7 +301,7 @@ def _whole_pools(fit) -> np.ndarray:
     count = np.zeros((n_pools, n_groups), dtype=np.int64)
     np.add.at(count, (pool, fit.group), 1)
     whole = np.zeros(n_pools, dtype=bool)
-    whole[np.argmax(count, axis=0)] = True
+    whole[np.argmax(count, axis=0)[count[0] == 0]] = True
     whole[0] = True
     return whole
 

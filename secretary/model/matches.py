@@ -112,26 +112,23 @@ def _matches(rated: Sequence[Result], names, idx_a, idx_b, partner_a=None, partn
 
 
 def home_divisions(matches: Matches, players: Sequence[Player] = ()) -> list[str]:
-    """Each player's group: the Players sheet's division, else the division they played most in.
+    """Each player's group: the Players sheet's division, else the division of their most recent result.
 
-    Ties go to the division the player met first (matches in order, side A before side B).
+    A player who changed division is counted in the one they play in now.
+    "Most recent" is the latest date, and on one date the result further
+    down the sheet; results with no division count only for a player who
+    has no other ("" then).
     """
-    n, k = len(matches.names), max(len(matches.division_names), 1)
-    if matches.partner_a is None:
-        who = np.column_stack([matches.idx_a, matches.idx_b]).ravel()
-        where = np.repeat(matches.division, 2)
-    else:  # seats in match order, so ties still go to the division met first
-        who, row = matches.seats()
-        order = np.argsort(row, kind="stable")
-        who, where = who[order], matches.division[row[order]]
-    cell = who * k + where
-    count = np.bincount(cell, minlength=n * k)
-    first = np.full(n * k, len(cell), dtype=np.int64)
-    np.minimum.at(first, cell, np.arange(len(cell)))
-    # Most games first, then the earliest first meeting: one lexicographic sort over the cells.
-    order = np.lexsort((first, -count, np.arange(n * k) // k))
-    best = order[np.arange(n) * k]  # each player's k cells sit together, their best first
-    home = [matches.division_names[c % k] if count[c] else "" for c in best.tolist()]
+    n, m = len(matches.names), len(matches)
+    who, match = matches.seats()  # every seat, doubles partners too
+    named = np.array([bool(d) for d in matches.division_names], dtype=bool)
+    # One key orders every seat: a named division first, then the date, then the sheet order.
+    has_name = named[matches.division[match]] if m else np.zeros(0, dtype=bool)
+    day = matches.day[match] - (matches.day.min() if m else 0)
+    key = (has_name.astype(np.int64) * (int(day.max()) + 1 if m else 1) + day) * max(m, 1) + match
+    latest = np.full(n, -1, dtype=np.int64)
+    np.maximum.at(latest, who, key)
+    home = ["" if k < 0 else matches.division_names[matches.division[k % max(m, 1)]] for k in latest.tolist()]
     given = {p.name: p.division for p in players if p.division}
     if given:
         home = [given.get(name, h) for name, h in zip(matches.names, home)]

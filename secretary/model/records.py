@@ -214,6 +214,11 @@ def fingerprint(result: Result) -> str:
     )
 
 
+# How a player's home division was found: the Players sheet's Division, else the division of their most
+# recent result (a player who changed division is counted in the one they play in now), else none.
+HOME_RULES = ("Players sheet", "latest results", "no results")
+
+
 @dataclass(frozen=True)
 class PlayerRating:
     """One line of the published ratings."""
@@ -227,6 +232,7 @@ class PlayerRating:
     last_played: dt.date | None
     change: float | None = None  # points since the previous update; None = new
     is_new: bool = False  # first published this update
+    division_from: str = ""  # how the division was found: one of HOME_RULES ("" when not known)
 
 
 @dataclass(frozen=True)

@@ -47,9 +47,15 @@ def test_demo_league_update_fills_every_tab(app, demo_copy):
     updated(app)
 
     # Ratings table == Ratings sheet written by the same update (rank, player, shown rating).
-    sheet = [(r[0], r[1], round(r[3])) for r in sheet_rows(demo_copy, "Ratings")]
+    # The players (a rank in column A); the divisions table under them has none.
+    sheet = [(r[0], r[1], round(r[3])) for r in sheet_rows(demo_copy, "Ratings") if isinstance(r[0], int)]
     tree = [(int(v[0]), v[1], int(v[2])) for v in app.ratings.table.shown_values()]
     assert tree == sheet and len(tree) == 63
+    # The divisions table == the one under the players on the sheet (division, level, ±).
+    levels = [(r[2], round(r[3]), round(r[4])) for r in sheet_rows(demo_copy, "Ratings")
+              if r[0] is None and isinstance(r[3], float)]
+    assert [(v[0], int(v[1]), int(v[2])) for v in app.ratings.levels.shown_values()] == levels
+    assert len(levels) == 4 and app.ratings.levels_frame.winfo_ismapped()
     # Fixtures and watch-list divisions: one table row per sheet row.
     assert len(app.fixtures.table.shown_values()) == len(sheet_rows(demo_copy, "Fixtures"))
     assert {v[0] for v in app.watch.tables[0].shown_values()} == set(app.updated.divisions)
@@ -216,7 +222,7 @@ def test_every_button_heading_and_setting_has_a_tooltip(app, demo_copy):
     assert len(buttons) >= 9
     assert [str(b) for b in buttons if not tip_of(b)] == []
     trees = [w for w in everything if isinstance(w, ttk.Treeview)]
-    assert len(trees) == 6
+    assert len(trees) == 7  # the Ratings tab has the divisions table too
     for tree in trees:
         tips = tip_of(tree)
         assert all(tips.get(c) for c in tree["columns"]), str(tree)

@@ -226,6 +226,22 @@ def test_separate_pool_is_called_out_with_the_prior_as_its_only_anchor():
     assert not any({"Cara Quill", "Dov Reed"} & {m.player_a, m.player_b} for m in wl.suggestions)
 
 
+def test_a_group_that_outnumbers_its_divisions_linked_players_is_still_an_island():
+    # Hill's eight regulars play Town; twelve newcomers counted in Hill play only each other. They
+    # are most of Hill's players, but Hill is tied in by the regulars, so its line is not flagged:
+    # the twelve must be named on their own line, or nobody would hear of them.
+    results, players, strength, rng = make_league(seed=7)
+    results = results + cross_matches(rng, strength, 20)
+    group = [f"New {k}" for k in range(12)]
+    extra = [Result(START + dt.timedelta(days=k), a, b, 5, 2 + k % 3, "Hill")
+             for k, (a, b) in enumerate(itertools.combinations(group, 2))]
+    wl = watch(results + extra, players + [Player(name, "Hill") for name in group])
+    (pool,) = wl.pools
+    assert set(pool.players) == set(group) and pool.divisions == ("Hill",)
+    assert not wl.division("Hill").flagged
+    assert not any(set(group) & {m.player_a, m.player_b} for m in wl.suggestions)
+
+
 # ------------------------------------------------------------------ division levels
 
 SPREAD = 120.0  # points: a Division spread for the level tests
@@ -465,31 +481,44 @@ CAPITALISED = {"Kento MOMOTA", "Sameer VERMA", "Yuqi SHI", "Wan Ho SON", "Tien C
 
 
 @pytest.mark.realdata
-def test_badminton_finals_spelt_in_capitals_form_a_division_held_by_the_prior():
-    # Source: docs/real-data.md (badminton): one season-ending event writes surnames in
-    # capitals; taken literally its eight players play nobody else. They are the whole Finals
-    # division, so the division's line says so (not an island line) and the suggestions tie it in.
+def test_badminton_finals_spelt_in_capitals_are_an_island_inside_a_linked_division():
+    # Source: docs/real-data.md (badminton, world-tour men's singles 2018-2021): the 2018
+    # season-ending Finals write surnames in capitals, so taken literally those eight players play
+    # nobody else. A player's home division is that of their most recent result, and the set ends in
+    # March 2021, two months after the January 2021 Finals: four players whose last event was that
+    # Finals (Chou, Ginting, Wang, Ng) are counted in Finals too, and tie it to the rest (measured:
+    # 12 players, 4 linking it, linked share 0.61). So the eight are not "the whole Finals division",
+    # as they were when the home division was the one played most: they are a group with no path of
+    # games to anyone else, named once on their own line, and never in a suggestion.
     results = realdata.badminton(fold_case=False)
     wl = watch_list(fit_league(results, with_uncertainty=False), results)
-    assert wl.pools == ()
+    [island] = wl.pools
+    assert set(island.players) == CAPITALISED and island.divisions == ("Finals",)
+    assert "another spelling" in island.what_to_do
     finals = wl.division("Finals")
-    assert finals.flagged and finals.cross_games == 0 and finals.linking_players == 0
-    assert finals.linked_share == pytest.approx(0.0, abs=1e-9)  # only the prior sets their level
-    assert "has played no one from another division" in finals.what_to_do
-    assert wl.divisions[0].division == "Finals"  # the emptiest link is listed first
-    assert wl.suggestions and all(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
+    assert finals.players == 12 and set(finals.linkers) == {
+        "Tien Chen Chou", "Anthony Sinisuka Ginting", "Tzu Wei Wang", "Ka Long Angus Ng"}
+    assert finals.cross_games > 0 and not finals.flagged
+    assert not any(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
+    assert not {h.name for h in wl.held} & CAPITALISED
 
     merged = realdata.badminton(fold_case=True)
     fit = fit_league(merged, with_uncertainty=False)
     wl = watch_list(fit, merged)
     assert wl.pools == ()
-    assert "Finals" not in fit.group_names  # the eight are counted in the divisions they mostly play
     folded = {name.casefold() for name in CAPITALISED}
     names = [n for n in fit.names if n.casefold() in folded]
     assert len(names) == 8
+    last = {}  # each one's most recent result's division, computed here from the rows themselves
+    for r in merged:
+        for name in (r.player_a, r.player_b):
+            if name in names and (name not in last or r.date >= last[name][0]):
+                last[name] = (r.date, r.division)
     for name in names:
+        assert fit.division(name) == last[name][1]
         division = wl.division(fit.division(name))
         assert name in division.linkers and division.cross_games > 0
+    assert {fit.division(n) for n in names} == {"Finals", "Super 1000", "Super 750"}
     assert not {h.name for h in wl.flagged_players} & set(names)
     assert not any(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
 
