@@ -159,3 +159,24 @@ def test_a_megabyte_value_anywhere_is_cut_in_every_message(tmp_path, run, where)
     league = write_book(tmp_path / "league.xlsx", rows, players=players, settings=settings, fixtures=fixtures)
     out = _refused(run, league, " characters)")  # shown as its start and its length
     assert len(out) < 2000 and "Q" * 61 not in out, out[:3000]
+
+
+@pytest.mark.parametrize("score", [(7, 3), (9, 0)])
+def test_a_score_up_to_the_longest_race_passes(tmp_path, run, score):
+    league = write_book(tmp_path / "league.xlsx", good_results() + [[LATER, "Premier", "Ada Finch", "Dev Pike", *score]])
+    code, out = run("update", league)
+    assert code == 0, out
+
+
+@pytest.mark.parametrize("far_rows, refused", [(5, True), (6, False)])
+def test_up_to_five_results_far_after_all_others_are_refused(tmp_path, run, far_rows, refused):
+    old = [[D.replace(year=2024), *row[1:]] for row in good_results()]
+    far = [[D.replace(year=2025) + dt.timedelta(days=30 + k), "Premier", "Ada Finch", "Dev Pike", 5, 2]
+           for k in range(far_rows)]
+    league = write_book(tmp_path / "league.xlsx", old + far)
+    if refused:
+        out = _refused(run, league, "more than a year after every other result")
+        assert out.count("more than a year after every other result") == far_rows
+    else:  # six or more: a league that paused for a year, not a typing slip
+        code, out = run("update", league)
+        assert code == 0, out
