@@ -1,7 +1,7 @@
 """The Results rows that pass every row check, found a column at a time.
 
-Most of a league's rows are ordinary: a date, a division, two different names,
-two whole scores within the Longest race, no "void" note.  Checking them one
+Most of a league's rows are ordinary: a date, a division, two different names
+(no partners: singles), two whole scores within the Longest race, no "void" note.  Checking them one
 cell at a time costs most of a read at a million rows, so each column's
 distinct values are checked once (a league repeats a few hundred dates and a
 few thousand names) and a row is ordinary when all its cells are.  Every other
@@ -22,7 +22,8 @@ from secretary.workbook.dates import parse_date
 from secretary.workbook.names import MAX_NAME_LENGTH, clean, name_key
 
 # The Results columns this module knows; a sheet with any other known column is checked row by row.
-KEYS = frozenset({"date", "division", "player_a", "player_b", "games_a", "games_b", "event", "note"})
+KEYS = frozenset({"date", "division", "player_a", "player_b", "partner_a", "partner_b", "games_a", "games_b",
+                  "event", "note"})
 _TEXT = frozenset({str, type(None)})
 # Values of these types are equal only when a check gives them the same answer (1 == 1.0, but not True).
 _NUMBERS = frozenset({int, float, str, type(None)})
@@ -51,11 +52,13 @@ def ordinary_rows(columns: Mapping[str, int], body: Sequence[Sequence], first_ro
     games_a, games_b = (_checked(column(k), lambda v: _score(v, longest), _NUMBERS) for k in ("games_a", "games_b"))
     events = _checked(column("event"), clean, _TEXT)
     plain = _checked(column("note"), _not_void, _TEXT)
+    singles = [a and b for a, b in zip(*(_checked(column(k), _no_partner, _TEXT) for k in ("partner_a", "partner_b")))]
     out = []
-    for number, date, division, a, b, key_a, key_b, ga, gb, event, rated in zip(
-            count(first_row), dates, divisions, names_a, names_b, keys_a, keys_b, games_a, games_b, events, plain):
+    for number, date, division, a, b, key_a, key_b, ga, gb, event, rated, single in zip(
+            count(first_row), dates, divisions, names_a, names_b, keys_a, keys_b, games_a, games_b, events, plain,
+            singles):
         if (date is None or division is None or a is None or b is None or key_a == key_b or ga is None
-                or gb is None or not rated or ga == gb == 0):
+                or gb is None or not rated or ga == gb == 0 or not single):
             out.append(None)
         else:
             out.append(make(number, date, division, a, b, ga, gb, event))
@@ -78,6 +81,10 @@ def _division(value) -> str | None:
 def _spelling(value) -> str | None:
     spelling = str(value).strip() if value is not None else ""
     return spelling if spelling and len(spelling) <= MAX_NAME_LENGTH else None
+
+
+def _no_partner(value) -> bool:
+    return value is None or not str(value).strip()
 
 
 def _key(spelling: str | None) -> str | None:

@@ -81,7 +81,7 @@ def test_month_first_dates_and_a_sheet_of_unknown_columns(tmp_path, monkeypatch)
     _same(fast, slow)
     assert taken == 28 and fast.results[2].date == dt.date(2026, 3, 3)
     # A column the fast path does not know sends every row through the row checks.
-    assert ordinary.ordinary_rows({"date": 1, "partner_a": 9}, [(D,)], 2, fast.settings, tuple) == [None]
+    assert ordinary.ordinary_rows({"date": 1, "rack_count": 9}, [(D,)], 2, fast.settings, tuple) == [None]
 
 
 @pytest.mark.parametrize("case", [c for c in BAD_WORKBOOKS if c.where is not None], ids=lambda c: c.case_id)
@@ -89,3 +89,17 @@ def test_every_bad_workbook_gets_the_same_problems(case, tmp_path, monkeypatch):
     path = case.build(tmp_path / "league.xlsx")
     fast, slow, _ = _read_both(path, monkeypatch)
     _same(fast, slow)
+
+
+def test_a_sheet_with_partner_columns_singles_and_doubles(tmp_path, monkeypatch):
+    from tests.workbook.league_books import RESULTS_HEADERS
+
+    day = dt.datetime(2026, 3, 14)
+    singles = [day, "Premier", "Ada Finch", "Bram Oak", 5, 3, "", None]
+    partners = [(None, None), ("", "  "), ("Cleo Marsh", "Dev Pike"), ("Cleo Marsh", None), (None, "Dev Pike"),
+                ("Ada Finch", "Dev Pike"), ("Cleo Marsh", "Bram Oak"), ("Cleo Marsh", "cleo marsh"), (0, None)]
+    rows = [singles + list(p) for p in partners] * 2
+    path = write_book(tmp_path / "league.xlsx", rows, results_headers=(*RESULTS_HEADERS, "Partner A", "Partner B"))
+    fast, slow, taken = _read_both(path, monkeypatch)
+    _same(fast, slow)
+    assert taken == 4 and any(r.partner_a for r in fast.results)
