@@ -228,6 +228,10 @@ def cmd_evaluate(args) -> int:
     for label, sc in (("per game, predictive", ev.predictive), ("per game, point", ev),
                       ("per race, predictive", ev.predictive_race), ("per race, point", ev.race)):
         print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
+    if ev.doubles is not None:
+        print(f"  Doubles alone ({ev.doubles.count:,.0f} games, included above):")
+        for label, sc in (("per game, predictive", ev.doubles_predictive), ("per game, point", ev.doubles)):
+            print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
     if ev.few_games:
         print(f"  Games involving a player with few games: {ev.few_games:,.0f}, point log-loss {ev.few_log_loss:.4f}.")
     for what, unit, bands in (("each game", "games", ev.predictive.calibration),
