@@ -304,7 +304,8 @@ def fit_map(
     prior_mean : array (n,), prior means ``mu`` in log-odds (of the deviations ``u`` with ``levels``)
     prior_sd : prior SD ``sd`` in log-odds (> 0)
     levels : optional division levels (``tau = levels.sd``; ``tau = 0`` fixes them at their means)
-    start : optional starting point for ``r`` (defaults to ``prior_mean``, plus the starting levels)
+    start : optional starting point for ``r`` (defaults to ``prior_mean``, plus the starting levels); with free
+        ``levels`` it may also hold the levels after the strengths (``n + D`` values: a warm start of both)
     gtol : stop when ``max_k |dF/dx_k| <= gtol * max(1, mean weighted games)``
 
     Raises
@@ -342,7 +343,8 @@ def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: f
         def newton_step(h, g, gmax):
             return _newton_step(pattern, h, prior_sd, g, gmax)
     else:
-        x = np.concatenate([r, np.asarray(levels.mean, dtype=float)])
+        D = len(levels.mean)
+        x = r if len(r) == pairs.n_players + D else np.concatenate([r, np.asarray(levels.mean, dtype=float)])
 
         def evaluate(y):
             return _level_gradient_and_curvature(pairs, y, mu, prior_sd, levels)

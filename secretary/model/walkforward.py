@@ -1,0 +1,275 @@
+"""The walk forward's steps: results indexed once, then one fit per step from the results before it.
+
+Each step is rated exactly as an update on that day would rate the league
+(``league.fit_matches``): ages from the newest earlier result, each player's
+home division from the earlier results (the Players sheet's division, else the
+division they played most in, ties to the division met first), and, with a
+Division spread above 0 and two or more divisions in the walk, a level per
+division fitted jointly with the players (``fit.Levels``).  A division
+nobody has played in yet keeps its starting level (its level is separate from
+everything fitted, so this changes no other value).
+
+A player not yet seen starts at their division's level: strength
+``mu_i + L_d`` (``mu_i`` the starting offset, 0 without a starting rating),
+``d`` their Players-sheet division, else the division of the match being
+predicted.  For predictive chances the difference ``r_a - r_b`` is a contrast
+over the joint posterior of ``(r, L)`` (``c^T H^-1 c`` with a newcomer's
+coefficient on their division's level, plus the Skill spread's variance per
+newcomer), so a newcomer's chance carries their level's ± too.
+
+Each fit starts from the previous step's optimum, strengths and levels (players
+first seen since start at their division's level), so a walk costs a few
+Newton steps per week.
+"""
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+from typing import Mapping, Sequence
+
+import numpy as np
+import scipy.sparse as sp
+
+from secretary.errors import Cancelled
+from secretary.model.fit import LaplacianPattern, Levels, fit_map, joint_hessian, pair_curvature
+from secretary.model.matches import factorise
+from secretary.model.pairs import Pairs, age_weights
+from secretary.model.records import Player, Result, Settings
+from secretary.model.scale import points_per_logodds, to_strength
+from secretary.model.uncertainty import contrast_variance
+
+
+@dataclass(frozen=True)
+class Walk:
+    """Results prepared once for any number of walks (the settings come later).
+
+    Matches are sorted by date (stable) and players numbered in order of first
+    appearance, so the players seen before any step are ``0 .. n_seen - 1``.
+
+    Attributes
+    ----------
+    names : players in order of first appearance
+    day : days since ``first_date`` of each match (sorted)
+    a, b : player index of each side
+    games_a, games_b : games won by each side
+    order : position of each sorted match in the caller's sequence
+    bounds : first match of each step; step ``k`` is ``bounds[k] : bounds[k + 1]``
+    pair : pair number of each match; ``pair_i < pair_j`` are the players of each pair
+    pair_first : index of the first match of each pair
+    starting : starting rating (points) of each player, NaN where none
+    first_date : date of step 0's first day
+    step_days : length of a step in days
+    n_input : length of the caller's sequence (void results included)
+    division : division of each match (index into ``division_names``)
+    division_names : the divisions met ("" = none given), Players-sheet divisions first
+    given_home : each player's Players-sheet division (index), -1 where none
+    starting_level : each division's starting level, points above the centre (0 = blank)
+    """
+
+    names: tuple[str, ...]
+    day: np.ndarray
+    a: np.ndarray
+    b: np.ndarray
+    games_a: np.ndarray
+    games_b: np.ndarray
+    order: np.ndarray
+    bounds: np.ndarray
+    pair: np.ndarray
+    pair_i: np.ndarray
+    pair_j: np.ndarray
+    pair_first: np.ndarray
+    starting: np.ndarray
+    first_date: dt.date | None
+    step_days: int
+    n_input: int
+    division: np.ndarray = None
+    division_names: tuple[str, ...] = ("",)
+    given_home: np.ndarray = None
+    starting_level: np.ndarray = None
+
+    def seen(self, stop: int) -> int:
+        """Number of players who appear in the first ``stop`` matches."""
+        if stop == 0:
+            return 0
+        return int(max(self.a[:stop].max(), self.b[:stop].max())) + 1
+
+
+def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_days: int = 7,
+            starting_levels: Mapping[str, float] | None = None) -> Walk:
+    """Sort and index the rated (non-void) results for ``evaluate``.
+
+    Parameters
+    ----------
+    results : the matches, in any order; void ones are not predicted or used
+    players : optional Players-sheet records; starting ratings (points) set prior means, divisions home divisions
+    step_days : length of a step in days (7 = week by week)
+    starting_levels : optional starting level per division, points above the centre (the Divisions sheet)
+    """
+    if int(step_days) < 1:
+        raise ValueError(f"the step must be at least one day (got {step_days!r})")
+    step_days = int(step_days)
+    results = list(results)
+    kept = [k for k, res in enumerate(results) if not res.void]
+    kept.sort(key=lambda k: results[k].date)  # stable: same-day rows keep the caller's order
+    sides = [name for k in kept for name in (results[k].player_a, results[k].player_b)]
+    names, both = factorise(sides)
+    a, b = both[0::2].copy(), both[1::2].copy()
+    n = len(names)
+    given = {p.name: p.division for p in players if p.division}
+    division_names, division = factorise([results[k].division for k in kept],
+                                         [given[x] for x in names if x in given])
+    code = {d: k for k, d in enumerate(division_names)}
+    first = results[kept[0]].date if kept else None
+    day = np.fromiter(((results[k].date - first).days for k in kept), np.int64, len(kept))
+    steps = int(day[-1] // step_days) + 1 if len(kept) else 0
+    bounds = np.searchsorted(day, np.arange(steps + 1) * step_days, side="left")
+    lo, hi = np.minimum(a, b), np.maximum(a, b)
+    keys, first_match, pair = np.unique(lo * max(n, 1) + hi, return_index=True, return_inverse=True)
+    starting = np.full(n, np.nan)
+    index = {x: k for k, x in enumerate(names)}
+    for p in players:
+        if p.starting is not None and p.name in index:
+            starting[index[p.name]] = float(p.starting)
+    return Walk(
+        names=tuple(names), day=day, a=a, b=b,
+        games_a=np.fromiter((results[k].games_a for k in kept), float, len(kept)),
+        games_b=np.fromiter((results[k].games_b for k in kept), float, len(kept)),
+        order=np.asarray(kept, np.int64), bounds=bounds.astype(np.int64),
+        pair=pair.reshape(-1).astype(np.int64), pair_i=keys // max(n, 1), pair_j=keys % max(n, 1),
+        pair_first=first_match.astype(np.int64), starting=starting, first_date=first, step_days=step_days,
+        n_input=len(results), division=division, division_names=tuple(division_names),
+        given_home=np.fromiter((code[given[x]] if x in given else -1 for x in names), np.int64, n),
+        starting_level=np.array([float((starting_levels or {}).get(d, 0.0)) for d in division_names]),
+    )
+
+
+def training_pairs(walk: Walk, stop: int, half_life_days: float) -> Pairs:
+    """Age-weighted pairs of the first ``stop`` matches, ages from the newest of them.
+
+    Only the players seen so far (``0 .. walk.seen(stop) - 1``) take part.
+    """
+    n = walk.seen(stop)
+    age = (walk.day[stop - 1] - walk.day[:stop]) if stop else np.zeros(0)
+    w = age_weights(age, half_life_days)
+    first_is_i = walk.a[:stop] < walk.b[:stop]
+    won_lo = np.where(first_is_i, walk.games_a[:stop], walk.games_b[:stop]) * w
+    won_hi = np.where(first_is_i, walk.games_b[:stop], walk.games_a[:stop]) * w
+    m = len(walk.pair_first)
+    won_i = np.bincount(walk.pair[:stop], won_lo, m)
+    won_j = np.bincount(walk.pair[:stop], won_hi, m)
+    met = walk.pair_first < stop
+    return Pairs(n, walk.pair_i[met], walk.pair_j[met], won_i[met], won_j[met])
+
+
+class Homes:
+    """Each seen player's home division after the first ``stop`` matches, counted incrementally.
+
+    The rule of ``matches.home_divisions``: the Players-sheet division, else the
+    division played most in, ties to the one met first.
+    """
+
+    def __init__(self, walk: Walk):
+        self.walk = walk
+        n, D = len(walk.names), len(walk.division_names)
+        self.count = np.zeros((n, D), np.int64)
+        self.first = np.full((n, D), 2 * len(walk.day), np.int64)  # position of the first meeting (side A first)
+        self.done = 0
+
+    def at(self, stop: int) -> np.ndarray:
+        """Home division (index) of players ``0 .. walk.seen(stop) - 1``."""
+        w, lo = self.walk, self.done
+        who = np.column_stack([w.a[lo:stop], w.b[lo:stop]]).ravel()
+        where = np.repeat(w.division[lo:stop], 2)
+        np.add.at(self.count, (who, where), 1)
+        np.minimum.at(self.first, (who, where), np.arange(2 * lo, 2 * stop))
+        self.done = stop
+        n = w.seen(stop)
+        key = self.count[:n] * (2 * len(w.day) + 1) - self.first[:n]  # most games, then the earliest meeting
+        home = np.argmax(key, axis=1)
+        given = w.given_home[:n]
+        return np.where(given >= 0, given, home)
+
+
+@dataclass
+class StepOutput:
+    """Per sorted match: point difference, its posterior variance (NaN unless predictive), few-games and
+    cross-division flags; and the number of steps predicted."""
+
+    mean: np.ndarray
+    var: np.ndarray
+    few: np.ndarray
+    cross: np.ndarray
+    steps: int = 0
+
+
+def walk_steps(walk: Walk, settings: Settings, cancel, gtol: float, predictive: bool) -> StepOutput:
+    """Fit before every step and predict its matches (see the module)."""
+    ppl = points_per_logodds(settings.scale)
+    starting = np.where(np.isnan(walk.starting), settings.centre, walk.starting)
+    mu = np.asarray(to_strength(starting, settings.centre, settings.scale), float).reshape(-1)
+    prior_sd = settings.skill_spread / ppl
+    D = len(walk.division_names)
+    level_mean = walk.starting_level / ppl if D > 1 else np.zeros(D)
+    tau = max(float(settings.division_spread), 0.0) / ppl if D > 1 else 0.0
+    m = len(walk.day)
+    out = StepOutput(np.full(m, np.nan), np.full(m, np.nan), np.zeros(m, bool), np.zeros(m, bool))
+    homes = Homes(walk)
+    r, level = np.zeros(0), level_mean.copy()
+    for k in range(len(walk.bounds) - 1):
+        start, stop = int(walk.bounds[k]), int(walk.bounds[k + 1])
+        if stop == start or start == 0:
+            continue
+        if cancel is not None and cancel.is_set():
+            raise Cancelled("The evaluation was cancelled.")
+        pairs = training_pairs(walk, start, settings.half_life_days)
+        n = pairs.n_players
+        home = homes.at(start)
+        levels = Levels(home, level_mean, tau) if tau > 0 else None
+        warm = np.concatenate([r, mu[len(r):n] + level[home[len(r):]]])
+        if levels is None:
+            r = fit_map(pairs, mu[:n] + level_mean[home], prior_sd, start=warm, gtol=gtol).r
+        else:
+            fit = fit_map(pairs, mu[:n], prior_sd, levels=levels, start=np.concatenate([warm, level]), gtol=gtol)
+            r, level = fit.r, fit.level
+        _predict_step(walk, out, slice(start, stop), pairs, r, level, home, mu, prior_sd, settings.few_games,
+                      levels if predictive else None, predictive)
+        out.steps += 1
+    return out
+
+
+def _predict_step(walk: Walk, out: StepOutput, step: slice, pairs: Pairs, r, level, home, mu, prior_sd: float,
+                  few_games: float, levels: Levels | None, predictive: bool) -> None:
+    """Fill ``out`` for the matches of ``step`` from the step's fit."""
+    n = pairs.n_players
+    a, b = walk.a[step], walk.b[step]
+    new_a, new_b = a >= n, b >= n
+
+    def division_of(idx, new):
+        given = walk.given_home[idx]
+        newcomer = np.where(given >= 0, given, walk.division[step])
+        return np.where(new, newcomer, home[np.minimum(idx, max(n - 1, 0))])
+
+    div_a, div_b = division_of(a, new_a), division_of(b, new_b)
+
+    def strength(idx, new, div):
+        return np.where(new, mu[idx] + level[div], r[np.minimum(idx, max(n - 1, 0))])
+
+    out.mean[step] = strength(a, new_a, div_a) - strength(b, new_b, div_b)
+    out.cross[step] = div_a != div_b
+    games = pairs.games_per_player()
+    played = lambda idx, new: np.where(new, 0.0, games[np.minimum(idx, max(n - 1, 0))])  # noqa: E731
+    out.few[step] = np.minimum(played(a, new_a), played(b, new_b)) < few_games
+    if not predictive:
+        return
+    H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
+    size = n
+    if levels is not None:
+        H, size = joint_hessian(H, levels, prior_sd), n + len(levels.mean)
+    rows = np.arange(len(a))
+    # A seen side's coefficient sits on its strength; a newcomer's on their division's level (free levels only).
+    col_a, col_b = np.where(new_a, n + div_a, a), np.where(new_b, n + div_b, b)
+    use_a, use_b = ~new_a | (levels is not None), ~new_b | (levels is not None)
+    C = sp.csr_matrix((np.r_[np.ones(use_a.sum()), -np.ones(use_b.sum())],
+                       (np.r_[rows[use_a], rows[use_b]], np.r_[col_a[use_a], col_b[use_b]])),
+                      shape=(len(a), max(size, 1)))
+    out.var[step] = contrast_variance(H, C) + prior_sd**2 * (new_a.astype(float) + new_b)
