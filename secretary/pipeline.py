@@ -110,6 +110,11 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
     return tuple(out)
 
 
+def starting_levels(book: LeagueBook) -> dict[str, float]:
+    """Each division's starting level from the Divisions sheet, points above the centre (unlisted = 0)."""
+    return {d.name: d.starting_level for d in book.divisions}
+
+
 def _full_target(path: Path, out: Path | None):
     """For a full save: the workbook to write the tool's sheets into, where it goes, and what would be lost."""
     lost = fidelity.unsupported_content(path)
@@ -189,7 +194,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     graft_it = graft_it and out is None and not book.fixtures
 
     _step(progress, cancel, "Rating every player", 0.25)
-    fit = fit_league(book.results, settings, players=book.players)
+    fit = fit_league(book.results, settings, players=book.players, starting_levels=starting_levels(book))
     _step(progress, cancel, "Working out why ratings changed", 0.5)
     breakdown = explain_changes(book.results, published, settings, book.players,
                                 state_missing=published is None and _was_updated_before(book), current=fit)
@@ -217,7 +222,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     write_problems(wb, book.warnings)
     set_up_printing(wb, settings)
     if book.fixtures and not companion and not graft_it:
-        write_fixture_columns(wb, forecasts, settings)
+        write_fixture_columns(wb, forecasts, settings, latest=fit.reference_date)
     state.write_state(wb, PublishedState(
         updated_at=stamp, reference_date=log.reference_date,
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
@@ -253,7 +258,8 @@ def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):
     try:
         pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
         if forecasts:
-            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings)
+            card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings,
+                                      latest=breakdown.reference_date)
     except OSError as exc:  # e.g. a PDF held open by a viewer
         return pdf, card, (f" The workbook was saved; the printouts failed because {exc.strerror or exc}. "
                            "If a PDF is open in a viewer, close it and run `secretary notice` to print the "
@@ -321,7 +327,7 @@ def _published(path: str | Path, what: str) -> Published:
 
 def _published_from(book: LeagueBook, stored: PublishedState) -> Published:
     book = replace(book, state=stored)
-    fit = fit_league(book.results, book.settings, players=book.players)
+    fit = fit_league(book.results, book.settings, players=book.players, starting_levels=starting_levels(book))
     breakdown = explain_changes(book.results, book.state.previous, book.settings, book.players, current=fit)
     return Published(book, fit, _published_ratings(fit, breakdown), breakdown)
 
@@ -330,7 +336,7 @@ def inputs_digest(book: LeagueBook) -> str:
     """A digest of everything an update reads from the workbook, and of the tool's version."""
     digest = hashlib.blake2b(digest_size=16)
     for part in (__version__, repr(book.settings), repr(book.players), repr(book.fixtures),
-                 repr(getattr(book, "divisions", ())), *(fingerprint(r) for r in book.results)):
+                 repr(book.divisions), *(fingerprint(r) for r in book.results)):
         digest.update(part.encode("utf-8", "surrogatepass") + b"\x1f")
     return digest.hexdigest()
 
@@ -376,9 +382,10 @@ def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | 
     written = None
     if not fidelity.unsupported_content(path):
         wb = save.load_for_update(path)
-        write_fixture_columns(wb, forecasts, pub.book.settings)
+        write_fixture_columns(wb, forecasts, pub.book.settings, latest=pub.fit.reference_date)
         written = save.save_workbook(wb, path).path
-    card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings)
+    card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings,
+                              latest=pub.fit.reference_date)
     return forecasts, written, card
 
 

@@ -6,7 +6,7 @@ import re
 from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
-from secretary.model.notice import forecast_note
+from secretary.model.notice import PAST_NOTE, fixture_note, is_past
 from secretary.model.sentences import naming, plural
 from secretary.workbook import schema
 
@@ -425,12 +425,7 @@ FIXTURE_COLUMNS = (
 )
 
 
-PAST = "past: dated before the latest results"
-
-
-def is_past(fixture_date: dt.date | None, latest: dt.date | None) -> bool:
-    """A fixture dated before the newest result is past (played, or not played on the day), not coming."""
-    return fixture_date is not None and latest is not None and fixture_date < latest
+PAST = PAST_NOTE
 
 
 def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row]:
@@ -439,7 +434,7 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
     for i, f in enumerate(forecasts):
         fx = f.fixture
         past = is_past(fx.date, latest)
-        note = "; ".join(n for n in (PAST if past else "", forecast_note(f)) if n)
+        note = fixture_note(f, latest)
         values = (fx.date, fx.player_a, fx.player_b, f"{f.race_a}-{f.race_b}", f.race_chance,
                   f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, note)
         shown = (day(fx.date), fx.player_a, fx.player_b, values[3], percent(f.race_chance), values[5],

@@ -30,6 +30,7 @@ CHART_PLAYERS = 6  # biggest changes drawn per division
 NOT_RATED = "{} not rated yet: this chance is a rough guess"
 FAR_OFF_NOTE = "{} has {} games: this chance could be far off"
 ROUGH_NOTE = "{} has {} games: treat this chance as rough"
+PAST_NOTE = "past: dated before the latest results"  # a fixture before the newest result (window, sheet, card)
 
 CLOSING = (
     "Ratings are estimates worked out from the results so far. The ± after a rating is its "
@@ -178,3 +179,14 @@ def forecast_note(fc: "FixtureForecast") -> str:
     if fc.care == "far off":
         return FAR_OFF_NOTE.format(name, shown)
     return ROUGH_NOTE.format(name, shown) if fc.care == "rough" else ""
+
+
+def is_past(fixture_date: dt.date | None, latest: dt.date | None) -> bool:
+    """A fixture dated before the newest result (``latest``) is past (played, or not played on the day)."""
+    return fixture_date is not None and latest is not None and fixture_date < latest
+
+
+def fixture_note(fc: "FixtureForecast", latest: dt.date | None = None) -> str:
+    """``PAST_NOTE`` for a past fixture, then how sure its chance is ('' when coming and sure enough)."""
+    past = PAST_NOTE if is_past(fc.fixture.date, latest) else ""
+    return "; ".join(n for n in (past, forecast_note(fc)) if n)

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Sequence
 
+from secretary.model.sentences import plural
+
 if TYPE_CHECKING:  # pragma: no cover - typing only
     from secretary.model.linkage import WatchList
 
@@ -74,8 +76,10 @@ def watch_lines(watch: "WatchList", players: int = SUMMARY_PLAYERS) -> list[str]
     held = watch.flagged_players
     lines += [f"{h.name}: {h.what_to_do}" for h in held[:players]]
     if len(held) > players:
-        lines.append(f"... and {len(held) - players} more players held back in those divisions "
+        lines.append(f"... and {plural(len(held) - players, 'more player')} held back in those divisions "
                      "(see the Watch list sheet).")
     if watch.suggestions:
-        lines.append(f"{len(watch.suggestions)} linking match(es) are suggested on the Watch list sheet.")
+        count = len(watch.suggestions)
+        lines.append(f"{plural(count, 'linking match')} {'is' if count == 1 else 'are'} suggested on the "
+                     "Watch list sheet.")
     return lines

@@ -9,8 +9,9 @@ from typing import Sequence
 from reportlab.platypus import CondPageBreak
 
 from secretary.model.fixtures import FixtureForecast
-from secretary.model.notice import CLOSING, forecast_note, league_title, long_date
+from secretary.model.notice import CLOSING, PAST_NOTE, forecast_note, is_past, league_title, long_date
 from secretary.model.records import PlayerRating, Settings
+from secretary.model.sentences import plural
 from secretary.report import layout
 
 COLUMNS = ("Match", "Fair race", "Chance at the set race", "How sure")
@@ -59,21 +60,38 @@ def columns_used(rows: Sequence[Sequence[object]]) -> list[int]:
     return [c for c in range(len(COLUMNS)) if any(row[c] not in ("", None) for row in rows)]
 
 
-def _order(forecasts: Sequence[FixtureForecast]) -> list[FixtureForecast]:
-    """By date (undated last), otherwise as given."""
-    return sorted(forecasts, key=lambda fc: (fc.fixture.date is None, fc.fixture.date or dt.date.min))
+def _order(forecasts: Sequence[FixtureForecast], latest: dt.date | None = None) -> list[FixtureForecast]:
+    """Coming fixtures by date, then undated ones, then past ones (dated before ``latest``) by date."""
+    return sorted(forecasts, key=lambda fc: (is_past(fc.fixture.date, latest), fc.fixture.date is None,
+                                             fc.fixture.date or dt.date.min))
+
+
+def day_heading(day: dt.date | None, latest: dt.date | None = None) -> str:
+    """``17 March 2026``, or ``17 March 2026 (past: dated before the latest results, 20 March 2026)``."""
+    if day is None:
+        return NO_DATE.capitalize()
+    return f"{long_date(day)} ({PAST_NOTE}, {long_date(latest)})" if is_past(day, latest) else long_date(day)
+
+
+def _intro(ordered: Sequence[FixtureForecast], latest: dt.date | None) -> str:
+    """The subtitle: the coming fixtures' dates, and how many past ones are listed after them."""
+    coming = [fc.fixture.date for fc in ordered if fc.fixture.date is not None and not is_past(fc.fixture.date, latest)]
+    past = sum(1 for fc in ordered if is_past(fc.fixture.date, latest))
+    when = "to come" if not coming else f"on {long_date(coming[0])}" if coming[0] == coming[-1] else (
+        f"from {long_date(coming[0])} to {long_date(coming[-1])}")
+    after = f"; {plural(past, 'past fixture')} (dated before the latest results) at the end" if past else ""
+    return f"Fair races for the fixtures {when}{after}"
 
 
 def write_handicap_pdf(path: str | Path, forecasts: Sequence[FixtureForecast], settings: Settings, *,
-                       ratings: Sequence[PlayerRating] = ()) -> Path:
-    """Write the handicap card for the coming fixtures, one table per date; ``ratings`` adds each player's rating ±."""
+                       ratings: Sequence[PlayerRating] = (), latest: dt.date | None = None) -> Path:
+    """Write the handicap card, one table per date; ``ratings`` adds each player's rating ±; fixtures dated
+    before ``latest`` (the newest result) come last, their dates marked past."""
     by_name = {p.name: p for p in ratings}
-    ordered = _order(forecasts)
-    dated = [fc.fixture.date for fc in ordered if fc.fixture.date is not None]
-    when = f"{long_date(dated[0])} to {long_date(dated[-1])}" if dated else "the coming matches"
+    ordered = _order(forecasts, latest)
     title = league_title(settings, "handicap card")
     width = layout.frame_width(settings)
-    story = layout.title_block(title, f"Fair races for the fixtures from {when}")
+    story = layout.title_block(title, _intro(ordered, latest))
     story.append(layout.para(
         "A fair race gives both players about an even chance: each player races to the number shown. "
         "The chance is for the race the fixture is set at (the usual race when none is set), allowing for how "
@@ -89,7 +107,7 @@ def write_handicap_pdf(path: str | Path, forecasts: Sequence[FixtureForecast], s
         used = columns_used(rows)
         share = sum(COLUMN_SHARES[c] for c in used)
         # A day's table runs on over a page break (its header repeated) rather than leave a page half empty.
-        story += [CondPageBreak(TABLE_START), layout.para(long_date(day) if day else NO_DATE.capitalize(), "heading"),
+        story += [CondPageBreak(TABLE_START), layout.para(day_heading(day, latest), "heading"),
                   layout.table([COLUMNS[c] for c in used], [[row[c] for c in used] for row in rows],
                                [width * COLUMN_SHARES[c] / share for c in used])]
     story.append(layout.closing(CLOSING))

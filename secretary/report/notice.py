@@ -13,6 +13,7 @@ from secretary.model.breakdown import Breakdown
 from secretary.model.notice import PART_COLOURS as PART_HEX
 from secretary.model.notice import PART_NAMES, Notice, NoticeDivision, NoticeLine, build_notice, long_date
 from secretary.model.records import PlayerRating, Settings
+from secretary.model.watch_sentences import watch_lines
 from secretary.report import layout
 
 PART_COLOURS = tuple(colors.HexColor(c) for c in PART_HEX)
@@ -141,13 +142,6 @@ def _division(block: NoticeDivision, notice: Notice, width: float, first: bool) 
     return [CondPageBreak(room), KeepTogether(top), table]
 
 
-def _watch_lines(watch) -> list[str]:
-    """Plain lines from a watch list: divisions and players that need attention."""
-    lines = [d.what_to_do for d in watch.divisions if d.flagged]
-    lines += [f"{p.name}: {p.what_to_do}" for p in watch.held if p.flagged]
-    return lines
-
-
 def _mover(line: NoticeLine) -> str:
     """``Yvette Marwood  +94 (now 1267)``: one of a division's biggest movers, for the wall."""
     return f"{line.name}  {change_text(line)}  (now {line.rating:.0f})"
@@ -198,7 +192,7 @@ def write_notice_pdf(path: str | Path, breakdown: Breakdown, ratings: Sequence[P
     story += [layout.boxed("How ratings work here", (*HOW_IT_WORKS, *notice.closing), width), Spacer(1, 4)]
     for k, block in enumerate(notice.divisions):
         story += _division(block, notice, width, first=k == 0)
-    watching = _watch_lines(watch) if watch is not None else []
+    watching = watch_lines(watch) if watch is not None else []
     if notice.removed or watching:
         story.append(layout.para("Also worth knowing", "heading"))
         if notice.removed:

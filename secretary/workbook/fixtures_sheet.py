@@ -6,6 +6,7 @@ case) and added after the last used column when absent.
 """
 from __future__ import annotations
 
+import datetime as dt
 from copy import copy
 from typing import Sequence
 
@@ -14,7 +15,7 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from secretary.model.fixtures import FixtureForecast
-from secretary.model.notice import forecast_note
+from secretary.model.notice import fixture_note
 from secretary.model.records import Settings
 from secretary.workbook.schema import FIXTURES, header_key
 from secretary.workbook.style import put
@@ -75,8 +76,10 @@ def _player_column(ws: Worksheet, header_row: int) -> int:
     return next(c.column for c in ws[header_row] if isinstance(c.value, str) and header_key(c.value) == wanted)
 
 
-def write_fixture_columns(wb: Workbook, forecasts: Sequence[FixtureForecast], settings: Settings) -> int:
+def write_fixture_columns(wb: Workbook, forecasts: Sequence[FixtureForecast], settings: Settings,
+                          latest: dt.date | None = None) -> int:
     """Write Chance A, Fair race A, Fair race B and Forecast note on each fixture's row; returns rows written.
+    The note marks a fixture dated before ``latest`` (the newest result) as past.
 
     Does nothing (returns 0) when the workbook has no Fixtures sheet with player headers.
     """
@@ -97,6 +100,6 @@ def write_fixture_columns(wb: Workbook, forecasts: Sequence[FixtureForecast], se
         put(ws.cell(row, columns[CHANCE]), fc.race_chance, CHANCE_FORMAT)
         put(ws.cell(row, columns[FAIR_A]), fc.fair_race_a, RACE_FORMAT)
         put(ws.cell(row, columns[FAIR_B]), fc.fair_race_b, RACE_FORMAT)
-        put(ws.cell(row, columns[NOTE]), forecast_note(fc))
+        put(ws.cell(row, columns[NOTE]), fixture_note(fc, latest))
         written += 1
     return written

@@ -11,7 +11,7 @@ from typing import Mapping
 import openpyxl
 
 from secretary.errors import FileRefused, SecretaryError
-from secretary.model.records import Fixture, Player, Problem, PublishedState, Result, Settings
+from secretary.model.records import Division, Fixture, Player, Problem, PublishedState, Result, Settings
 from secretary.workbook import guard, schema, toolsheets
 from secretary.workbook.cells import SheetCells
 from secretary.workbook.cells import Workbook as ValuesBook
@@ -22,6 +22,7 @@ from secretary.workbook.state import read_state, state_from_rows
 
 HEADER_SEARCH_ROWS = 10  # a title line or two above the headers is allowed
 SHOWN_LENGTH = 80  # characters of a cell's value shown in a message at most
+DIVISIONS_LISTED = 8  # a message about an unknown division names at most this many known ones
 OUTLIER_ROWS = 5  # at most this many rows dated far after the rest count as typing slips
 _SHEET_ORDER = {spec.name: i for i, spec in enumerate(schema.INPUT_SHEETS)}
 _FORMULA_FIX = "Open and save the workbook in your spreadsheet program, or type the value."
@@ -47,6 +48,7 @@ class LeagueBook:
     settings: Settings
     fixtures: tuple[Fixture, ...]
     problems: tuple[Problem, ...]
+    divisions: tuple[Division, ...] = ()  # the Divisions sheet, under the Results' spelling
     state: PublishedState | None = None
     sheet_names: tuple[str, ...] = ()
     tool_sheets: dict[str, str] = field(default_factory=dict)  # role -> name of the tool's sheets (see toolsheets)
@@ -231,17 +233,19 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
                        f"Add a sheet named '{spec.name}' with the results, or rename the sheet that holds them.")
     settings = _read_settings(sheets.get(schema.SETTINGS.name), reader)
     players = _read_players(sheets.get(schema.PLAYERS.name), reader)
+    divisions = _read_divisions(sheets.get(schema.DIVISIONS.name), settings, reader)
     rows = _read_results(sheets.get(schema.RESULTS.name), settings, reader)
     fixtures = _read_fixtures(sheets.get(schema.FIXTURES.name), settings, reader)
     formula_cells = _check_formulas(path, wb, sheets, reader)
     results, players, fixtures = _link_names(rows, players, fixtures, sheets, reader)
+    divisions = _link_divisions(divisions, results, players, sheets.get(schema.DIVISIONS.name), reader)
     _check_results(results, sheets.get(schema.RESULTS.name), reader)
     tool = toolsheets.of_package(path)
     state = _read_state(wb, values_wb, tool, reader)
     problems = sorted(reader.problems, key=lambda p: (not p.is_error, _SHEET_ORDER.get(p.sheet, 9), p.row or 0))
     return LeagueBook(
         path=path, results=results, players=players, settings=settings, fixtures=fixtures,
-        problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames), tool_sheets=tool,
+        divisions=divisions, problems=tuple(problems), state=state, sheet_names=tuple(values_wb.sheetnames), tool_sheets=tool,
         layouts={name: sheet.layout() for name, sheet in sheets.items()},
         formula_cells=formula_cells)
 
@@ -322,6 +326,76 @@ def _read_players(sheet: _Sheet | None, reader: _Reader) -> list[Player]:
         aliases = tuple(a for a in (clean(s) for s in str(values.get("aliases") or "").split(schema.ALIAS_SEPARATOR)) if a)
         players.append(Player(player, clean(values.get("division")), starting, aliases, row))
     return players
+
+
+# ---------------------------------------------------------------- Divisions
+
+
+def _read_divisions(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> list[Division]:
+    """The Divisions sheet's rows with a readable starting level (blank = 0), each division once."""
+    if sheet is None or sheet.missing:
+        return []
+    name, col_division = sheet.spec.name, sheet.header("division")
+    bound = schema.LEVEL_SCALES * settings.scale
+    divisions, where = [], {}
+    for row, values in sheet.records():
+        division, raw = clean(values["division"]), values.get("starting")
+        if not division:
+            if not _blank(raw):
+                reader.add("error", name, row, col_division, "", "a starting level without a division",
+                           f"Write the division's name in the '{col_division}' column, or delete the row.")
+            continue  # a row with only a note is the secretary's remark
+        key = name_key(division)
+        if key in where:
+            reader.add("error", name, row, col_division, division,
+                       f"this division is listed twice (also row {where[key]})", "Keep one of the two rows.")
+            continue
+        where[key] = row
+        level = 0.0
+        if _blank(raw):
+            if "starting" in sheet.columns:
+                reader.note_blank(sheet, row, "starting", None)
+        else:
+            level = schema.as_number(raw)
+            if level is None or abs(level) > bound:
+                _bad_level(reader, sheet, row, raw, level, settings)
+                continue
+        divisions.append(Division(division, float(level), clean(values.get("note")), row))
+    return divisions
+
+
+def _bad_level(reader: _Reader, sheet: _Sheet, row: int, raw, level: float | None, settings: Settings) -> None:
+    bound = schema.LEVEL_SCALES * settings.scale
+    what = "not a number" if level is None else \
+        f"further from the centre than {bound:.0f} points ({schema.LEVEL_SCALES} times the Scale)"
+    fix = (f"Write the division's level in points above (+) or below (-) the Centre ({settings.centre:.0f}), "
+           f"like +150 or -150, from -{bound:.0f} to +{bound:.0f}; or leave it blank for 0.")
+    if level is not None and abs(level - settings.centre) <= bound:
+        fix = f"{shown(level)} looks like a rating; the level is relative to the Centre, so write " \
+              f"{level - settings.centre:+.0f}. " + fix
+    reader.add("error", sheet.spec.name, row, sheet.header("starting"), raw, f"the starting level is {what}", fix)
+
+
+def _link_divisions(divisions: list[Division], results, players, sheet: _Sheet | None,
+                    reader: _Reader) -> tuple[Division, ...]:
+    """The Divisions sheet's divisions under the Results' spelling; unknown ones are errors."""
+    known = {name_key(d): d for d in (*(r.division for r in results), *(p.division for p in players)) if d}
+    out, index = [], None
+    for d in divisions:
+        spelling = known.get(name_key(d.name), d.name if not known else None)  # no divisions yet: nothing to check
+        if spelling is None:
+            index = index or CloseIndex(sorted(set(known.values())))
+            close = index.matches(d.name)
+            hint = f"; close spellings: {', '.join(close)}" if close else ""
+            listed = sorted(set(known.values()), key=str.casefold)
+            reader.add("error", sheet.spec.name, d.row, sheet.header("division"), d.name,
+                       f"no result in Results and no player in Players has the division '{d.name}'{hint}",
+                       "Write the division as the Results sheet's Division column does ("
+                       f"{', '.join(listed[:DIVISIONS_LISTED])}{', ...' if len(listed) > DIVISIONS_LISTED else ''}),"
+                       " or delete the row.")
+            continue
+        out.append(Division(spelling, d.starting_level, d.note, d.row))
+    return tuple(out)
 
 
 # ------------------------------------------------------------------ Results

@@ -65,6 +65,19 @@ PLAYERS = SheetSpec(
     ),
 )
 
+DIVISIONS = SheetSpec(
+    "Divisions",
+    False,
+    (
+        Column("division", "Division", True, 16),
+        Column("starting", "Starting level", False, 15),
+        Column("note", "Note", False, 40),
+    ),
+)
+# A starting level is at most this many Scales from the centre (3 x 400 = 1200 points: a division
+# expected to win about 1,000 games to 1 against an average one); anything further is a typing slip.
+LEVEL_SCALES = 3
+
 SETTINGS = SheetSpec(
     "Settings",
     False,
@@ -89,7 +102,7 @@ FIXTURES = SheetSpec(
     ),
 )
 
-INPUT_SHEETS = (RESULTS, PLAYERS, SETTINGS, FIXTURES)
+INPUT_SHEETS = (RESULTS, PLAYERS, DIVISIONS, SETTINGS, FIXTURES)
 
 VOID_PREFIX = "void"  # a Results row whose Note starts with this is kept but not rated
 ALIAS_SEPARATOR = ";"

@@ -33,6 +33,11 @@ INSTRUCTIONS = (
     ("One row per player: the name as used in Results, the home division, a starting rating when "
      "you already know the player's level, and other spellings of the name (separated by ;) "
      "under 'Also known as', which are merged into this player.", False),
+    ("Divisions (optional)", True),
+    ("One row per division, for a league whose divisions are tiers: the division as written in Results, "
+     "and its starting level in points above (+) or below (-) the Centre, for example +150 for the top "
+     "division and -150 for the bottom one. Blank means 0. The games between divisions then move each "
+     "division's level from there.", False),
     ("Settings (optional)", True),
     ("Leave a Value blank to use the default shown beside it. The 'What it means' column says "
      "what each setting does.", False),

@@ -2,7 +2,7 @@
 import pytest
 from PIL import Image
 
-from secretary.model.notice import CLOSING
+from secretary.model.notice import CLOSING, long_date
 from secretary.report.handicap import chance_text, fair_race_text, write_handicap_pdf
 from tests.invented_league import SETTINGS, chance_by_integral, forecasts, two_updates
 from tests.report.poppler import A4_POINTS, LETTER_POINTS, needs_poppler, page_points, pdf_text, render_page, squeeze
@@ -90,3 +90,20 @@ def test_a_rating_is_never_split_and_an_empty_column_is_left_out(league, tmp_pat
     sure = [replace(fc, not_rated=(), care="") for fc in fcs]  # every chance sure enough: "How sure" is empty
     text = pdf_text(write_handicap_pdf(tmp_path / "sure.pdf", sure, SETTINGS, ratings=update.ratings))
     assert "How sure" not in text and "Fair race" in text
+
+
+def test_past_fixtures_are_marked_and_come_after_the_coming_ones(league, tmp_path):
+    """A fixture dated before the newest result is past: its date's heading says so, and coming days come first."""
+    update, fcs = league
+    latest = max(fc.fixture.date for fc in fcs)  # as if results had come in up to the last fixture day
+    past_days = sorted({fc.fixture.date for fc in fcs if fc.fixture.date < latest})
+    assert past_days  # the invented fixtures span two days: the first is past
+    card = write_handicap_pdf(tmp_path / "past.pdf", fcs, SETTINGS, ratings=update.ratings, latest=latest)
+    text = squeeze(pdf_text(card))
+    past = [squeeze(f"{long_date(d)} (past: dated before the latest results, {long_date(latest)})") for d in past_days]
+    assert all(p in text for p in past)
+    assert text.index(squeeze(f"{long_date(latest)}Match")) < min(text.index(p) for p in past)
+    count = sum(1 for fc in fcs if fc.fixture.date < latest)
+    assert squeeze(f"{count} past fixtures (dated before the latest results) at the end") in text
+    # Without a newest result nothing is past, and the card says nothing about past fixtures.
+    assert "past" not in pdf_text(write_handicap_pdf(tmp_path / "none.pdf", fcs, SETTINGS, ratings=update.ratings))

@@ -142,3 +142,36 @@ def test_a_wall_page_in_large_type_then_the_full_list_in_12_point_text(updates, 
     first = [squeeze(page) for page in pdf_text(path).split("\f")]
     assert squeeze("Biggest movers this week") in first[0] and squeeze("How ratings work") in first[0]
     assert squeeze("the full list") in first[1]
+
+
+def test_watch_lines_are_the_watch_lists_own_words_islands_and_more(updates, tmp_path):
+    """The board's watch lines are model.watch_sentences.watch_lines: a separate pool named on its own line,
+    a long list of held-back players cut to the summary's few with "and N more"."""
+    import dataclasses
+    import datetime as dt
+
+    from secretary.model.records import Player, Result
+    from secretary.model.watch_sentences import SUMMARY_PLAYERS, watch_lines
+
+    update = updates[1]
+    day = update.results[-1].date
+    island = [Result(day - dt.timedelta(days=k), "Cara Quill", "Dov Reed", 5, 2 + k % 3, "Second") for k in range(6)]
+    results = (*update.results, *island)
+    everyone = players() + [Player("Cara Quill", "Second"), Player("Dov Reed", "Second")]
+    watch = watch_list(fit_league(results, SETTINGS, players=everyone), results)
+    (pool,) = watch.pools
+    assert {"Cara Quill", "Dov Reed"} == set(pool.players)
+    flagged = watch.flagged_players
+    assert flagged  # Premier is weakly linked in one pool: its held-back players are flagged
+    extra = SUMMARY_PLAYERS + 3 - len(flagged)  # more flagged players than the summary names
+    more = tuple(dataclasses.replace(flagged[0], name=f"Extra Player {k}") for k in range(max(extra, 0)))
+    watch = dataclasses.replace(watch, held=(*watch.held, *more))
+    path = write_notice_pdf(tmp_path / "watch.pdf", update.breakdown, update.ratings, SETTINGS, watch=watch)
+    text = squeeze(pdf_text(path))
+    lines = watch_lines(watch)
+    for line in lines:
+        assert squeeze(line) in text, line
+    hidden = len(watch.flagged_players) - SUMMARY_PLAYERS
+    assert squeeze(f"and {hidden} more players held back") in text
+    assert squeeze("Cara Quill, Dov Reed (2 players) have played nobody outside their group") in text
+    assert more and squeeze(more[-1].name) not in text  # past the summary's few: counted, not named

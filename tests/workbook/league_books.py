@@ -9,6 +9,7 @@ from openpyxl import Workbook
 
 RESULTS_HEADERS = ("Date", "Division", "Player A", "Player B", "Games A", "Games B", "Event", "Note")
 PLAYERS_HEADERS = ("Player", "Division", "Starting rating", "Also known as")
+DIVISIONS_HEADERS = ("Division", "Starting level", "Note")
 SETTINGS_HEADERS = ("Setting", "Value")
 FIXTURES_HEADERS = ("Date", "Player A", "Player B", "Race A", "Race B")
 
@@ -32,6 +33,7 @@ def write_book(
     results_headers: Sequence[str] = RESULTS_HEADERS,
     players: Sequence[Sequence] | None = None,
     players_headers: Sequence[str] = PLAYERS_HEADERS,
+    divisions: Sequence[Sequence] | None = None,
     settings: Sequence[Sequence] | None = None,
     fixtures: Sequence[Sequence] | None = None,
     results_sheet: str | None = "Results",
@@ -43,6 +45,8 @@ def write_book(
         _sheet(wb, results_sheet, results_headers, good_results() if results is None else results)
     if players is not None:
         _sheet(wb, "Players", players_headers, players)
+    if divisions is not None:
+        _sheet(wb, "Divisions", DIVISIONS_HEADERS, divisions)
     if settings is not None:
         _sheet(wb, "Settings", SETTINGS_HEADERS, settings)
     if fixtures is not None:

@@ -6,6 +6,7 @@ from openpyxl import Workbook, load_workbook
 from openpyxl.styles import Font
 
 
+from secretary.model.notice import forecast_note
 from secretary.workbook.fixtures_sheet import CHANCE, FAIR_A, FAIR_B, NOTE, TOOL_HEADERS, write_fixture_columns
 from tests.invented_league import FIXTURES, SETTINGS, chance_by_integral, forecasts, two_updates
 
@@ -120,3 +121,19 @@ def test_no_fixtures_sheet_changes_nothing(tmp_path, results):
     wb.active.title = "Results"
     assert write_fixture_columns(wb, forecasts(results), SETTINGS) == 0
     assert wb.sheetnames == ["Results"] and wb["Results"].max_column == 1
+
+
+def test_a_fixture_before_the_newest_result_is_noted_past(tmp_path, results):
+    path = secretary_book(tmp_path / "league.xlsx")
+    fcs = forecasts(results, first_row=TITLE_ROWS + 2)
+    latest = max(day for day, *_ in FIXTURES)  # as if results had come in up to the last fixture day
+    wb = load_workbook(path)
+    write_fixture_columns(wb, fcs, SETTINGS, latest=latest)
+    ws = wb["Fixtures"]
+    note = {c.value: c.column for c in ws[TITLE_ROWS + 1]}[NOTE]
+    for fc in fcs:
+        text = ws.cell(fc.fixture.row, note).value or ""
+        past = fc.fixture.date < latest
+        assert text.startswith("past: dated before the latest results") == past, (fc.fixture, text)
+        if past and fc.care:  # the forecast's own note follows the mark
+            assert text.endswith("; " + forecast_note(fc))

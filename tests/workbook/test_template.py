@@ -43,7 +43,7 @@ def test_committed_template_has_not_drifted_from_the_generator(committed, tmp_pa
 
 def test_template_layout():
     content = _content(PACKAGED_TEMPLATE)
-    assert content["sheets"] == ["Instructions", "Results", "Players", "Settings", "Fixtures"]
+    assert content["sheets"] == ["Instructions", "Results", "Players", "Divisions", "Settings", "Fixtures"]
     for spec in schema.INPUT_SHEETS:
         assert content[spec.name]["values"][0][: len(spec.columns)] == [c.header for c in spec.columns]
         assert content[spec.name]["freeze"] == "A2"
