@@ -134,7 +134,7 @@ class TuneCheck:
     checked_through : newest result date at the check
     settings : the settings checked; the suggestion stands only while they are unchanged
     gain : walk-forward predictive log-loss per game (nats) that the tuned settings would save
-    half_life_days, skill_spread : what tuning found
+    half_life_days, skill_spread, division_spread : what tuning found (division spread None: not checked)
     """
 
     checked_through: dt.date
@@ -142,6 +142,7 @@ class TuneCheck:
     gain: float
     half_life_days: float
     skill_spread: float
+    division_spread: float | None = None
 
 
 @dataclass(frozen=True)

@@ -42,7 +42,7 @@ from tests.bench.demo_league import demo_league  # noqa: E402
 SETS = {
     "demo": lambda: demo_league(),
     "badminton": lambda: (realdata.badminton(), ()),
-    "tennis": lambda: (realdata.tennis(), ()),
+    "tennis": lambda: (realdata.tennis(by_file=True), ()),  # tiers = the three files
 }
 
 

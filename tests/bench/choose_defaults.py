@@ -1,5 +1,11 @@
 """Choose the shipped defaults: the settings with the lowest mean walk-forward predictive log-loss over three sets.
 
+Half-life, Skill spread and Division spread together: a coarse grid over the
+first two at the starting Division spread, a scan of Division spreads (0 = one
+pool among them) at the grid's best point, then a local search over all three
+(``secretary.model.tune.tune``; tennis by its three tiers, badminton by its
+event tiers, the demo by its divisions).
+
 Run from the repository root: ``python tests/bench/choose_defaults.py``.  The
 sets are the invented demo league and the two real sets read from
 ``../shared/data`` (badminton men's singles 2018-2021, a public dataset by
@@ -29,7 +35,8 @@ from secretary.model.tune import tune  # noqa: E402
 from tests.bench.bench_predict import SETS  # noqa: E402
 
 HALF_LIVES = (240.0, 480.0, 960.0, 0.0)
-SPREADS = (110.0, 160.0, 240.0)
+SPREADS = (80.0, 120.0, 170.0, 250.0)
+DIVISION_SPREADS = (0.0, 50.0, 100.0, 200.0, 400.0)
 
 
 def main(argv=None) -> int:
@@ -42,13 +49,15 @@ def main(argv=None) -> int:
     def progress(done, total):
         print(f"  {done}/{total} settings scored, {time.perf_counter() - start:.0f} s", file=sys.stderr, flush=True)
 
-    result = tune(walks, Settings(), half_lives=HALF_LIVES, spreads=SPREADS, refine=args.refine, progress=progress)
-    print("| half-life (days) | skill spread | mean predictive log-loss |")
-    print("|---|---|---|")
-    for h, s, score in sorted(result.tried, key=lambda t: t[2]):
-        print(f"| {h:g} | {s:g} | {score:.5f} |")
+    result = tune(walks, Settings(), half_lives=HALF_LIVES, spreads=SPREADS, division_spreads=DIVISION_SPREADS,
+                  refine=args.refine, progress=progress)
+    print("| half-life (days) | skill spread | division spread | mean predictive log-loss |")
+    print("|---|---|---|---|")
+    for h, s, t, score in sorted(result.tried, key=lambda t: t[-1]):
+        print(f"| {h:g} | {s:g} | {t:g} | {score:.5f} |")
     chosen = result.settings
-    print(f"chosen: half-life {chosen.half_life_days:g} days, skill spread {chosen.skill_spread:g} points "
+    print(f"chosen: half-life {chosen.half_life_days:g} days, skill spread {chosen.skill_spread:g} points, "
+          f"division spread {chosen.division_spread:g} points "
           f"(mean {result.new_score:.5f}; the starting settings scored {result.old_score:.5f}); "
           f"{time.perf_counter() - start:.0f} s")
     return 0
