@@ -29,7 +29,7 @@ from pathlib import Path  # noqa: E402
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
-from secretary.model.evaluate import prepare  # noqa: E402
+from secretary.model.evaluate import evaluate, prepare  # noqa: E402
 from secretary.model.records import Settings  # noqa: E402
 from secretary.model.tune import tune  # noqa: E402
 from tests.bench.bench_predict import SETS  # noqa: E402
@@ -39,11 +39,28 @@ SPREADS = (80.0, 120.0, 170.0, 250.0)
 DIVISION_SPREADS = (0.0, 50.0, 100.0, 200.0, 400.0)
 
 
+def score_only(walks, chosen) -> int:
+    """Each given setting's mean predictive log-loss per game, and every set's point / predictive scores."""
+    for text in chosen:
+        h, s, d = (float(x) for x in text.split(","))
+        settings = Settings(half_life_days=h, skill_spread=s, division_spread=d)
+        evs = [evaluate(w, settings) for w in walks]
+        cells = [f"{name} {ev.log_loss:.4f} / {ev.predictive.log_loss:.4f} (cross-division {ev.cross.log_loss:.4f} / "
+                 f"{ev.predictive_cross.log_loss:.4f})" for name, ev in zip(("demo", "badminton", "tennis"), evs)]
+        print(f"half-life {h:g}, skill spread {s:g}, division spread {d:g}: mean predictive "
+              f"{sum(ev.score for ev in evs) / len(evs):.5f}; point / predictive: " + "; ".join(cells), flush=True)
+    return 0
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--refine", type=int, default=12, help="walks of local search after the grid")
+    parser.add_argument("--score", nargs="+", metavar="H,S,D",
+                        help="only score these settings (half-life, skill spread, division spread), set by set")
     args = parser.parse_args(argv)
     walks = [prepare(*SETS[name]()[:1], players=SETS[name]()[1]) for name in ("demo", "badminton", "tennis")]
+    if args.score:
+        return score_only(walks, args.score)
     start = time.perf_counter()
 
     def progress(done, total):

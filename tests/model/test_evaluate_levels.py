@@ -154,3 +154,27 @@ def test_home_divisions_step_by_step_follow_the_update_rule():
         matches = from_results(results[:stop], players=())
         expected = dict(zip(matches.names, home_divisions(matches, players)))
         assert [walk.division_names[g] for g in got] == [expected[x] for x in walk.names[:len(got)]]
+
+
+def test_on_the_demo_predictive_chances_score_no_worse_than_point_ones():
+    # Issue 11's promise, on the invented demo league with the shipped settings (README quality table).
+    from tests.bench.demo_league import demo_league
+
+    results, players = demo_league()
+    ev = evaluate(results, Settings(), players=players)
+    assert ev.predictive.log_loss <= ev.log_loss and ev.predictive_race.log_loss <= ev.race.log_loss
+    assert ev.predictive.brier <= ev.brier
+
+
+@pytest.mark.slow
+@pytest.mark.realdata
+def test_levels_on_the_tennis_tiers_lower_the_cross_division_log_loss_by_two_hundredths():
+    # Issue 10's done-means on the men's tennis tiers (the three files), week by week, shipped settings.
+    from tests.realdata import tennis
+
+    walk = prepare(tennis(by_file=True))
+    levels = evaluate(walk, Settings())
+    pooled = evaluate(walk, Settings(division_spread=0.0))
+    assert levels.predictive_cross.log_loss <= pooled.predictive_cross.log_loss - 0.02
+    assert levels.predictive.log_loss < pooled.predictive.log_loss
+    assert levels.log_loss < pooled.log_loss and levels.cross.log_loss < pooled.cross.log_loss
