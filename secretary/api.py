@@ -28,8 +28,10 @@ class Ratings:
         """Every rated player, in order of first appearance."""
         return self.fit.names
 
-    def rating(self, name: str) -> float:
-        """The player's rating in points."""
+    def rating(self, name: str | tuple[str, str]) -> float:
+        """The player's rating in points; for a doubles side (a tuple of two names) the mean of the two."""
+        if isinstance(name, tuple):
+            return float(np.mean([self.fit.rating(n) for n in name]))
         return self.fit.rating(name)
 
     def sd(self, name: str) -> float:
@@ -52,27 +54,43 @@ class Ratings:
         return f"<Ratings of {len(self.names)} players>"
 
 
+def _side(where: str, label: str, side) -> tuple[str, ...]:
+    """A side as stripped names: one name, or a tuple of two different names (doubles)."""
+    names = side if isinstance(side, tuple) else (side,)
+    if len(names) not in (1, 2) or (isinstance(side, tuple) and len(names) != 2):
+        raise ValueError(f"{where}: {label} must be a name or a tuple of two names, got {side!r}")
+    for name in names:
+        if not isinstance(name, str) or not name.strip():
+            raise ValueError(f"{where}: {label} must be a non-empty name, got {side!r}")
+    names = tuple(name.strip() for name in names)
+    if len(set(names)) < len(names):
+        raise ValueError(f"{where}: {label} names {names[0]!r} twice; a doubles side is two different players")
+    return names
+
+
 def _check_row(k: int, row) -> Result:
     where = f"result {k + 1}"
     try:
         date, a, b, ga, gb = row
     except (TypeError, ValueError):
-        raise ValueError(f"{where}: expected (date, player_a, player_b, games_a, games_b), got {row!r}") from None
+        raise ValueError(f"{where}: expected (date, side_a, side_b, games_a, games_b), got {row!r}") from None
     if not isinstance(date, dt.date):
         raise ValueError(f"{where}: the date must be a datetime.date, got {date!r}")
     if isinstance(date, dt.datetime):
         date = date.date()
-    for label, name in (("player_a", a), ("player_b", b)):
-        if not isinstance(name, str) or not name.strip():
-            raise ValueError(f"{where}: {label} must be a non-empty name, got {name!r}")
-    if a.strip() == b.strip():
-        raise ValueError(f"{where}: {a.strip()!r} cannot play against themself")
+    side_a, side_b = _side(where, "player_a", a), _side(where, "player_b", b)
+    if len(side_a) != len(side_b):
+        raise ValueError(f"{where}: one side has two players and the other one; doubles need two a side")
+    both = set(side_a) & set(side_b)
+    if both:
+        raise ValueError(f"{where}: {sorted(both)[0]!r} cannot play against themself")
     for label, g in (("games_a", ga), ("games_b", gb)):
         if isinstance(g, bool) or not isinstance(g, numbers.Integral) or g < 0:
             raise ValueError(f"{where}: {label} must be a whole number of games, 0 or more, got {g!r}")
     if ga == 0 and gb == 0:
         raise ValueError(f"{where}: both sides have 0 games; a result needs at least one game played")
-    return Result(date, a.strip(), b.strip(), int(ga), int(gb))
+    partners = (side_a[1], side_b[1]) if len(side_a) == 2 else ("", "")
+    return Result(date, side_a[0], side_b[0], int(ga), int(gb), partner_a=partners[0], partner_b=partners[1])
 
 
 class _Unusual(Exception):
@@ -125,7 +143,10 @@ def rate(
     division_spread: float | None = None,
     starting_levels: Mapping[str, float] | None = None,
 ) -> Ratings:
-    """Rate every player from ``(date, player_a, player_b, games_a, games_b)`` tuples.
+    """Rate every player from ``(date, side_a, side_b, games_a, games_b)`` tuples.
+
+    A side is a player's name, or a tuple of two names for a doubles game (a side's
+    strength is the mean of its two players' strengths).
 
     ``skill_spread`` (points) and ``half_life_days`` default to the league
     defaults (``Settings``); ``starting`` maps names to known starting ratings.

@@ -70,7 +70,7 @@ def summary(outcome) -> list[str]:
     name = book.settings.league_name or outcome.path.stem
     games = int(round(sum(r.games_a + r.games_b for r in book.results if not r.void)))
     lines = [f"{name}: ratings as of {outcome.log.reference_date:%d %b %Y}",
-             f"  {len(fit.names)} players, {outcome.log.rows_rated} results ({games} games)."]
+             f"  {len(outcome.ratings)} players rated, {outcome.log.rows_rated} results ({games} games)."]
     if bd.first_update:
         lines.append("  First ratings for this workbook: the next update will explain every change.")
         if bd.note:

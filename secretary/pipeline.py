@@ -19,6 +19,7 @@ from secretary import __version__
 from secretary.errors import Cancelled, FileRefused, SecretaryError, WorkbookProblems
 from secretary.model.breakdown import Breakdown, explain_changes
 from secretary.model.diagnose import describe
+from secretary.model.division_table import DivisionLevel, level_table
 from secretary.model.evaluate import Evaluation, evaluate
 from secretary.model.fixtures import FixtureForecast, forecast_fixtures
 from secretary.model.league import LeagueFit, fit_league
@@ -28,6 +29,8 @@ from secretary.model.tune import Tuning, check_tuning, tune, tune_advice, tune_d
 from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
+from secretary.report.layout import fonts
+from secretary.report.scripts import unprintable
 from secretary.report.notice import write_notice_pdf
 from secretary.workbook import fidelity, graft, save, schema, state, toolsheets
 from secretary.workbook.fixtures_sheet import write_fixture_columns
@@ -67,6 +70,7 @@ class UpdateOutcome:
     log: UpdateLog
     notes: tuple[str, ...]  # the pre-fit diagnosis in league words
     unchanged: bool = False  # nothing new since the last update: nothing written, its account shown
+    levels: tuple[DivisionLevel, ...] = ()  # the divisions table (level, ±, games against other divisions)
 
 
 def _quiet(stage: str, fraction: float) -> None:
@@ -97,17 +101,33 @@ def handicap_pdf_path(path: str | Path) -> Path:
 
 
 def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRating, ...]:
+    """The players with a rated game now, rated; a player with none (listed on Players only, or whose
+    results were all removed) is not published: one state per player, never ranked at a starting rating
+    and listed as no longer rated at once."""
     by_name = {c.name: c for c in breakdown.players}
     games, wins, ratings, sds = fit.games, fit.wins, fit.ratings, fit.sds
+    unrated = set(fit.diagnosis.no_games.tolist())
     out = []
     for k, name in enumerate(fit.names):
+        if k in unrated:
+            continue
         change = by_name.get(name)
         is_new = breakdown.first_update or change is None or change.is_new
         out.append(PlayerRating(
             name=name, division=fit.group_names[fit.group[k]], rating=float(ratings[k]), sd=float(sds[k]),
             games=float(games[k]), wins=float(wins[k]), last_played=fit.last_played[k],
-            change=None if is_new else float(change.change), is_new=is_new))
+            change=None if is_new else float(change.change), is_new=is_new,
+            division_from=fit.home_rule[k] if fit.home_rule else ""))
     return tuple(out)
+
+
+def _notes(fit: LeagueFit, breakdown: Breakdown) -> tuple[str, ...]:
+    """The pre-fit diagnosis in league words; a player whose rated games were all removed is named once,
+    as no longer rated (the Why it changed sheet), not also as having no games yet."""
+    gone = {name for name, _ in breakdown.removed_players}
+    none = fit.diagnosis.no_games
+    yet = none[[fit.names[k] not in gone for k in none.tolist()]] if len(none) else none
+    return tuple(describe(replace(fit.diagnosis, no_games=yet), fit.names))
 
 
 def starting_levels(book: LeagueBook) -> dict[str, float]:
@@ -200,6 +220,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
                                 state_missing=published is None and _was_updated_before(book), current=fit)
     _step(progress, cancel, "Looking for divisions that need linking", 0.65)
     watch = watch_list(fit, book.results)
+    levels = level_table(fit, watch)
     forecasts = forecast_fixtures(book.fixtures, fit)
     ratings = _published_ratings(fit, breakdown)
     check = _tune_check(book, fit, published, progress, cancel)
@@ -213,10 +234,10 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     companion = bool(lost) and out is None
     stamp = (now or dt.datetime.now()).replace(microsecond=0).isoformat(sep=" ")
     log = _update_log(book, fit, breakdown, stamp, lost)
-    write_ratings(wb, ratings, settings)
+    write_ratings(wb, ratings, settings, levels)
     write_why(wb, breakdown, settings)
     write_watch(wb, watch)
-    write_notice(wb, breakdown, ratings, settings)
+    write_notice(wb, breakdown, ratings, settings, levels)
     write_history(wb, log.reference_date, ratings)
     write_log(wb, log)
     write_problems(wb, book.warnings)
@@ -242,21 +263,36 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         if companion:
             reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
-        pdf, card, failed = _printouts(written, breakdown, ratings, settings, watch, forecasts)
+        pdf, card, failed = _printouts(written, breakdown, ratings, settings, watch, forecasts, levels)
         reason += failed
+    unprinted = unprinted_note(ratings, forecasts) if pdf or card else None
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
         handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, notes=tuple(describe(fit.diagnosis, fit.names)) + tuple(n for n in (advice, clash) if n))
+        forecasts=forecasts, log=log, levels=levels,
+        notes=_notes(fit, breakdown) + tuple(n for n in (advice, clash, unprinted) if n))
 
 
-def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts):
+def unprinted_note(ratings, forecasts=()) -> str | None:
+    """Which names the PDFs could not print in their own script, in plain words (None when all could)."""
+    names = [p.name for p in ratings] + [n for fc in forecasts for n in (fc.fixture.player_a, fc.fixture.player_b)]
+    missing = unprintable(names, fonts()[0])
+    if not missing:
+        return None
+    shown = ", ".join(missing[:10]) + (f" and {len(missing) - 10} more" if len(missing) > 10 else "")
+    return (f"The printouts could not show {len(missing)} name(s) in their own script, so letters there print "
+            f"as '?': {shown}. Either no font on this computer has their letters (installing one that does, "
+            "such as a Noto font for that script, fixes it) or the script needs text shaping (Arabic, Hebrew, "
+            "the Indic scripts, Thai ...), which the PDF maker here does not do. The workbook shows them in full.")
+
+
+def _printouts(written: Path, breakdown, ratings, settings, watch, forecasts, levels=()):
     """The notice board and handicap card PDFs, after the workbook is saved: a failure here is reported
     truthfully ("saved; the printouts failed because ...") and never undoes the save."""
     pdf = card = None
     try:
-        pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch)
+        pdf = write_notice_pdf(notice_pdf_path(written), breakdown, ratings, settings, watch, levels)
         if forecasts:
             card = write_handicap_pdf(handicap_pdf_path(written), forecasts, settings, ratings=ratings,
                                       latest=breakdown.reference_date)
@@ -356,21 +392,23 @@ def last_update(path: str | Path) -> UpdateOutcome:
 def _outcome(path: Path, pub: Published, *, reason: str, unchanged: bool = False) -> UpdateOutcome:
     """An outcome that shows the last update's account without writing anything."""
     notice, card = notice_pdf_path(path), handicap_pdf_path(path)
+    watch = watch_list(pub.fit, pub.book.results)
     return UpdateOutcome(
         path=path, written=None, companion=False, reason=reason, unchanged=unchanged,
         backup=None, notice_pdf=notice if notice.exists() else None, handicap_pdf=card if card.exists() else None,
         book=pub.book, fit=pub.fit, ratings=pub.ratings, breakdown=pub.breakdown,
-        watch=watch_list(pub.fit, pub.book.results), forecasts=forecast_fixtures(pub.book.fixtures, pub.fit),
+        watch=watch, levels=level_table(pub.fit, watch), forecasts=forecast_fixtures(pub.book.fixtures, pub.fit),
         log=_update_log(pub.book, pub.fit, pub.breakdown, pub.book.state.updated_at),
-        notes=tuple(describe(pub.fit.diagnosis, pub.fit.names)) + tuple(
+        notes=_notes(pub.fit, pub.breakdown) + tuple(
             a for a in (tune_advice(pub.book.state.tune_check, pub.book.settings, path.name),) if a))
 
 
 def make_notice(path: str | Path, out: str | Path | None = None) -> Path:
     """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy)."""
     pub = _published(path, "notice board")
+    watch = watch_list(pub.fit, pub.book.results)
     return write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
-                            pub.book.settings, watch_list(pub.fit, pub.book.results))
+                            pub.book.settings, watch, level_table(pub.fit, watch))
 
 
 def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None]:

@@ -120,7 +120,7 @@ def forecasts(results, settings: Settings = SETTINGS, first_row: int = 2) -> tup
 def chance_by_integral(fc: FixtureForecast, a: int, b: int) -> float:
     """A's chance of a race, averaged over the difference's normal posterior by the trapezoid rule on a fine grid.
 
-    The race chance is scipy.stats.nbinom.cdf(b - 1, a, p) (checks.md section 4), independent of the beta
+    The race chance is scipy.stats.nbinom.cdf(b - 1, a, p) (docs/checks.md section 4), independent of the beta
     function and of the model's quadrature; the posterior mean is the point chance's log-odds.
     """
     from scipy.stats import nbinom, norm

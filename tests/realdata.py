@@ -1,8 +1,9 @@
-"""Small, quick loaders for the real result sets in ``../shared/data`` (test material only).
+"""Small, quick loaders for the real result sets in the shared data folder beside the repository (test material only).
 
 Badminton: world-tour men's singles 2018-2021 (mirror of a public dataset by
 SanderP99, CC0); tennis: professional men's singles 2019 (JeffSackmann/tennis_atp,
-CC BY-NC-SA 4.0).  Nothing derived from them is shipped.
+CC BY-NC-SA 4.0).  Nothing derived from them is shipped; docs/real-data.md records what the
+tests rely on.
 """
 from __future__ import annotations
 

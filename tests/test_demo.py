@@ -223,7 +223,7 @@ def test_new_week_follows_the_workbook_and_tells_its_story(league, sheets):
 
 
 def test_true_ratings_use_the_display_scale():
-    # model.md section 1: rating = 1500 + 400 r / ln 10.
+    # docs/model.md section 1: rating = 1500 + 400 r / ln 10.
     for t in read_csv(DEMO / "true-skills.csv"):
         r = float(t["True strength (log-odds)"])
         assert float(t["True rating (points)"]) == pytest.approx(1500 + 400 * r / math.log(10), abs=0.06)
@@ -232,7 +232,7 @@ def test_true_ratings_use_the_display_scale():
 @pytest.mark.realdata
 def test_names_are_not_real_players():
     if not REAL_DATA.is_dir():
-        pytest.skip("../shared/data is absent: no real names to compare the invented ones with")
+        pytest.skip("the shared data folder is absent: no real names to compare the invented ones with")
     ours = {t["Player"].casefold() for t in read_csv(DEMO / "true-skills.csv")}
     real = set()
     for path in REAL_DATA.glob("tennis/atp_matches*.csv"):

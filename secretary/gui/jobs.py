@@ -14,6 +14,7 @@ from typing import Any, Mapping
 from secretary import pipeline
 from secretary.userdirs import DEMO_FOLDER
 from secretary.model.breakdown import PlayerChange
+from secretary.model.division_table import DivisionLevel
 from secretary.model.fixtures import FixtureForecast
 from secretary.model.linkage import WatchList
 from secretary.model.records import PlayerRating, Problem, Settings
@@ -56,6 +57,7 @@ class Updated:
     history: Mapping[str, list[tuple[dt.date, float]]]
     handicap_pdf: Path | None = None
     latest_result: dt.date | None = None  # the newest result's date: fixtures before it are past
+    levels: tuple[DivisionLevel, ...] = ()  # the divisions table (division level, ±, games against other divisions)
 
 
 
@@ -90,7 +92,8 @@ def _updated(outcome: pipeline.UpdateOutcome, workbook: Path | None) -> Updated:
         watch=outcome.watch, forecasts=outcome.forecasts, divisions=tuple(outcome.fit.group_names),
         notes=outcome.notes, reason=outcome.reason, written=outcome.written, notice_pdf=outcome.notice_pdf,
         history=pipeline.rating_history(workbook) if workbook else {}, handicap_pdf=outcome.handicap_pdf,
-        latest_result=max((p.last_played for p in outcome.ratings if p.last_played), default=None))
+        latest_result=max((p.last_played for p in outcome.ratings if p.last_played), default=None),
+        levels=outcome.levels)
 
 
 def save_settings(path, values, progress, cancel) -> Path:

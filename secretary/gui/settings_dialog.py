@@ -59,7 +59,8 @@ class SettingsDialog:
                 row=row + 1, column=1, columnspan=2, sticky="w", pady=(0, 3))
             text.trace_add("write", lambda *a: self.revalidate())
             self.texts[spec.field], self.messages[spec.field], self.fields[spec.field] = text, message, field
-        grid.columnconfigure(2, weight=1)
+        # Room for the messages from the start: the canvas is sized before any message is shown.
+        grid.columnconfigure(2, weight=1, minsize=MESSAGE_WIDTH + 16)  # + its padding
         buttons = ttk.Frame(body)
         buttons.pack(fill="x", pady=(8, 0))
         self.summary = ttk.Label(buttons, text="", style="Bad.TLabel", wraplength=2 * MESSAGE_WIDTH, justify="left")

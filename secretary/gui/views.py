@@ -6,7 +6,9 @@ import re
 from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
+from secretary.model.division_table import INFERRED
 from secretary.model.notice import PAST_NOTE, fixture_note, is_past
+from secretary.model.records import HOME_RULES
 from secretary.model.sentences import naming, plural
 from secretary.workbook import schema
 
@@ -203,8 +205,35 @@ RATING_COLUMNS = (
     Column("games", "Weighted games", "Games played, old ones counting less (see Half-life in Settings), "
            "rounded to whole games: the Weighted games column of the Ratings sheet.", 6, True),
     Column("last", "Last played", "The date of the player's most recent result.", 10, True),
-    Column("note", "Note", "New players and ratings that rest on few games are marked here.", 12),
+    Column("note", "Note", "New players, ratings that rest on few games, and divisions that the Players sheet "
+           "does not give (taken from the player's most recent result) are marked here.", 12),
 )
+
+
+LEVEL_COLUMNS = (
+    Column("division", "Division", "The division.", 14),
+    Column("level", "Division level", "How strong the division is as a whole, in points above (+) or below (-) "
+           "the starting rating (Centre); a player's rating is their division's level plus how far they stand "
+           "from it (the division's level, a random effect fitted with the players).", 8, True),
+    Column("sd", "\u00b1", "How uncertain the division level is, in points (its posterior SD). It stays wide "
+           "even with many games, because games show a division's strength but not how it splits between the "
+           "level and its players' own distances from it; blank when Division spread is 0 (fixed levels).", 4, True),
+    Column("players", "Players", "Players counted in the division.", 6, True),
+    Column("cross", "Games against other divisions", "Games against other divisions (older ones counting "
+           "less): the games that set the level.", 9, True),
+    Column("note", "Note", "How the level was set: from a starting level on the Divisions sheet, or still at it.",
+           30, stretch=True),
+)
+
+
+def level_rows(levels: Sequence) -> list[Row]:
+    """The divisions table (``division_table.DivisionLevel``), strongest first as given."""
+    rows = []
+    for d in levels:
+        values = (d.label, d.level, d.sd, d.players, d.cross_games, d.note)
+        shown = (d.label, signed(d.level), points(d.sd), str(d.players), f"{d.cross_games:.0f}", d.note)
+        rows.append(Row(d.label, values, shown, () if d.cross_games or d.sd is None else ("flagged",)))
+    return rows
 
 
 def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
@@ -215,7 +244,8 @@ def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
         if position == 1 or round(p.rating) != round(order[position - 2].rating):
             place = position
         new = p.is_new or p.change is None
-        notes = (["new this update"] if new else []) + (["few games"] if p.games < few_games else [])
+        notes = (["new this update"] if new else []) + (["few games"] if p.games < few_games else []) + (
+            [INFERRED] if p.division_from == HOME_RULES[1] else [])
         values = (place, p.name, p.rating, None if new else p.change, p.division, p.sd, p.games,
                   p.last_played, ", ".join(notes))
         shown = (str(place), p.name, points(p.rating), "" if new else signed(p.change),
@@ -447,8 +477,9 @@ DIVISION_COLUMNS = (
     Column("division", "Division", "The division (the group whose level is compared with the others).", 14),
     Column("players", "Players", "Players counted in the division.", 6, True),
     Column("level", "Against the rest", "The division's average rating minus the league's, in points.", 6, True),
-    Column("linked", "Linked share", "How well games against other divisions tie the division in: 100% is "
-           "fully tied in, a low share means its level is mostly a guess (the linked share of its level).", 9, True),
+    Column("linked", "How well linked", "How well games against other divisions tie the division in: 100% is "
+           "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (the share "
+           "of what is known about its level that comes from games against other divisions).", 9, True),
     Column("cross", "Games against other divisions", "Games (older ones counting less) against other "
            "divisions.", 9, True),
     Column("linkers", "Players who link it", "How many of its players met someone from another division.", 9,
@@ -540,9 +571,24 @@ def plain(value) -> str:
     return str(int(value)) if isinstance(value, float) and value.is_integer() else str(value)
 
 
+# The technical term behind a setting's plain name, for its tooltip (the screen keeps the plain name).
+SETTING_TERMS = {
+    "centre": "the prior mean, in points",
+    "scale": "logistic scale: points for odds of 10 to 1 per game (as in Elo)",
+    "skill_spread": "prior standard deviation of the players' strengths",
+    "half_life_days": "exponential age weighting of games",
+    "division_spread": "prior standard deviation of the division levels",
+    "weakly_linked_below": "threshold on the linked share",
+    "held_z": "z-score of the surplus of wins over the rating's expectation (held by the prior)",
+    "few_games": "age-weighted games",
+}
+
+
 def setting_tip(spec) -> str:
     default = default_text(spec)
-    return f"{spec.explanation}\nAllowed: {spec.allowed}. Leave it blank for the default ({default})."
+    term = SETTING_TERMS.get(spec.field)
+    return (f"{spec.explanation}\nAllowed: {spec.allowed}. Leave it blank for the default ({default})."
+            + (f"\nTechnical term: {term}." if term else ""))
 
 
 def settings_messages(texts: Mapping[str, str]) -> dict[str, str]:

@@ -1,4 +1,4 @@
-"""Why every rating changed: the exact four-part breakdown (model.md, section 2).
+"""Why every rating changed: the exact four-part breakdown (docs/model.md, section 2).
 
 With ``D0`` = last update's rows as they stand now, ``D1`` = every rated row
 now, ``t0``/``t1`` their reference dates and ``P`` the published ratings
@@ -7,13 +7,21 @@ now, ``t0``/``t1`` their reference dates and ``P`` the published ratings
     R0 = solve(D0, t0)  and  R1 = solve(D1, t1)       (both with today's settings)
     corrections = R0 - P
     own         = BR(R0, D1, t1) - R0
-    group       = BR(R0 + d_group, D1, t1) - BR(R0, D1, t1),  d_g = mean_{j in g} (R1_j - R0_j)
+    group       = BR(R0 + d, D1, t1) - BR(R0, D1, t1)
     opponents   = R1 - R0 - own - group
 
 so ``R1 - P = corrections + own + opponents + group`` holds exactly (the
-opponents part is the remainder).  ``BR_i(x, D, t)`` is player i's best
-strength with every other player frozen at ``x``: a one-dimensional convex
-problem, solved for all players at once (``best_response``).
+opponents part is the remainder; since ``BR(R1, D1, t1) = R1`` it is also
+``BR(R1) - BR(R0 + d)``, what the others' own re-rating did).  ``BR_i(x, D, t)``
+is player i's best strength with every other player frozen at ``x``: a
+one-dimensional convex problem, solved for all players at once
+(``response.best_response``).  The shift ``d_j`` moves each player with their division:
+with division levels it is the change of their division's level with every
+deviation frozen, ``L1_d(j) - L0_d(j)`` (their prior mean moving with it; a
+player whose home division changed goes from the old division's ``L0`` to the
+new one's ``L1``); in one pool it is their division's mean change
+``mean_{k in g} (R1_k - R0_k)``.  ``tests/model/test_breakdown.py`` computes
+each part again from these definitions.
 
 Choices made here (the contract leaves them open):
 
@@ -22,7 +30,8 @@ Choices made here (the contract leaves them open):
   "previous" rating is their prior mean and their corrections part is 0.
   ``R0``'s fit starts from ``P`` (warm start).
 - Groups are the current fit's divisions (Players sheet, else the division
-  played most); ``d_g`` averages over every player counted in the division.
+  of the player's most recent result); in one pool ``d_g`` averages over every player counted in the
+  division.
 - The first update (or a missing record) runs the same arithmetic with
   ``D0`` empty and ``P`` = the starting ratings; ``Breakdown.first_update``
   tells writers to show first ratings only.
@@ -51,18 +60,17 @@ from typing import Mapping, Sequence
 import numpy as np
 from scipy.special import expit
 
+from secretary.model import doubles
 from secretary.model.changes import DataChanges, all_new, compare_rows
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, PublishedState, Result, Settings
+from secretary.model.response import best_response, opponent_shares, split_partners, top_opponents
 from secretary.model.scale import points_per_logodds, to_points, to_strength
-from secretary.model.sentences import Context, sentence
+from secretary.model.sentences import Context, sentence, update_note
 
 # Settings whose change moves ratings (the rest only change what is printed).
 RATING_SETTINGS = ("centre", "scale", "skill_spread", "half_life_days", "division_spread")
-GAUSS_NODES = 3  # quadrature nodes for attributing the opponents part to opponents
-TOP_OPPONENTS = 3
-OPPONENT_SHARE = 0.2  # an opponent is named when they moved the part by >= 20 % of the largest mover
 
 
 @dataclass(frozen=True)
@@ -97,6 +105,7 @@ class PlayerChange:
     games: int = 0  # every rated game now, unweighted
     ageing: float = 0.0  # points of ``own`` that the ageing of older games alone would give (no new games)
     days_away: int | None = None  # days since the previous game: before this week's first game, or to the reference date
+    top_partners: tuple[tuple[str, float], ...] = ()  # doubles partners who moved the opponents part (not in top_opponents)
 
     @property
     def parts(self) -> tuple[float, float, float, float]:
@@ -149,92 +158,6 @@ class Breakdown:
         raise KeyError(name)
 
 
-def best_response(pairs: Pairs, x, prior_mean, prior_sd: float, *, tol: float = 1e-12, max_iter: int = 200) -> np.ndarray:
-    """``BR_i(x)`` for every player: the best strength with all others frozen at ``x`` (log-odds).
-
-    Solves, independently for each i, ``sum_j n_ij sigmoid(y - x_j) - W_i +
-    (y - mu_i) / sd^2 = 0`` (the derivative of player i's convex 1-D
-    objective) by Newton steps kept inside a shrinking bracket (a bisection
-    step whenever Newton would leave it), until every step is below ``tol``.
-    The bracket ``[mu - sd^2 L_i - 1, mu + sd^2 W_i + 1]`` (W won, L lost,
-    weighted) always holds the root.
-    """
-    x = np.asarray(x, dtype=float)
-    mu = np.asarray(prior_mean, dtype=float)
-    n = pairs.n_players
-    tot = pairs.total
-    wins = pairs.wins_per_player()
-    lost = pairs.games_per_player() - wins
-    prec = 1.0 / prior_sd**2
-    lo = mu - lost / prec - 1.0
-    hi = mu + wins / prec + 1.0
-    y = np.clip(x, lo, hi)
-    for _ in range(max_iter):
-        pa = expit(y[pairs.i] - x[pairs.j])
-        pb = expit(y[pairs.j] - x[pairs.i])
-        g = np.bincount(pairs.i, tot * pa, n) + np.bincount(pairs.j, tot * pb, n) - wins + (y - mu) * prec
-        h = np.bincount(pairs.i, tot * pa * (1 - pa), n) + np.bincount(pairs.j, tot * pb * (1 - pb), n) + prec
-        lo = np.where(g < 0, y, lo)
-        hi = np.where(g > 0, y, hi)
-        y_new = y - g / h
-        outside = (y_new < lo) | (y_new > hi)
-        y_new = np.where(outside, 0.5 * (lo + hi), y_new)
-        step = float(np.max(np.abs(y_new - y))) if n else 0.0
-        y = y_new
-        if step <= tol:
-            return y
-    return y  # bisection halves the bracket every step: 200 steps leave it far below tol
-
-
-def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
-    """Each pair's share of ``BR(end) - BR(start)`` for both players, by integrating the linearisation.
-
-    ``dBR_i/dx_j = n_ij p(1-p) / (sum_k n_ik p(1-p) + 1/sd^2)`` with
-    ``p = sigmoid(BR_i(x) - x_j)``, integrated along the straight path from
-    ``start`` to ``end`` by Gauss-Legendre quadrature: the shares of player i
-    then add up to ``BR_i(end) - BR_i(start)`` up to the quadrature error
-    (small: the path is short and smooth).  Returns ``(to_i, to_j)`` per pair:
-    what j moved i by, and what i moved j by.
-    """
-    n = pairs.n_players
-    delta = end - start
-    to_i = np.zeros(len(pairs.i))
-    to_j = np.zeros(len(pairs.i))
-    nodes, weights = np.polynomial.legendre.leggauss(GAUSS_NODES)
-    for node, weight in zip((nodes + 1) / 2, weights / 2):
-        x = start + node * delta
-        y = best_response(pairs, x, prior_mean, prior_sd)
-        pa = expit(y[pairs.i] - x[pairs.j])
-        pb = expit(y[pairs.j] - x[pairs.i])
-        ha = pairs.total * pa * (1 - pa)
-        hb = pairs.total * pb * (1 - pb)
-        curv = np.bincount(pairs.i, ha, n) + np.bincount(pairs.j, hb, n) + 1.0 / prior_sd**2
-        to_i += weight * ha / curv[pairs.i] * delta[pairs.j]
-        to_j += weight * hb / curv[pairs.j] * delta[pairs.i]
-    return to_i, to_j
-
-
-def _top_opponents(pairs: Pairs, to_i, to_j, opponents, names) -> list[tuple[tuple[str, float], ...]]:
-    """Per player, the (up to 3) opponents that moved the opponents part most, in its direction."""
-    player = np.concatenate([pairs.i, pairs.j])
-    other = np.concatenate([pairs.j, pairs.i])
-    share = np.concatenate([to_i, to_j])
-    # Only movers in the part's own direction explain it; sort each player's by size.
-    keep = np.sign(share) == np.sign(opponents[player])
-    player, other, share = player[keep], other[keep], share[keep]
-    order = np.lexsort((-np.abs(share), player))
-    player, other, share = player[order], other[order], share[order]
-    bounds = np.searchsorted(player, np.arange(len(names) + 1))
-    out = []
-    for k in range(len(names)):
-        lo, hi = bounds[k], min(bounds[k + 1], bounds[k] + TOP_OPPONENTS)
-        top = [(names[other[m]], float(share[m])) for m in range(lo, hi)]
-        if top:
-            top = [t for t in top if abs(t[1]) >= OPPONENT_SHARE * abs(top[0][1])]
-        out.append(tuple(top))
-    return out
-
-
 def shown_round(value: float) -> int:
     """Whole points as a spreadsheet shows them: halves away from zero."""
     return int(math.copysign(math.floor(abs(value) + 0.5), value))
@@ -278,15 +201,17 @@ def _rows_pairs(rows: Sequence[Result], index: Mapping[str, int], reference_date
     ga = np.array([res.games_a for res in rows], dtype=float)
     gb = np.array([res.games_b for res in rows], dtype=float)
     age = np.array([max((reference_date - res.date).days, 0) if half_life_days else 0 for res in rows], dtype=float)
-    return aggregate(a, b, ga, gb, len(index), age_weights(age, half_life_days))
+    partner_a = np.array([index[res.partner_a] if res.is_doubles else -1 for res in rows], dtype=np.int64)
+    partner_b = np.array([index[res.partner_b] if res.is_doubles else -1 for res in rows], dtype=np.int64)
+    return aggregate(a, b, ga, gb, len(index), age_weights(age, half_life_days), partner_a, partner_b)
 
 
 def _week_games(rows: Sequence[Result], index: Mapping[str, int], r0):
     """This update's new games per player (unweighted): played, won, and expected at the strengths ``r0``."""
     week = _rows_pairs(rows, index)
-    p = expit(r0[week.i] - r0[week.j])
-    n = week.n_players
-    expected = np.bincount(week.i, week.total * p, n) + np.bincount(week.j, week.total * (1 - p), n)
+    expected = week.expected_wins(expit(week.difference(r0)))
+    if week.doubles is not None:
+        expected += doubles.expected_wins(week.doubles, r0)
     return week.games_per_player(), week.wins_per_player(), expected
 
 
@@ -294,9 +219,9 @@ def _group_events(new_rows: Sequence[Result], home: Mapping[str, str]) -> tuple[
     """Per division: the usual event name of its new games against other divisions, and which divisions had any."""
     events: dict[str, Counter] = {}
     for res in new_rows:
-        ga, gb = home.get(res.player_a, ""), home.get(res.player_b, "")
-        if ga != gb and not res.void:
-            for g in (ga, gb):
+        met = {home.get(name, "") for name in res.players}
+        if len(met) > 1 and not res.void:
+            for g in sorted(met):
                 events.setdefault(g, Counter())[res.event.strip()] += 1
     named = {g: next((e for e, _ in c.most_common() if e), "") for g, c in events.items()}
     return named, set(events)
@@ -342,7 +267,7 @@ def _before(results_now: Sequence[Result], published: PublishedState | None, set
     if previous:
         # Last update's rows with their own home divisions (so unchanged rows give P again); a player
         # with no row among them is placed where the current fit places them.
-        seen = {name for res in previous for name in (res.player_a, res.player_b)}
+        seen = {name for res in previous for name in res.players}
         fit0 = fit_league(
             previous, settings, players=_order_players(fit1, players), reference_date=published.reference_date,
             start=dict(zip(names, p)), with_uncertainty=False, starting_levels=fit1.starting_levels(),
@@ -408,7 +333,7 @@ def _activity(previous: Sequence[Result], new: Sequence[Result], index: Mapping[
     first_new: dict[str, dt.date] = {}
     for rows, book, pick in ((previous, last_before, max), (new, first_new, min)):
         for res in rows:
-            for name in (res.player_a, res.player_b):
+            for name in res.players:
                 played_all[index[name]] += res.games_a + res.games_b
                 book[name] = pick(book.get(name, res.date), res.date)
     return played_all, last_before, first_new
@@ -450,7 +375,8 @@ def _player_changes(fit1: LeagueFit, before: _Before, parts: _Parts, published, 
             name=name, division=home[name], before=start, after=after, change=after - start,
             own=values[0], opponents=values[1], group=values[2], corrections=values[3],
             shown=displayed_parts(start, after, values), new_games=int(new_played[k]), new_won=int(new_won[k]),
-            new_expected=float(new_expected[k]), played=played, is_new=not was, top_opponents=top[k],
+            new_expected=float(new_expected[k]), played=played, is_new=not was, top_opponents=top[k][0],
+            top_partners=top[k][1],
             sentence="", games=int(played_all[k]), ageing=float(parts.ageing[k] * ppl),
             days_away=_days_away(name, played, last_before, first_new, t1),
         )
@@ -458,17 +384,6 @@ def _player_changes(fit1: LeagueFit, before: _Before, parts: _Parts, published, 
                           group_played_others=home[name] in crossed)
         out.append(replace(pc, sentence=sentence(pc, context)))
     return out, played_all
-
-
-def _note(state_missing: bool, first: bool, changed) -> str:
-    """The one sentence about the whole update."""
-    if state_missing:
-        return "The record of the previous update was missing, so these are shown as first ratings with no breakdown."
-    if first:
-        return "First update: these are first ratings, so there is nothing to compare with yet."
-    if changed:
-        return "The league's settings changed since the previous update; the effect is in the corrections column."
-    return ""
 
 
 def explain_changes(
@@ -500,8 +415,9 @@ def explain_changes(
     ppl = points_per_logodds(settings.scale)
     before = _before(results_now, published, settings, players, fit1)
     parts = _parts(fit1, before, settings, index)
-    to_i, to_j = opponent_shares(fit1.pairs, parts.shifted, fit1.r, parts.shifted_mean, fit1.prior_sd)
-    top = _top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names)
+    to_i, to_j, to_seat = opponent_shares(fit1.pairs, parts.shifted, fit1.r, parts.shifted_mean, fit1.prior_sd)
+    top = top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names, to_seat * ppl)
+    top = split_partners(fit1.pairs, top, names)
     out, played_all = _player_changes(fit1, before, parts, published, settings, top)
     published_ratings = published.ratings if published is not None else {}
     removed_players = tuple(
@@ -511,7 +427,7 @@ def explain_changes(
     return Breakdown(
         players=tuple(out), removed_players=removed_players, changes=before.changes, first_update=before.first,
         state_missing=bool(state_missing and before.first), settings_changed=before.settings_changed,
-        note=_note(state_missing, before.first, before.settings_changed),
+        note=update_note(state_missing, before.first, before.settings_changed),
         reference_date=fit1.reference_date, previous_reference_date=before.t0, names=names,
         before_r=before.p, after_r=fit1.r, own_r=parts.own, opponents_r=parts.opponents, group_r=parts.group,
         corrections_r=parts.corrections,

@@ -48,7 +48,12 @@ def pools(pairs: Pairs) -> np.ndarray:
     if n == 0:
         return np.zeros(0, dtype=np.int64)
     played = pairs.total > 0
-    graph = sp.coo_matrix((np.ones(played.sum()), (pairs.i[played], pairs.j[played])), shape=(n, n))
+    i, j = pairs.i[played], pairs.j[played]
+    if pairs.doubles is not None:  # a doubles game links all four players
+        di, dj = pairs.doubles.linked()
+        keep = np.tile(pairs.doubles.total > 0, 6)
+        i, j = np.concatenate([i, di[keep]]), np.concatenate([j, dj[keep]])
+    graph = sp.coo_matrix((np.ones(len(i)), (i, j)), shape=(n, n))
     _, labels = connected_components(graph, directed=False)
     sizes = np.bincount(labels)
     rank = np.empty_like(sizes)
@@ -78,7 +83,8 @@ def describe(diagnosis: Diagnosis, names) -> list[str]:
         shown = ", ".join(names[k] for k in idx[:8])
         return shown + (f" and {len(idx) - 8} more" if len(idx) > 8 else "")
     if len(diagnosis.no_games):
-        lines.append(f"No rated games yet (rated at their starting rating): {listing(diagnosis.no_games)}.")
+        lines.append(f"No rated games yet (listed on the Players sheet; not on the Ratings sheet until they play): "
+                     f"{listing(diagnosis.no_games)}.")
     if len(diagnosis.unbeaten):
         lines.append(
             f"Unbeaten so far: {listing(diagnosis.unbeaten)}. Their rating rests partly on the starting "

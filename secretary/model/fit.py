@@ -30,6 +30,15 @@ Newton step eliminates it exactly and solves the Schur complement
 over the players, by dense Cholesky or preconditioned CG as without levels.
 ``tau = 0`` fixes every level at ``m_d``: that is the one-pool model with prior
 means ``mu + B m`` and is fitted as such.
+
+Doubles (``Pairs.doubles``): a side's strength is the mean of its players'
+strengths, ``d = x . r`` with ``x = (e_a0 + e_a1 - e_b0 - e_b1) / 2``; each pair
+of sides adds ``n p (1 - p) x x^T`` to ``H``.  ``x x^T`` is a Laplacian with
+weight ``1/4`` between opponents and ``-1/4`` between partners, so ``H`` keeps
+the pattern of a graph (the union of singles pairs and doubles edges), stays
+sparse and positive definite, and every solver path is unchanged.  The
+per-row curvatures are the singles pairs' followed by the pairs of sides'
+(``pair_curvature``); ``LaplacianPattern`` folds them onto the edges.
 """
 from __future__ import annotations
 
@@ -67,6 +76,10 @@ class Levels:
         """Players per division ``n_d``."""
         return np.bincount(self.group, minlength=len(self.mean)).astype(float)
 
+    def per_division(self, v) -> np.ndarray:
+        """``B^T v``: a per-player value summed over each division."""
+        return np.bincount(self.group, v, len(self.mean))
+
     def precision(self, prior_sd: float) -> np.ndarray:
         """The level block's diagonal ``n_d / sd^2 + 1 / tau^2``."""
         return self.sizes / prior_sd**2 + 1.0 / self.sd**2
@@ -98,25 +111,56 @@ class Fit:
     level: np.ndarray = field(default_factory=lambda: np.zeros(0))
 
 
-def objective(pairs: Pairs, r, prior_mean, prior_sd: float) -> float:
-    """``F(r)``: negative log posterior up to a constant."""
-    d = r[pairs.i] - r[pairs.j]
-    nll = -(pairs.won_i @ log_expit(d) + pairs.won_j @ log_expit(-d))
-    return float(nll + np.sum((r - prior_mean) ** 2) / (2.0 * prior_sd**2))
-
-
-def gradient(pairs: Pairs, r, prior_mean, prior_sd: float) -> np.ndarray:
-    """``dF/dr``: expected minus actual weighted wins, plus the prior's pull ``(r - mu) / sd^2``."""
-    d = r[pairs.i] - r[pairs.j]
-    g = pairs.total * expit(d) - pairs.won_i  # d(nll)/d(r_i) per pair
+def objective(pairs: Pairs, x, prior_mean, prior_sd: float, levels: Levels | None = None) -> float:
+    """``F(r)``, or ``F(r, L)`` for ``x = (r, L)`` with free ``levels``: negative log posterior up to a constant."""
     n = pairs.n_players
-    return np.bincount(pairs.i, g, n) - np.bincount(pairs.j, g, n) + (r - prior_mean) / prior_sd**2
+    r = np.asarray(x, dtype=float)[:n]
+    d = pairs.difference(r)
+    nll = -(pairs.won_i @ log_expit(d) + pairs.won_j @ log_expit(-d))
+    if pairs.doubles is not None:
+        dd = pairs.doubles.difference(r)
+        nll -= pairs.doubles.won_a @ log_expit(dd) + pairs.doubles.won_b @ log_expit(-dd)
+    if levels is None:
+        return float(nll + np.sum((r - prior_mean) ** 2) / (2.0 * prior_sd**2))
+    level = np.asarray(x, dtype=float)[n:]
+    deviation = r - level[levels.group] - prior_mean
+    return float(nll + np.sum(deviation**2) / (2.0 * prior_sd**2) + np.sum((level - levels.mean) ** 2) / (2.0 * levels.sd**2))
+
+
+def gradient(pairs: Pairs, x, prior_mean, prior_sd: float, levels: Levels | None = None) -> np.ndarray:
+    """``dF/dx``: the solver's own gradient (``gradient_and_curvature``) without the pair weights."""
+    return gradient_and_curvature(pairs, np.asarray(x, dtype=float), prior_mean, prior_sd, levels)[0]
+
+
+def gradient_and_curvature(pairs: Pairs, x, prior_mean, prior_sd: float, levels: Levels | None = None):
+    """``dF/dx`` and the pair weights ``n p (1 - p)`` from one pass over the pairs.
+
+    Without levels ``x = r`` and ``dF/dr = X^T (n p - won_i) + (r - mu) / sd^2``
+    (expected minus actual weighted wins, plus the prior's pull).  With free
+    ``levels``, ``x = (r, L)``: the players' prior means are ``mu + B L`` and
+    ``dF/dL = (L - m) / tau^2 - B^T (r - mu - B L) / sd^2``.
+    """
+    if levels is None:
+        return _player_gradient_and_curvature(pairs, x, prior_mean, prior_sd)
+    n = pairs.n_players
+    r, level = x[:n], x[n:]
+    conditional = prior_mean + level[levels.group]  # each player's prior mean given the levels
+    grad, h = _player_gradient_and_curvature(pairs, r, conditional, prior_sd)
+    pull = levels.per_division(r - conditional) / prior_sd**2
+    return np.concatenate([grad, (level - levels.mean) / levels.sd**2 - pull]), h
+
+
+def doubles_terms(doubles, r) -> tuple[np.ndarray, np.ndarray]:
+    """The doubles games' part of ``dF/dr`` and each pair of sides' curvature ``n p (1 - p)``."""
+    p = expit(doubles.difference(r))
+    return doubles.per_player_difference(doubles.total * p - doubles.won_a), doubles.total * p * (1.0 - p)
 
 
 def pair_curvature(pairs: Pairs, r) -> np.ndarray:
-    """``n_ij p (1 - p)`` per pair: the pair's weight in the Hessian's Laplacian."""
+    """``n_ij p (1 - p)`` per pair (then per pair of doubles sides): the weights ``LaplacianPattern`` takes."""
     p = pair_chance(pairs, r)
-    return pairs.total * p * (1.0 - p)
+    h = pairs.total * p * (1.0 - p)
+    return h if pairs.doubles is None else np.concatenate([h, doubles_terms(pairs.doubles, r)[1]])
 
 
 class LaplacianPattern:
@@ -131,20 +175,41 @@ class LaplacianPattern:
         n = pairs.n_players
         self.n = n
         self.pairs = pairs
-        key = pairs.i.astype(np.int64) * max(n, 1) + pairs.j
+        self.i, self.j, self.fold = pairs.i, pairs.j, None
+        if pairs.doubles is not None:
+            self._add_doubles(pairs)
+        key = self.i.astype(np.int64) * max(n, 1) + self.j
         self.order = None if np.all(key[1:] >= key[:-1]) else np.argsort(key, kind="stable")
-        rows = pairs.i if self.order is None else pairs.i[self.order]
-        self.indices = (pairs.j if self.order is None else pairs.j[self.order]).astype(np.int32)
+        rows = self.i if self.order is None else self.i[self.order]
+        self.indices = (self.j if self.order is None else self.j[self.order]).astype(np.int32)
         self.indptr = np.concatenate([[0], np.cumsum(np.bincount(rows, minlength=n))]).astype(np.int32)
+
+    def _add_doubles(self, pairs: Pairs) -> None:
+        """Edges = singles pairs and doubles edges merged; ``fold`` sums row weights onto them."""
+        n, m = self.n, len(pairs.i)
+        row, i, j, c = pairs.doubles.edges()
+        key = np.concatenate([pairs.i.astype(np.int64) * n + pairs.j, np.minimum(i, j).astype(np.int64) * n
+                              + np.maximum(i, j)])
+        keys, edge = np.unique(key, return_inverse=True)
+        self.i, self.j = keys // n, keys % n
+        self.fold = (edge.ravel(), np.concatenate([np.arange(m), m + row]), np.concatenate([np.ones(m), c]))
+
+    def weights(self, h) -> np.ndarray:
+        """Each edge's weight in the Laplacian from the per-row curvatures ``h`` (``pair_curvature``)."""
+        if self.fold is None:
+            return h
+        edge, source, coefficient = self.fold
+        return np.bincount(edge, coefficient * np.asarray(h)[source], len(self.i))
 
     def diagonal(self, h, prior_sd: float) -> np.ndarray:
         """``diag(H)``: each player's summed pair weights plus ``1 / sd^2``."""
-        n = self.n
-        return np.bincount(self.pairs.i, h, n) + np.bincount(self.pairs.j, h, n) + 1.0 / prior_sd**2
+        n, w = self.n, self.weights(h)
+        return np.bincount(self.i, w, n) + np.bincount(self.j, w, n) + 1.0 / prior_sd**2
 
     def upper(self, h) -> sp.csr_matrix:
         """The strictly upper triangle ``U`` of ``H`` for pair weights ``h``."""
-        values = -h if self.order is None else -h[self.order]
+        w = self.weights(h)
+        values = -w if self.order is None else -w[self.order]
         return sp.csr_matrix((values, self.indices, self.indptr), shape=(self.n, self.n))
 
     def matvec(self, h, diag):
@@ -156,8 +221,9 @@ class LaplacianPattern:
     def dense(self, h, prior_sd: float) -> np.ndarray:
         """``H`` as a dense array (small leagues: cheaper than building the sparse matrix first)."""
         H = np.zeros((self.n, self.n))
-        H[self.pairs.i, self.pairs.j] = -h  # pairs are distinct, so plain assignment is exact
-        H[self.pairs.j, self.pairs.i] = -h
+        w = self.weights(h)
+        H[self.i, self.j] = -w  # edges are distinct, so plain assignment is exact
+        H[self.j, self.i] = -w
         H[np.diag_indices(self.n)] = self.diagonal(h, prior_sd)
         return H
 
@@ -167,12 +233,14 @@ class LaplacianPattern:
         return (upper + upper.T + sp.diags(self.diagonal(h, prior_sd))).tocsr()
 
 
-def hessian(pairs: Pairs, r, prior_sd: float, levels: Levels | None = None) -> sp.csr_matrix:
-    """``H = sum_pairs n p (1 - p) (e_i - e_j)(e_i - e_j)^T + I / sd^2`` (sparse, SPD).
+def hessian(pairs: Pairs, r, prior_sd: float, levels: Levels | None = None, *, curvature=None) -> sp.csr_matrix:
+    """``H = X^T diag(n p (1 - p)) X + I / sd^2`` (sparse, SPD), at the strengths ``r``.
 
     With ``levels`` the joint Hessian over ``(r, L)`` (see the module), of size ``n + D``.
+    ``curvature``: the pair weights ``n p (1 - p)`` when already computed (``pair_curvature``).
     """
-    H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
+    h = pair_curvature(pairs, r) if curvature is None else curvature
+    H = LaplacianPattern(pairs).matrix(h, prior_sd)
     return H if levels is None else joint_hessian(H, levels, prior_sd)
 
 
@@ -185,8 +253,7 @@ def joint_hessian(H, levels: Levels, prior_sd: float) -> sp.csr_matrix:
 
 def pair_chance(pairs: Pairs, r) -> np.ndarray:
     """``p = sigmoid(r_i - r_j)`` per pair, as ``(1 + tanh(d / 2)) / 2`` in place (several times faster than expit)."""
-    p = np.take(r, pairs.i)
-    p -= np.take(r, pairs.j)
+    p = pairs.difference(r)
     p *= 0.5
     np.tanh(p, out=p)
     p += 1.0
@@ -194,58 +261,60 @@ def pair_chance(pairs: Pairs, r) -> np.ndarray:
     return p
 
 
-def _gradient_and_curvature(pairs: Pairs, r, mu, prior_sd: float):
-    """``dF/dr`` and the pair weights ``n p (1 - p)`` from one pass over the pairs."""
+def _player_gradient_and_curvature(pairs: Pairs, r, mu, prior_sd: float):
+    """``dF/dr`` for prior means ``mu`` and the pair weights ``n p (1 - p)``, reusing one buffer."""
     p = pair_chance(pairs, r)
     total = pairs.total
     g = total * p
     g -= pairs.won_i
-    n = pairs.n_players
-    grad = np.bincount(pairs.i, g, n) - np.bincount(pairs.j, g, n) + (r - mu) / prior_sd**2
+    grad = pairs.per_player_difference(g) + (r - mu) / prior_sd**2
     np.subtract(1.0, p, out=g)
     g *= p
     g *= total
+    if pairs.doubles is not None:
+        grad_doubles, h_doubles = doubles_terms(pairs.doubles, r)
+        grad += grad_doubles
+        g = np.concatenate([g, h_doubles])
     return grad, g
 
 
-def _newton_step(pattern: LaplacianPattern, h, prior_sd: float, g: np.ndarray, gmax: float) -> np.ndarray:
-    diag = pattern.diagonal(h, prior_sd)
-    if pattern.n <= DENSE_LIMIT:
-        H = pattern.dense(h, prior_sd)
-        return -sla.cho_solve(sla.cho_factor(H, check_finite=False), g, check_finite=False)
-    # Inexact Newton: Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
-    rtol = min(0.1, np.sqrt(gmax)) * 0.1
-    return -conjugate_gradient(pattern.matvec(h, diag), g, 1.0 / diag, rtol, 10 * pattern.n)
+def newton_step(pattern: LaplacianPattern, h, prior_sd: float, g, gmax: float, levels: Levels | None = None):
+    """The Newton step ``-H^-1 g`` over ``r``, or over ``(r, L)`` with free ``levels``.
 
-
-def _level_gradient_and_curvature(pairs: Pairs, x, mu, prior_sd: float, levels: Levels):
-    """``dF/d(r, L)`` and the pair weights, for the unknowns ``x = (r, L)``."""
-    n = pairs.n_players
-    r, level = x[:n], x[n:]
-    conditional = mu + level[levels.group]  # each player's prior mean given the levels
-    grad, h = _gradient_and_curvature(pairs, r, conditional, prior_sd)
-    pull = np.bincount(levels.group, r - conditional, len(level)) / prior_sd**2
-    return np.concatenate([grad, (level - levels.mean) / levels.sd**2 - pull]), h
-
-
-def _level_newton_step(pattern: LaplacianPattern, h, prior_sd: float, levels: Levels, g, gmax: float):
-    """The Newton step over ``(r, L)``: the diagonal level block eliminated, the Schur complement solved."""
-    n, group, D = pattern.n, levels.group, len(levels.mean)
+    With levels the diagonal level block is eliminated exactly: the players' part
+    solves the Schur complement ``K + I / sd^2 - B diag(beta) B^T`` and the levels'
+    part follows from it.
+    """
+    if levels is None:
+        return -_solve_players(pattern, h, prior_sd, g, gmax)
+    n, group = pattern.n, levels.group
     g_r, g_level = g[:n], g[n:]
-    precision, beta = levels.precision(prior_sd), levels.beta(prior_sd)
-    rhs = g_r + (g_level / (prior_sd**2 * precision))[group]
-    if n <= DENSE_LIMIT:
-        S = pattern.matrix(h, prior_sd).toarray()
-        S -= (group[:, None] == group[None, :]) * beta[group][:, None]
-        step_r = -sla.cho_solve(sla.cho_factor(S, check_finite=False), rhs, check_finite=False)
-    else:
-        diag = pattern.diagonal(h, prior_sd)
-        players = pattern.matvec(h, diag)
-        rtol = min(0.1, np.sqrt(gmax)) * 0.1
-        step_r = -conjugate_gradient(lambda v: players(v) - beta[group] * np.bincount(group, v, D)[group],
-                                     rhs, 1.0 / (diag - beta[group]), rtol, 10 * n)
-    step_level = (np.bincount(group, step_r, D) / prior_sd**2 - g_level) / precision
+    precision = levels.precision(prior_sd)
+    step_r = -_solve_players(pattern, h, prior_sd, g_r + (g_level / (prior_sd**2 * precision))[group], gmax, levels)
+    step_level = (levels.per_division(step_r) / prior_sd**2 - g_level) / precision
     return np.concatenate([step_r, step_level])
+
+
+def _solve_players(pattern: LaplacianPattern, h, prior_sd: float, rhs, gmax: float, levels: Levels | None = None):
+    """``S^-1 rhs`` with ``S = K + I / sd^2`` (minus ``B diag(beta) B^T`` with levels).
+
+    Dense Cholesky up to ``DENSE_LIMIT`` players; above, inexact Newton:
+    Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
+    """
+    if pattern.n <= DENSE_LIMIT:
+        S = pattern.dense(h, prior_sd)
+        if levels is not None:
+            group = levels.group
+            S -= (group[:, None] == group[None, :]) * levels.beta(prior_sd)[group][:, None]
+        return sla.cho_solve(sla.cho_factor(S, check_finite=False), rhs, check_finite=False)
+    rtol = min(0.1, np.sqrt(gmax)) * 0.1
+    diag = pattern.diagonal(h, prior_sd)
+    players = pattern.matvec(h, diag)
+    if levels is None:
+        return conjugate_gradient(players, rhs, 1.0 / diag, rtol, 10 * pattern.n)
+    low = levels.beta(prior_sd)[levels.group]
+    return conjugate_gradient(lambda v: players(v) - low * levels.per_division(v)[levels.group],
+                              rhs, 1.0 / (diag - low), rtol, 10 * pattern.n)
 
 
 def _dot(a: np.ndarray, b: np.ndarray) -> float:
@@ -334,23 +403,12 @@ def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: f
     """Safeguarded Newton over ``x = r`` (or ``(r, L)`` with levels): the optimum, steps taken, final gradient."""
     pattern = LaplacianPattern(pairs)
     tol = gtol * max(1.0, float(pairs.games_per_player().mean()))
-    if levels is None:
-        x = r
+    warm = levels is None or len(r) == pairs.n_players + len(levels.mean)  # a start may hold the levels too
+    x = r if warm else np.concatenate([r, np.asarray(levels.mean, dtype=float)])
 
-        def evaluate(y):
-            return _gradient_and_curvature(pairs, y, mu, prior_sd)
+    def evaluate(y):
+        return gradient_and_curvature(pairs, y, mu, prior_sd, levels)
 
-        def newton_step(h, g, gmax):
-            return _newton_step(pattern, h, prior_sd, g, gmax)
-    else:
-        D = len(levels.mean)
-        x = r if len(r) == pairs.n_players + D else np.concatenate([r, np.asarray(levels.mean, dtype=float)])
-
-        def evaluate(y):
-            return _level_gradient_and_curvature(pairs, y, mu, prior_sd, levels)
-
-        def newton_step(h, g, gmax):
-            return _level_newton_step(pattern, h, prior_sd, levels, g, gmax)
     g, h = evaluate(x)
     gmax = float(np.max(np.abs(g)))
     for it in range(max_iter + 1):
@@ -360,7 +418,7 @@ def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: f
             return x, it, gmax
         if it == max_iter:
             break
-        step = newton_step(h, g, gmax)
+        step = newton_step(pattern, h, prior_sd, g, gmax, levels)
         t, g, h = _line_search(evaluate, x, step, g)
         x = x + t * step
         gmax = float(np.max(np.abs(g)))

@@ -22,7 +22,7 @@ from secretary.model.diagnose import Diagnosis, diagnose
 from secretary.model.fit import Levels, fit_map, hessian
 from secretary.model.matches import Matches, from_results, home_divisions, last_played
 from secretary.model.pairs import Pairs, age_weights, aggregate
-from secretary.model.records import Player, Result, Settings
+from secretary.model.records import HOME_RULES, Player, Result, Settings
 from secretary.model.scale import points_per_logodds, to_points, to_strength
 from secretary.model.uncertainty import contrast_variance, strength_variance
 
@@ -78,6 +78,16 @@ class LeagueFit:
         """Age-weighted games won per player."""
         return self.pairs.wins_per_player()
 
+    @property
+    def doubles_games(self) -> np.ndarray:
+        """Age-weighted doubles games played per player (included in ``games``)."""
+        return self.pairs.doubles_games_per_player()
+
+    def side_strength(self, side) -> float:
+        """A side's strength in log-odds: one player's, or the mean of two players' (doubles)."""
+        names = (side,) if isinstance(side, str) else tuple(side)
+        return float(np.mean([self.r[self.index(name)] for name in names]))
+
     def index(self, name: str) -> int:
         """Position of ``name`` in ``names``; KeyError if not rated."""
         try:
@@ -131,7 +141,6 @@ class LeagueFit:
         return self.group_names[self.group[self.index(name)]]
 
 
-HOME_RULES = ("Players sheet", "played most", "no results")
 
 
 def division_levels(group: np.ndarray, group_names: Sequence[str], settings: Settings,
@@ -146,12 +155,42 @@ def _placed(matches: Matches, players: Sequence[Player], home: Mapping[str, str]
     """Each player's (home division, the rule that placed them: one of ``HOME_RULES``)."""
     given = {p.name for p in players if p.division}
     played = np.zeros(len(matches.names), dtype=bool)
-    played[matches.idx_a] = played[matches.idx_b] = True
+    played[matches.seats()[0]] = True
     placed = [(division, HOME_RULES[0] if name in given else HOME_RULES[1] if was else HOME_RULES[2])
               for name, division, was in zip(matches.names, home_divisions(matches, players), played.tolist())]
     if home:
         placed = [(home.get(name, division), rule) for name, (division, rule) in zip(matches.names, placed)]
     return placed
+
+
+def _weighted_pairs(matches: Matches, reference_date: dt.date | None, half_life_days: float) -> Pairs:
+    """The matches' games per pair, each weighted by its age from ``reference_date`` (never negative)."""
+    age = (reference_date.toordinal() - matches.day).astype(float) if len(matches) else np.zeros(0)
+    return aggregate(matches.idx_a, matches.idx_b, matches.games_a, matches.games_b, len(matches.names),
+                     age_weights(np.maximum(age, 0.0), half_life_days), matches.partner_a, matches.partner_b)
+
+
+def _prior_means(order: Sequence[str], players: Sequence[Player], settings: Settings) -> np.ndarray:
+    """Each player's prior mean in log-odds: their Players-sheet starting rating, else the centre (0)."""
+    starting = {p.name: p.starting for p in players if p.starting is not None}
+    mu = np.full(len(order), 0.0)
+    for k, name in enumerate(order):
+        if name in starting:
+            mu[k] = to_strength(starting[name], settings.centre, settings.scale)
+    return mu
+
+
+def _numbered(divisions: Sequence[str]) -> tuple[tuple[str, ...], np.ndarray]:
+    """The divisions' names in sorted order, and each player's division number among them."""
+    names = tuple(sorted(set(divisions)))
+    number = {g: k for k, g in enumerate(names)}
+    return names, np.fromiter((number[d] for d in divisions), np.int64, len(divisions))
+
+
+def _variances(pairs: Pairs, r, prior_sd: float, group, free: Levels | None, D: int):
+    """The strengths' posterior variances and the free levels' (0s when the levels are fixed)."""
+    var = strength_variance(pairs, r, prior_sd, group, free)
+    return (var[:len(r)], var[len(r):]) if free is not None else (var, np.zeros(D))
 
 
 def fit_league(
@@ -199,25 +238,12 @@ def fit_matches(
     With two or more divisions each gets a level (``Levels``): free with a
     Division spread above 0, fixed at its starting level with 0 (one pool).
     """
-    order = matches.names
-    n = len(order)
+    order, n = matches.names, len(matches.names)
     ref = reference_date or (dt.date.fromordinal(int(matches.day.max())) if len(matches) else None)
-    age = (ref.toordinal() - matches.day).astype(float) if len(matches) else np.zeros(0)
-    pairs = aggregate(matches.idx_a, matches.idx_b, matches.games_a, matches.games_b, n,
-                      age_weights(np.maximum(age, 0.0), settings.half_life_days))
-
-    ppl = points_per_logodds(settings.scale)
-    starting = {p.name: p.starting for p in players if p.starting is not None}
-    mu = np.full(n, 0.0)
-    for k, name in enumerate(order):
-        if name in starting:
-            mu[k] = to_strength(starting[name], settings.centre, settings.scale)
-    prior_sd = settings.skill_spread / ppl
-
+    pairs = _weighted_pairs(matches, ref, settings.half_life_days)
+    mu, prior_sd = _prior_means(order, players, settings), settings.skill_spread / points_per_logodds(settings.scale)
     placed = _placed(matches, players, home)
-    group_names = tuple(sorted({division for division, _ in placed}))
-    group_of = {g: k for k, g in enumerate(group_names)}
-    group = np.fromiter((group_of[division] for division, _ in placed), np.int64, n)
+    group_names, group = _numbered([division for division, _ in placed])
     levels = division_levels(group, group_names, settings, starting_levels) if len(group_names) > 1 else None
 
     x0 = None if start is None else np.array([start.get(name, mu[k]) for k, name in enumerate(order)])
@@ -226,26 +252,13 @@ def fit_matches(
     D = len(group_names)
     level = fit.level if levels is not None else np.zeros(D)
     if with_uncertainty:
-        var = strength_variance(pairs, fit.r, prior_sd, group, free)
-        var, level_var = (var[:n], var[n:]) if free is not None else (var, np.zeros(D))
+        var, level_var = _variances(pairs, fit.r, prior_sd, group, free, D)
     else:
         var, level_var = np.full(n, np.nan), np.full(D, np.nan if free is not None else 0.0)
     return LeagueFit(
-        names=order,
-        settings=settings,
-        reference_date=ref,
-        r=fit.r,
-        var=var,
-        prior_mean=mu + level[group],
-        pairs=pairs,
-        group=group,
-        group_names=group_names,
-        last_played=last_played(matches),
-        diagnosis=diagnose(pairs),
-        iterations=fit.iterations,
-        level=level,
-        level_var=level_var,
-        levels=free,
+        names=order, settings=settings, reference_date=ref, r=fit.r, var=var, prior_mean=mu + level[group],
+        pairs=pairs, group=group, group_names=group_names, last_played=last_played(matches),
+        diagnosis=diagnose(pairs), iterations=fit.iterations, level=level, level_var=level_var, levels=free,
         starting_level=levels.mean if levels is not None else np.zeros(D),
         home_rule=tuple(rule for _, rule in placed),
     )

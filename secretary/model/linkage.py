@@ -1,41 +1,9 @@
 """The watch list: how well each division's level is tied to the rest, held-back players, linking matches.
 
-Posterior of the strengths.  ``K = A + I / s^2`` is the one-pool Hessian at
-the optimum (``A`` the likelihood's weighted Laplacian, ``n p (1 - p)`` per
-pair).  With division levels (``r_i = L_d(i) + u_i``, ``L_d ~ N(m_d, tau^2)``,
-``u_i ~ N(mu_i, s^2)``) the strengths' prior covariance is
-``s^2 I + tau^2 B B^T`` (``B`` the player-by-division indicator), so their
-posterior precision is
-
-    H = A + (s^2 I + tau^2 B B^T)^-1 = K - B diag(beta) B^T,
-    beta_d = tau^2 / (s^2 (s^2 + n_d tau^2)),
-
-solved by Woodbury with one extra solve of ``K`` per division (``LevelSolver``).
-With ``tau = 0`` (one pool) ``H = K``.
-
-Division linkage with levels (``tau > 0``).  The contrast ``c = e_d - (1 - e_d) / (D - 1)``
-is division d's level minus the other divisions' average level; the common
-mode of all levels, which games never see, drops out of it.  The data depend
-on the strengths only, and ``E[L | r]`` is linear in ``r``, so
-
-    Var(c . L) = Var(c . L | r) + Var(w . r),
-    Var(c . L | r) = sum_k c_k^2 tau^2 s^2 / (s^2 + n_k tau^2)    (the offset),
-    w_i = tau^2 c_d(i) / (s^2 + n_d(i) tau^2),
-
-with ``Var(w . r) = w^T H^-1 w`` after the games and ``w^T (s^2 I + tau^2 B B^T) w``
-before (the prior alone gives ``Var(c . L) = tau^2 |c|^2``).  Games can only
-act on the second part (how a level splits from its players' deviations is the
-priors' matter), so ``linked_share = 1 - (Var_post - offset) / (Var_prior - offset)``
-is the share of that part's precision that comes from games: exactly 0 for a
-division that has played no other (its contrast is then a prior-only direction,
-because the other divisions enter it with equal weights), near 1 for a
-well-linked one, whatever the division's size.  ``level_sd`` is the full
-posterior ± of ``c . L``.
-
-Division linkage in one pool (``tau = 0``).  For a set of players g, ``u_g``
-averages over g minus the average over the league; ``Var_post = u_g^T H^-1 u_g``
-against ``s^2 |u_g|^2`` under the prior alone.  Separate pools always use this
-form (with the prior covariance above when there are levels).
+Each division's level against the rest and its linked share come from
+``secretary.model.contrasts`` (the maths is in its docstring); the words a
+secretary reads from ``secretary.model.watch_sentences``; the suggested linking
+matches from ``secretary.model.linking_matches``.
 
 Held back.  At the optimum the data's pull on player i, ``g_i = sum w (won - p)``,
 equals the prior's ``(u_i - mu_i) / s^2``: the prior holds them against their
@@ -50,22 +18,18 @@ from dataclasses import dataclass
 from typing import Iterable
 
 import numpy as np
-import scipy.sparse.linalg as spla
 from scipy.special import expit
 
-from secretary.model.fit import LaplacianPattern, conjugate_gradient, joint_hessian, pair_curvature
+from secretary.model.contrasts import against_the_rest, average_contrasts, division_contrasts, posterior_solver
+from secretary.model.doubles import expected_wins
 from secretary.model.linking_matches import LinkingMatch, expected_race_games, suggest_matches
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
 from secretary.model.watch_sentences import NO_DIVISION, division_todo, held_todo, pool_todo
 
 __all__ = ["DivisionLink", "HeldPlayer", "LinkingMatch", "Pool", "WatchList", "watch_list", "NO_DIVISION",
-           "HessianSolver", "Contrasts", "level_vectors", "expected_race_games"]
+           "expected_race_games"]
 
-# Players up to which solves use a sparse LU factor; above, Jacobi-preconditioned CG.  Leagues
-# whose divisions mix at random fill the factor in badly (10,000 players: 30 M entries, 40 s),
-# while CG stays near-linear (2 s); at 1,500 players both take a fraction of a second.
-FACTOR_LIMIT = 1500
 HELD_SHOWN = 20  # held-back players listed, strongest cases first; the rest are counted
 
 
@@ -193,154 +157,6 @@ class WatchList:
 
 
 # ---------------------------------------------------------------------------
-# Solves with the posterior precision
-
-
-class HessianSolver:
-    """Solves ``K x = b`` for many right-hand sides without forming ``K^-1``.
-
-    ``method``: "factor" (sparse LU with a symmetric ordering, exact to
-    rounding), "cg" (conjugate gradients with a Jacobi preconditioner, relative
-    residual ``rtol``), or "auto" (factor up to ``FACTOR_LIMIT`` players).
-    """
-
-    def __init__(self, H, method: str = "auto", rtol: float = 1e-11):
-        n = H.shape[0]
-        if method == "auto":
-            method = "factor" if n <= FACTOR_LIMIT else "cg"
-        if method not in ("factor", "cg"):
-            raise ValueError(f"method must be 'auto', 'factor' or 'cg' (got {method!r})")
-        self.method, self.rtol, self.n = method, rtol, n
-        if method == "factor":
-            self._lu = spla.splu(H.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                                 options={"SymmetricMode": True})
-        else:
-            self._H = H.tocsr()
-            self._inv_diag = 1.0 / self._H.diagonal()
-
-    def solve(self, b) -> np.ndarray:
-        """``K^-1 b`` for a vector or for each column of a matrix."""
-        b = np.asarray(b, dtype=float)
-        if self.n == 0:
-            return b.copy()
-        if self.method == "factor":
-            return self._lu.solve(b)
-        if b.ndim == 1:
-            return self._cg(b)
-        return np.column_stack([self._cg(col) for col in b.T]) if b.shape[1] else b.copy()
-
-    def _cg(self, b: np.ndarray) -> np.ndarray:
-        return conjugate_gradient(self._H.dot, b, self._inv_diag, self.rtol, 20 * self.n)
-
-
-def division_spread(fit) -> float:
-    """The fit's prior SD of division levels, log-odds (0 when the levels are fixed: one pool)."""
-    return fit.levels.sd if fit.levels is not None else 0.0
-
-
-def posterior_solver(fit, method: str = "auto"):
-    """A solver for the fit's posterior precision ``H``, and the pair weights ``n p (1 - p)``.
-
-    ``H`` is over the strengths, and with free division levels over ``(r, L)``
-    (``fit.hessian``: the players' block bordered by one row per division).
-    """
-    h = pair_curvature(fit.pairs, fit.r)
-    H = LaplacianPattern(fit.pairs).matrix(h, fit.prior_sd)
-    if fit.levels is not None:
-        H = joint_hessian(H, fit.levels, fit.prior_sd)
-    return HessianSolver(H, method), h
-
-
-# ---------------------------------------------------------------------------
-# Contrasts: levels against the rest
-
-
-@dataclass(frozen=True)
-class Contrasts:
-    """Quantities ``w . x`` over the unknowns ``x`` of ``H`` (strengths, then any free levels).
-
-    ``prior`` is their variance under the prior alone and ``offset`` the part of
-    it no game can reach (``Var(c . L | r)`` for a level; 0 for an average
-    strength), both in log-odds squared.
-    """
-
-    vectors: np.ndarray  # (n_unknowns, k)
-    offset: np.ndarray  # (k,)
-    prior: np.ndarray  # (k,)
-
-    def variance(self, solver) -> tuple[np.ndarray, np.ndarray]:
-        """Posterior variances ``w^T H^-1 w`` (k,) and ``X = H^-1 W`` (n_unknowns, k)."""
-        W = self.vectors
-        X = solver.solve(W).reshape(W.shape) if W.size else W.copy()
-        return np.einsum("ij,ij->j", W, X), X
-
-    def shares(self, var: np.ndarray, s2: float) -> np.ndarray:
-        """The share of what games can pin down that they do: ``1 - (Var_post - offset) / (Var_prior - offset)``.
-
-        Clipped to [0, 1]; 1 where the prior leaves nothing to pin down.
-        """
-        seen = self.prior - self.offset
-        with np.errstate(invalid="ignore", divide="ignore"):
-            share = np.where(seen > 1e-12 * s2, 1.0 - (var - self.offset) / seen, 1.0)
-        return np.clip(share, 0.0, 1.0)
-
-
-def level_vectors(members: np.ndarray) -> np.ndarray:
-    """Columns ``u_g``: average over group g minus average over everyone.
-
-    Parameters
-    ----------
-    members : bool array (n_players, n_groups), True where a player is in a group
-    """
-    members = np.asarray(members, dtype=bool)
-    n = members.shape[0]
-    sizes = np.maximum(members.sum(axis=0), 1)
-    return members / sizes - (1.0 / n if n else 0.0)
-
-
-def average_contrasts(fit, members: np.ndarray) -> Contrasts:
-    """Each set's average strength minus the league's; prior covariance ``s^2 I + tau^2 B B^T``.
-
-    With free levels the vectors carry zeros in the levels' rows of ``H``.
-    """
-    U = level_vectors(members)
-    per_division = np.zeros((len(fit.group_names), U.shape[1]))
-    np.add.at(per_division, fit.group, U)
-    prior = fit.prior_sd**2 * np.sum(U**2, axis=0) + division_spread(fit) ** 2 * np.sum(per_division**2, axis=0)
-    if fit.levels is not None:
-        U = np.vstack([U, np.zeros_like(per_division)])
-    return Contrasts(U, np.zeros(U.shape[1]), prior)
-
-
-def against_the_rest(D: int) -> np.ndarray:
-    """Row d: division d's level minus the other divisions' average level (D >= 2)."""
-    return (np.eye(D) * D - 1.0) / (D - 1)
-
-
-def level_contrasts(fit) -> Contrasts:
-    """Each division's level minus the other divisions' average level (free levels only).
-
-    The vectors are ``c`` in the levels' rows of the joint ``H``; the offset is
-    ``Var(c . L | r)``, the part no game can see.
-    """
-    s2, t2 = fit.prior_sd**2, division_spread(fit) ** 2
-    sizes = fit.levels.sizes
-    D = len(sizes)
-    C = against_the_rest(D)
-    hidden = t2 * s2 / (s2 + sizes * t2)  # Var(L_d | r)
-    vectors = np.vstack([np.zeros((len(fit.names), D)), C.T])
-    return Contrasts(vectors, np.sum(C**2 * hidden[None, :], axis=1), t2 * np.sum(C**2, axis=1))
-
-
-def division_contrasts(fit) -> Contrasts:
-    """The divisions against the rest: their levels with free levels, else their average strengths."""
-    if fit.levels is not None:
-        return level_contrasts(fit)
-    n_groups = len(fit.group_names)
-    return average_contrasts(fit, fit.group[:, None] == np.arange(n_groups)[None, :])
-
-
-# ---------------------------------------------------------------------------
 # The watch list
 
 
@@ -352,7 +168,7 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
     fit : the joint fit (strengths, pairs, divisions, pools, settings)
     results : the results the fit used; only needed for the raw count of
         recent cross-division games (None leaves that count out)
-    method : how to solve with ``K``: "auto", "factor" or "cg" (see ``HessianSolver``)
+    method : how to solve with ``K``: "auto", "factor" or "cg" (see ``contrasts.HessianSolver``)
     """
     settings = fit.settings
     n, n_groups = len(fit.names), len(fit.group_names)
@@ -387,27 +203,41 @@ def _recent_cross_games(fit, results: Iterable[Result]) -> np.ndarray:
     half_life = fit.settings.half_life_days
     lookup = {name: k for k, name in enumerate(fit.names)}
     for res in results:
-        if res.void or res.player_a not in lookup or res.player_b not in lookup:
+        if res.void or any(name not in lookup for name in res.players):
             continue
         if half_life and fit.reference_date and (fit.reference_date - res.date).days > half_life:
             continue
-        ga, gb = fit.group[lookup[res.player_a]], fit.group[lookup[res.player_b]]
-        if ga != gb:
-            games = int(round(res.games_a + res.games_b))
-            counts[ga] += games
-            counts[gb] += games
+        sides = [sorted(int(fit.group[lookup[name]]) for name in side) for side in (res.side_a, res.side_b)]
+        if sides[0] != sides[1]:  # the sides' divisions differ: the game compares division levels
+            for g in set(sides[0] + sides[1]):
+                counts[g] += int(round(res.games_a + res.games_b))
     return counts
 
 
 def _cross_games(fit) -> tuple[np.ndarray, np.ndarray]:
     """Age-weighted games against other divisions, per division and per player."""
-    pairs, n, n_groups = fit.pairs, len(fit.names), len(fit.group_names)
-    gi, gj = fit.group[pairs.i], fit.group[pairs.j]
-    cross = (gi != gj) & (pairs.total > 0)
-    t = pairs.total[cross]
-    per_division = np.bincount(gi[cross], t, n_groups) + np.bincount(gj[cross], t, n_groups)
-    per_player = np.bincount(pairs.i[cross], t, n) + np.bincount(pairs.j[cross], t, n)
+    pairs, n_groups = fit.pairs, len(fit.group_names)
+    cross = (pairs.difference(fit.group) != 0) & (pairs.total > 0)
+    t = np.where(cross, pairs.total, 0.0)
+    per_player = pairs.per_player(t)
+    per_division = np.bincount(fit.group, per_player, n_groups)
+    if pairs.doubles is not None:
+        division, player = _doubles_cross_games(fit)
+        per_division, per_player = per_division + division, per_player + player
     return per_division, per_player
+
+
+def _doubles_cross_games(fit) -> tuple[np.ndarray, np.ndarray]:
+    """Doubles games whose two sides' divisions differ (a side of North and South against two of North links
+    them; North and South against North and South does not), per division present and per player in them."""
+    table, n_groups = fit.pairs.doubles, len(fit.group_names)
+    side_a, side_b = np.sort(fit.group[table.a], axis=1), np.sort(fit.group[table.b], axis=1)
+    cross = np.any(side_a != side_b, axis=1) & (table.total > 0)
+    t = np.where(cross, table.total, 0.0)
+    groups = np.column_stack([side_a, side_b])
+    present = np.zeros((len(t), n_groups), dtype=bool)
+    present[np.repeat(np.arange(len(t)), 4), groups.ravel()] = True
+    return present.T.astype(float) @ t, table.per_player(t, t)
 
 
 def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[DivisionLink]:
@@ -456,12 +286,13 @@ def _levels(fit) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _whole_pools(fit) -> np.ndarray:
-    """Per pool: is it the largest pool, or the pool that holds most of some division's players?
+    """Per pool: is it the largest pool, or the pool that holds most of a division cut off from the largest?
 
     Any other separate pool is an island (two newcomers who only met each other, a
     misspelt name): it is listed once, on its own line, and never suggested for.
     A division that plays nobody else is a pool too, but that is the division's
-    problem, which its line and the suggestions address.
+    problem, which its line and the suggestions address; a pool inside a division
+    that others do reach is not (that line is not flagged), so it is an island.
     """
     pool = fit.diagnosis.pool
     if not len(pool):
@@ -470,7 +301,7 @@ def _whole_pools(fit) -> np.ndarray:
     count = np.zeros((n_pools, n_groups), dtype=np.int64)
     np.add.at(count, (pool, fit.group), 1)
     whole = np.zeros(n_pools, dtype=bool)
-    whole[np.argmax(count, axis=0)] = True
+    whole[np.argmax(count, axis=0)[count[0] == 0]] = True
     whole[0] = True
     return whole
 
@@ -496,11 +327,15 @@ def _pools(fit, solver) -> list[Pool]:
     for col, k in enumerate(separate):
         idx = np.flatnonzero(pool == k)
         inner = (pool[pairs.i] == k) & (pool[pairs.j] == k)
+        games = float(pairs.total[inner].sum())
+        if pairs.doubles is not None:  # a pool's doubles games have all four players in it
+            games += float(pairs.doubles.total[np.all(pool[np.column_stack([pairs.doubles.a, pairs.doubles.b])] == k,
+                                                      axis=1)].sum())
         names = tuple(fit.names[x] for x in idx)
         out.append(Pool(
             players=names,
             divisions=tuple(sorted({fit.group_names[fit.group[x]] for x in idx})),
-            games=float(pairs.total[inner].sum()),
+            games=games,
             level_sd=float(np.sqrt(max(var[col], 0.0)) * ppl),
             what_to_do=pool_todo(names),
         ))
@@ -516,12 +351,19 @@ def surplus(fit, h: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
     ``expected = sum w p``; ``z = (won - expected) / sqrt(L_ii)``; ``held = (won - expected) / L_ii``
     in points, ``L_ii = sum_pairs n p (1 - p)`` (the likelihood's curvature; 0 for no games).
+    A doubles game counts in full in ``expected``; in the pull (the gradient's data part) and in
+    ``L_ii`` with the player's coefficient in ``x``: ``(won - expected) / 2`` and ``n p (1 - p) / 4``.
     """
-    pairs, n = fit.pairs, len(fit.names)
-    p = expit(fit.r[pairs.i] - fit.r[pairs.j])
-    expected = np.bincount(pairs.i, pairs.total * p, n) + np.bincount(pairs.j, pairs.total * (1.0 - p), n)
-    L = np.bincount(pairs.i, h, n) + np.bincount(pairs.j, h, n)
+    pairs = fit.pairs
+    expected = pairs.expected_wins(expit(pairs.difference(fit.r)))
+    m = len(pairs.i)
+    L = pairs.per_player(h[:m])
     pull = fit.wins - expected
+    if pairs.doubles is not None:
+        doubles_expected = expected_wins(pairs.doubles, fit.r)
+        expected = expected + doubles_expected
+        pull = pull - 0.5 * (pairs.doubles.wins_per_player() + doubles_expected)
+        L = L + pairs.doubles.per_player(0.25 * h[m:], 0.25 * h[m:])
     with np.errstate(invalid="ignore", divide="ignore"):
         z = np.where(L > 0, pull / np.sqrt(L), 0.0)
         held = np.where(L > 0, pull / L, 0.0) * points_per_logodds(fit.settings.scale)

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 from itertools import groupby
 from typing import TYPE_CHECKING, Iterable, Sequence
 
+from secretary.model.division_table import DivisionLevel, level_sentence
 from secretary.model.records import PlayerRating, Settings
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
@@ -79,6 +80,12 @@ class Notice:
     divisions: tuple[NoticeDivision, ...]
     removed: str  # a closing line about players no longer rated, or ""
     closing: tuple[str, ...] = CLOSING
+    levels: tuple[DivisionLevel, ...] = ()  # the divisions' levels, strongest first (only when they are fitted)
+    level_sentence: str = ""  # what "division level" means, in one plain sentence ("" without levels)
+
+    def levels_line(self) -> str:
+        """``Premier +152 ± 31; Division One +4 ± 28; ...`` ("" without fitted levels)."""
+        return "; ".join(f"{d.label} {d.level:+.0f} \u00b1 {d.sd:.0f}" for d in self.levels)
 
 
 def long_date(day: dt.date | None) -> str:
@@ -140,8 +147,14 @@ def _ranked_lines(ratings: Sequence[PlayerRating], changes: dict[str, "PlayerCha
     return tuple(lines)
 
 
-def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settings: Settings) -> Notice:
-    """The notice board's content: one block per division (strongest first), players ranked within it."""
+def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settings: Settings,
+                 levels: Sequence[DivisionLevel] = ()) -> Notice:
+    """The notice board's content: one block per division (strongest first), players ranked within it.
+
+    ``levels`` is the divisions table (``division_table.level_table``); the board shows the levels only
+    when they are fitted (a Division spread above 0), not when they are fixed at their starting levels.
+    """
+    fitted = tuple(d for d in levels if d.sd is not None)
     changes = {pc.name: pc for pc in breakdown.players}
     by_division: dict[str, list[PlayerRating]] = {}
     for p in ratings:
@@ -161,6 +174,8 @@ def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settin
         first_update=breakdown.first_update,
         divisions=divisions,
         removed=removed,
+        levels=fitted,
+        level_sentence=level_sentence(settings) if fitted else "",
     )
 
 

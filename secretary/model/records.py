@@ -15,7 +15,11 @@ from typing import Mapping
 
 @dataclass(frozen=True)
 class Result:
-    """One match between two players: the games (racks/frames) each side won."""
+    """One match between two sides: the games (racks/frames) each side won.
+
+    A singles match has one player a side; a doubles match (both partners given)
+    has two, and a side's strength is the mean of its players' strengths.
+    """
 
     date: dt.date
     player_a: str
@@ -26,6 +30,26 @@ class Result:
     event: str = ""
     void: bool = False  # kept in the workbook but not rated
     row: int = 0  # row in the Results sheet (0 = not from a sheet)
+    partner_a: str = ""  # side A's second player in a doubles match ("" = singles)
+    partner_b: str = ""  # side B's second player
+
+    @property
+    def is_doubles(self) -> bool:
+        return bool(self.partner_a and self.partner_b)
+
+    @property
+    def side_a(self) -> tuple[str, ...]:
+        """Side A's players (one in singles, two in doubles)."""
+        return (self.player_a, self.partner_a) if self.is_doubles else (self.player_a,)
+
+    @property
+    def side_b(self) -> tuple[str, ...]:
+        return (self.player_b, self.partner_b) if self.is_doubles else (self.player_b,)
+
+    @property
+    def players(self) -> tuple[str, ...]:
+        """Everyone in the match, side A first."""
+        return self.side_a + self.side_b
 
 
 @dataclass(frozen=True)
@@ -173,6 +197,9 @@ def _digest(*parts: object) -> str:
 @lru_cache(maxsize=1 << 18)  # the update and its breakdown both need every row's digests
 def identity(result: Result) -> str:
     """Which match a row is (date and the two players), whatever its score says."""
+    if result.is_doubles:  # the two sides, whatever the order of partners or sides
+        sides = sorted("+".join(sorted(name.casefold() for name in side)) for side in (result.side_a, result.side_b))
+        return _digest(result.date.isoformat(), *sides)
     a, b = sorted((result.player_a.casefold(), result.player_b.casefold()))
     return _digest(result.date.isoformat(), a, b)
 
@@ -180,6 +207,7 @@ def identity(result: Result) -> str:
 @lru_cache(maxsize=1 << 18)
 def fingerprint(result: Result) -> str:
     """Everything about a row that the rating uses; changes when the row is edited."""
+    partners = (result.partner_a.casefold(), result.partner_b.casefold()) if result.is_doubles else ()
     return _digest(
         result.date.isoformat(),
         result.player_a.casefold(),
@@ -188,7 +216,13 @@ def fingerprint(result: Result) -> str:
         result.games_b,
         result.division.casefold(),
         result.void,
+        *partners,
     )
+
+
+# How a player's home division was found: the Players sheet's Division, else the division of their most
+# recent result (a player who changed division is counted in the one they play in now), else none.
+HOME_RULES = ("Players sheet", "latest results", "no results")
 
 
 @dataclass(frozen=True)
@@ -204,6 +238,7 @@ class PlayerRating:
     last_played: dt.date | None
     change: float | None = None  # points since the previous update; None = new
     is_new: bool = False  # first published this update
+    division_from: str = ""  # how the division was found: one of HOME_RULES ("" when not known)
 
 
 @dataclass(frozen=True)

@@ -97,6 +97,9 @@ def _own(pc: "PlayerChange", points: int, context: Context) -> str:
 
 
 def _opponents(pc: "PlayerChange", points: int) -> str:
+    partners = getattr(pc, "top_partners", ())
+    if partners and (not pc.top_opponents or abs(partners[0][1]) >= abs(pc.top_opponents[0][1])):
+        return _partners(partners, points)
     who = "Players you met earlier" if not pc.played else "Players you have met"
     if pc.top_opponents:
         who += f" ({_names(pc.top_opponents)})"
@@ -104,6 +107,16 @@ def _opponents(pc: "PlayerChange", points: int) -> str:
     much = "a bit " if abs(points) < 10 else ""
     more = "more" if points > 0 else "less"
     return f"{who} did {how} elsewhere, so your results against them count for {much}{more}: {signed(points)}."
+
+
+def _partners(partners, points: int) -> str:
+    """A partner re-rated up takes a larger share of the side's wins: you move the other way."""
+    who = "Your doubles partner" if len(partners) == 1 else "Your doubles partners"
+    how = "worse" if points > 0 else "better"
+    much = "a bit " if abs(points) < 10 else ""
+    more = "more" if points > 0 else "less"
+    return (f"{who} {_names(partners)} did {how} elsewhere, so your doubles results together "
+            f"count for {much}{more} for you: {signed(points)}.")
 
 
 def _group(pc: "PlayerChange", points: int, context: Context) -> str:
@@ -160,6 +173,17 @@ def sentence(pc: "PlayerChange", context: Context = Context()) -> str:
         else:
             clauses.append(_corrections(shown[3], context))
     return " ".join(lead + clauses)
+
+
+def update_note(state_missing: bool, first: bool, settings_changed) -> str:
+    """The one sentence about the whole update ("" when nothing special)."""
+    if state_missing:
+        return "The record of the previous update was missing, so these are shown as first ratings with no breakdown."
+    if first:
+        return "First update: these are first ratings, so there is nothing to compare with yet."
+    if settings_changed:
+        return "The league's settings changed since the previous update; the effect is in the corrections column."
+    return ""
 
 
 IRREGULAR_PLURALS = {"match": "matches", "division": "divisions", "is": "are", "was": "were", "has": "have"}

@@ -28,7 +28,7 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.linalg import lapack
 
-from secretary.model.fit import LaplacianPattern, Levels, joint_hessian, pair_curvature
+from secretary.model.fit import Levels, hessian
 from secretary.model.pairs import Pairs
 
 EXACT_LIMIT = 1500  # the dense factor costs ~0.1 s here and grows as n^3
@@ -160,11 +160,11 @@ def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None, levels: Lev
     then the division levels' (each level counted in its own division's group
     for the approximation: the division moving with its level is the slow direction).
     """
-    H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
+    H = hessian(pairs, r, prior_sd, levels)
     if levels is None:
         return inverse_diagonal(H, groups)
     groups = levels.group if groups is None else np.asarray(groups, dtype=np.int64)
-    return inverse_diagonal(joint_hessian(H, levels, prior_sd), np.concatenate([groups, np.arange(len(levels.mean))]))
+    return inverse_diagonal(H, np.concatenate([groups, np.arange(len(levels.mean))]))
 
 
 DENSE_CONTRASTS = 1000  # players up to which a dense Cholesky factor is quicker than a sparse LU

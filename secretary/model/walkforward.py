@@ -3,7 +3,7 @@
 Each step is rated exactly as an update on that day would rate the league
 (``league.fit_matches``): ages from the newest earlier result, each player's
 home division from the earlier results (the Players sheet's division, else the
-division they played most in, ties to the division met first), and, with a
+division of their most recent result), and, with a
 Division spread above 0 and two or more divisions in the walk, a level per
 division fitted jointly with the players (``fit.Levels``).  A division
 nobody has played in yet keeps its starting level (its level is separate from
@@ -162,30 +162,29 @@ def training_pairs(walk: Walk, stop: int, half_life_days: float) -> Pairs:
 
 
 class Homes:
-    """Each seen player's home division after the first ``stop`` matches, counted incrementally.
+    """Each seen player's home division after the first ``stop`` matches, kept up to date step by step.
 
-    The rule of ``matches.home_divisions``: the Players-sheet division, else the
-    division played most in, ties to the one met first.
+    The rule of ``matches.home_divisions``: the Players-sheet division, else the division of the most
+    recent result (the latest date, on one date the one further down the sheet: later in the walk's
+    stable date order); a result without a division counts only for a player who has no other.
     """
 
     def __init__(self, walk: Walk):
         self.walk = walk
-        n, D = len(walk.names), len(walk.division_names)
-        self.count = np.zeros((n, D), np.int64)
-        self.first = np.full((n, D), 2 * len(walk.day), np.int64)  # position of the first meeting (side A first)
+        named = np.array([bool(d) for d in walk.division_names], dtype=bool)
+        m = len(walk.day)
+        self.key = named[walk.division].astype(np.int64) * max(m, 1) + np.arange(m)  # named first, then newest
+        self.latest = np.full(len(walk.names), -1, np.int64)
         self.done = 0
 
     def at(self, stop: int) -> np.ndarray:
         """Home division (index) of players ``0 .. walk.seen(stop) - 1``."""
         w, lo = self.walk, self.done
-        who = np.column_stack([w.a[lo:stop], w.b[lo:stop]]).ravel()
-        where = np.repeat(w.division[lo:stop], 2)
-        np.add.at(self.count, (who, where), 1)
-        np.minimum.at(self.first, (who, where), np.arange(2 * lo, 2 * stop))
+        np.maximum.at(self.latest, w.a[lo:stop], self.key[lo:stop])
+        np.maximum.at(self.latest, w.b[lo:stop], self.key[lo:stop])
         self.done = stop
         n = w.seen(stop)
-        key = self.count[:n] * (2 * len(w.day) + 1) - self.first[:n]  # most games, then the earliest meeting
-        home = np.argmax(key, axis=1)
+        home = w.division[self.latest[:n] % max(len(w.day), 1)]
         given = w.given_home[:n]
         return np.where(given >= 0, given, home)
 

@@ -3,7 +3,6 @@ from __future__ import annotations
 
 import os
 import secrets
-import unicodedata
 from functools import lru_cache
 from pathlib import Path
 from typing import Sequence
@@ -18,6 +17,7 @@ from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.platypus import KeepTogether, Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
 
 from secretary.model.records import Settings
+from secretary.report import scripts
 
 # Fonts with accents and most European letters (Linux, Windows, macOS); the first one found is used.
 _WINDOWS_FONTS = Path(os.environ.get("WINDIR", "C:/Windows")) / "Fonts"
@@ -54,28 +54,36 @@ def fonts() -> tuple[str, str]:
     return FALLBACK
 
 
-def _has_glyph(font: str, ch: str) -> bool:
-    face = getattr(pdfmetrics.getFont(font), "face", None)
-    if hasattr(face, "charToGlyph"):
-        return ord(ch) in face.charToGlyph
-    try:  # the standard fonts use the Windows Western encoding
-        ch.encode("cp1252")
-    except UnicodeEncodeError:
-        return False
-    return True
-
-
 def printable(text: str, font: str | None = None) -> str:
-    """The text with letters the font lacks replaced: by the letter without its accent, else '?'."""
+    """The text for one font: letters it lacks become the letter without its accent, else '?'
+    (see ``scripts``: letters of scripts that need shaping count as lacking)."""
     font = font or fonts()[0]
-    out = []
+    return "".join(ch if scripts.font_for(ch, font) == font else (scripts.plain_base(ch, font) or "?") for ch in text)
+
+
+def markup(text: str, font: str) -> str:
+    """The text as paragraph markup: letters the font lacks in a font of this machine that has them
+    (``<font name=...>``), else without their accent, else '?'; never read as markup itself."""
+    runs: list[tuple[str, list[str]]] = []
     for ch in text:
-        if ch in "\n\t" or _has_glyph(font, ch):
-            out.append(ch)
-            continue
-        base = "".join(c for c in unicodedata.normalize("NFKD", ch) if not unicodedata.combining(c))
-        out.append(base if base and all(_has_glyph(font, c) for c in base) else "?")
-    return "".join(out)
+        use = scripts.font_for(ch, font)
+        if use is None:
+            ch, use = scripts.plain_base(ch, font) or "?", font
+        if runs and runs[-1][0] == use:
+            runs[-1][1].append(ch)
+        else:
+            runs.append((use, [ch]))
+    return "".join(escape("".join(chars)) if use == font else f'<font name="{use}">{escape("".join(chars))}</font>'
+                   for use, chars in runs)
+
+
+def drawable(text: str, font: str) -> tuple[str, str]:
+    """Text and font for a one-font string on a drawing: the first other font the text needs, when it
+    needs one, with any letter that font lacks as '?'."""
+    other = next((f for f in (scripts.font_for(ch, font) for ch in text) if f not in (None, font)), None)
+    if other is None:
+        return printable(text, font), font
+    return "".join(ch if scripts.has_glyph(other, ch) and not scripts.needs_shaping(ch) else "?" for ch in text), other
 
 
 def page_size(settings: Settings) -> tuple[float, float]:
@@ -113,7 +121,7 @@ def styles() -> dict[str, ParagraphStyle]:
 def para(text: str, style: str = "body") -> Paragraph:
     """A paragraph of plain text (never read as markup)."""
     st = styles()[style]
-    return Paragraph(escape(printable(text, st.fontName)), st)
+    return Paragraph(markup(text, st.fontName), st)
 
 
 def rich(parts: Sequence[tuple[str, bool]], style: str = "body") -> Paragraph:
@@ -122,7 +130,7 @@ def rich(parts: Sequence[tuple[str, bool]], style: str = "body") -> Paragraph:
     bold = fonts()[1]
     pieces = []
     for text, strong in parts:
-        shown = escape(printable(text, bold if strong else st.fontName))
+        shown = markup(text, bold if strong else st.fontName)
         pieces.append(f'<font name="{bold}">{shown}</font>' if strong else shown)
     return Paragraph("".join(pieces), st)
 

@@ -36,6 +36,7 @@ LABEL_WIDTH = 0.24  # of the chart width, for the names
 LEGEND_HEIGHT = 26
 MIN_SPAN = 40  # points across the chart at the least, so that small changes look small
 WALL_MOVERS = 3  # per division on the wall page, fewer when the page is full
+LEVELS_HEADING = "Division levels"
 TABLE_START = 90  # points: a table's header and first rows, kept with the heading above them
 
 
@@ -77,8 +78,8 @@ def parts_chart(lines: Sequence[NoticeLine], width: float) -> Drawing:
     for k, line in enumerate(lines):
         y = top - (k + 1) * ROW_HEIGHT + 3
         bar_h = ROW_HEIGHT - 5
-        d.add(String(label_w - 4, y + 2, layout.printable(_short(line.name), regular), fontName=regular,
-                     fontSize=8, textAnchor="end", fillColor=layout.INK))
+        label, font = layout.drawable(_short(line.name), regular)
+        d.add(String(label_w - 4, y + 2, label, fontName=font, fontSize=8, textAnchor="end", fillColor=layout.INK))
         right = left = zero
         for value, colour in zip(line.parts, PART_COLOURS):
             if value == 0:
@@ -147,13 +148,6 @@ def _mover(line: NoticeLine) -> str:
     return f"{line.name}  {change_text(line)}  (now {line.rating:.0f})"
 
 
-def _levels(watch) -> str:
-    """The divisions' levels against the rest of the league, in points, strongest first ("" without them)."""
-    divisions = sorted((d for d in getattr(watch, "divisions", ()) if d.division),
-                       key=lambda d: -d.relative_level)
-    return "; ".join(f"{d.division} {d.relative_level:+.0f}" for d in divisions)
-
-
 def wall_page(notice: Notice, watch, width: float, height: float) -> list:
     """Page one, for the wall: large type readable at a metre, the biggest movers of each division, the
     divisions' levels and how ratings work; as many movers per division as fit on the one page."""
@@ -166,10 +160,9 @@ def wall_page(notice: Notice, watch, width: float, height: float) -> list:
                 if movers:
                     story.append(layout.para(block.division, "wallnote"))
                     story += [layout.para(f"\u2022 {_mover(line)}", "wall") for line in movers]
-        levels = _levels(watch)
-        if levels:
-            story += [layout.para("Division levels (points above or below the league as a whole)", "wallhead"),
-                      layout.para(levels, "wall")]
+        if notice.levels:
+            story += [layout.para(LEVELS_HEADING, "wallhead"), layout.para(notice.levels_line(), "wall"),
+                      layout.para(notice.level_sentence, "wallnote")]
         story += [layout.para("How ratings work", "wallhead"), *(layout.para(t, "wallnote") for t in HOW_IT_WORKS),
                   layout.para("The full list, with every player's change and why, follows on the next pages.",
                               "wallnote")]
@@ -179,17 +172,19 @@ def wall_page(notice: Notice, watch, width: float, height: float) -> list:
 
 
 def write_notice_pdf(path: str | Path, breakdown: Breakdown, ratings: Sequence[PlayerRating],
-                     settings: Settings, watch=None) -> Path:
+                     settings: Settings, watch=None, levels=()) -> Path:
     """Write the notice board as a PDF (A4 or Letter per the settings); returns the path.
 
-    Two parts: one page for the wall (``wall_page``), then the full list, division by division."""
-    notice = build_notice(breakdown, ratings, settings)
+    Two parts: one page for the wall (``wall_page``), then the full list, division by division.
+    ``levels`` is the divisions table (``division_table.level_table``)."""
+    notice = build_notice(breakdown, ratings, settings, levels)
     width = layout.frame_width(settings)
     story = wall_page(notice, watch, width, layout.frame_height(settings))
     story += layout.title_block(f"{notice.title}: the full list", notice.dates)
     if notice.note:
         story.append(layout.para(notice.note))
-    story += [layout.boxed("How ratings work here", (*HOW_IT_WORKS, *notice.closing), width), Spacer(1, 4)]
+    explained = (*HOW_IT_WORKS, *((notice.level_sentence,) if notice.level_sentence else ()), *notice.closing)
+    story += [layout.boxed("How ratings work here", explained, width), Spacer(1, 4)]
     for k, block in enumerate(notice.divisions):
         story += _division(block, notice, width, first=k == 0)
     watching = watch_lines(watch) if watch is not None else []

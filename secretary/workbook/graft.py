@@ -83,6 +83,7 @@ def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10,
 
 def _check_graft(path: Path, outputs_wb: Workbook, temp: Path) -> None:
     """Read the new file back: the secretary's sheets all there, the tool's sheets cell for cell."""
+    save.check_opens_again(temp, path)
     try:
         theirs = _secretarys_sheets(path)
         copy = load_tool_sheets(temp)

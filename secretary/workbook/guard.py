@@ -1,15 +1,32 @@
 """Checks on the file itself, made before the spreadsheet library opens it."""
 from __future__ import annotations
 
+import posixpath
 import zipfile
+from dataclasses import dataclass
 from pathlib import Path
+
+from lxml import etree
 
 from secretary.errors import FileRefused
 
 SUFFIXES = (".xlsx", ".xlsm")
-MAX_UNCOMPRESSED = 500 * 1024 * 1024  # bytes: far beyond any league's workbook
-MAX_RATIO = 200  # uncompressed / compressed size of the whole file
-_RATIO_FLOOR = 50 * 1024 * 1024  # small files may compress as well as they like
+MB = 1024 * 1024
+
+
+@dataclass(frozen=True)
+class Limits:
+    """How large a workbook may unpack to.  The tool's own sheets (its hidden record of the last
+    update, Ratings, Rating history ...) are counted apart from the secretary's parts, each against
+    its own limit, so what the tool writes never pushes a workbook it accepted over a limit."""
+
+    unpacked: int = 500 * MB  # the secretary's parts: far beyond any league's workbook
+    tool_unpacked: int = 500 * MB  # the tool's own sheets: far beyond what it writes for 1,048,576 results
+    ratio: float = 200  # uncompressed / compressed size, of each of the two
+    ratio_floor: int = 50 * MB  # below this, parts may compress as well as they like
+
+
+LIMITS = Limits()
 _OLE_SIGNATURE = b"\xd0\xcf\x11\xe0"
 _ZIP_SIGNATURE = b"PK\x03\x04"
 _SAVE_AS = "save it as an Excel workbook (.xlsx) and try again"
@@ -56,13 +73,54 @@ def _check_zip(path: Path) -> None:
     if "[Content_Types].xml" not in names or "xl/workbook.xml" not in names:
         raise FileRefused(f"{path.name} is not an Excel workbook inside: {_SAVE_AS}.")
     _refuse_strict(path)
+    limits = LIMITS
+    if _too_large(members, min(limits.unpacked, limits.tool_unpacked), limits):  # else no need to tell them apart
+        tool = _tool_parts(path, members)
+        _refuse_if_too_large(path, [m for m in members if m.filename not in tool], limits.unpacked, limits, "")
+        _refuse_if_too_large(path, [m for m in members if m.filename in tool], limits.tool_unpacked, limits,
+                             "the tool's own sheets of ")
+
+
+def _too_large(members, limit: int, limits: Limits) -> bool:
     unpacked = sum(m.file_size for m in members)
     packed = sum(m.compress_size for m in members) or 1
-    if unpacked > MAX_UNCOMPRESSED or (unpacked > _RATIO_FLOOR and unpacked / packed > MAX_RATIO):
+    return unpacked > limit or (unpacked > limits.ratio_floor and unpacked / packed > limits.ratio)
+
+
+def _refuse_if_too_large(path: Path, members, limit: int, limits: Limits, whose: str) -> None:
+    if _too_large(members, limit, limits):
+        unpacked = sum(m.file_size for m in members)
+        packed = sum(m.compress_size for m in members) or 1
         raise FileRefused(
-            f"{path.name} would unpack from {packed / 2**20:.1f} MB to {unpacked / 2**20:.0f} MB, "
+            f"{whose}{path.name} would unpack from {packed / MB:.1f} MB to {unpacked / MB:.0f} MB, "
             "which no league workbook does; it is refused to protect this computer. "
             "Check where the file came from.")
+
+
+_PARSER = etree.XMLParser(resolve_entities=False, no_network=True, huge_tree=True)
+_SMALL_PART = 16 * MB  # workbook.xml and its rels are read only when no larger than this
+_REL_ID = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}id"
+
+
+def _tool_parts(path: Path, members) -> set[str]:
+    """The package parts of the tool's own sheets (found by the tool's markers), or none when the
+    workbook's own description of its sheets is missing, damaged or itself too large to read."""
+    from secretary.workbook import toolsheets
+
+    sizes = {m.filename: m.file_size for m in members}
+    rels = "xl/_rels/workbook.xml.rels"
+    if sizes.get("xl/workbook.xml", _SMALL_PART + 1) > _SMALL_PART or sizes.get(rels, _SMALL_PART + 1) > _SMALL_PART:
+        return set()
+    try:
+        with zipfile.ZipFile(path) as archive:
+            root = etree.fromstring(archive.read("xl/workbook.xml"), _PARSER)
+            links = etree.fromstring(archive.read(rels), _PARSER)
+    except (etree.XMLSyntaxError, KeyError, zipfile.BadZipFile, OSError, ValueError):
+        return set()
+    tool = set(toolsheets.of_root(root).values())
+    ids = {el.get(_REL_ID) for el in root.iter(f"{toolsheets._MAIN}sheet") if el.get("name") in tool}
+    targets = {r.get("Target") or "" for r in links if r.get("Id") in ids}
+    return {t.lstrip("/") if t.startswith("/") else posixpath.normpath(posixpath.join("xl", t)) for t in targets}
 
 
 _STRICT_NAMESPACE = b"http://purl.oclc.org/ooxml/spreadsheetml/main"

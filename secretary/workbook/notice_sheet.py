@@ -21,6 +21,7 @@ NOTICE_HEADERS = ("Rank", "Player", "Rating", "±", "Change", "Why it changed")
 WIDTHS = (6, 26, 8, 6, 8, 70)  # characters
 SD_SHOWN = '"±"0'
 NEW = "new"
+LEVELS_LEAD = "Division levels:"
 HEADER_ROWS = 3  # title, dates, column headers: repeated on every printed page
 LINE_HEIGHT = 15.0  # points per wrapped line of 11-point text
 PAPER = {"A4": Worksheet.PAPERSIZE_A4, "Letter": Worksheet.PAPERSIZE_LETTER}
@@ -37,9 +38,10 @@ TOP = Alignment(vertical="top")
 CENTRE = Alignment(horizontal="center", vertical="top")
 
 
-def write_notice(wb: Workbook, breakdown: Breakdown, ratings: Sequence[PlayerRating], settings: Settings) -> None:
-    """Rewrite the `Notice board` sheet: title and dates, one block per division, closing lines."""
-    notice = build_notice(breakdown, ratings, settings)
+def write_notice(wb: Workbook, breakdown: Breakdown, ratings: Sequence[PlayerRating], settings: Settings,
+                 levels=()) -> None:
+    """Rewrite the `Notice board` sheet: title and dates, the division levels, one block per division, closing lines."""
+    notice = build_notice(breakdown, ratings, settings, levels)
     ws = replace_sheet(wb, NOTICE_SHEET)
     last_column = len(NOTICE_HEADERS)
     put(ws.cell(1, 1), notice.title)
@@ -52,6 +54,9 @@ def write_notice(wb: Workbook, breakdown: Breakdown, ratings: Sequence[PlayerRat
     row = HEADER_ROWS + 1
     if notice.note:
         row = _paragraph(ws, row, notice.note, SMALL) + 1
+    if notice.levels:
+        row = _paragraph(ws, row, f"{LEVELS_LEAD} {notice.levels_line()}", BOLD)
+        row = _paragraph(ws, row, notice.level_sentence, SMALL) + 1
     for k, block in enumerate(notice.divisions):
         if k:
             # A break after the previous block's last row: every division starts a new page.

@@ -13,16 +13,19 @@ import textwrap
 from openpyxl.styles import Alignment
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from secretary.model.records import Settings
 from secretary.workbook import schema
 from secretary.workbook.style import header_row, tool_sheet
+from secretary.workbook.watch_sheet import HEADING as WATCH_HEADING
 
 PAPER = {"A4": Worksheet.PAPERSIZE_A4, "Letter": Worksheet.PAPERSIZE_LETTER}
 LINE_POINTS = 15.0  # height of one line of 11-point text
 FOOTER = "&A \u2013 page &P of &N"  # the sheet's name and the page: a loose page finds its sheet again
 WRAP = Alignment(wrap_text=True, vertical="top")
+TOP = Alignment(vertical="top")  # a number beside a wrapped text prints on its first line, not its last
 WATCH_FIRST, WATCH_DATA, WATCH_TODO = 20, 10, 40  # characters: the Watch list's names, numbers, what to do
 
 # Per table sheet: landscape?, and the text columns to wrap at a width (characters) that fits a page.
@@ -34,6 +37,10 @@ TABLE_SHEETS = {
     schema.HISTORY_SHEET: (False, {}),  # landscape once it has more than HISTORY_PORTRAIT update columns
 }
 HISTORY_PORTRAIT = 8
+# Page sizes in points (ISO 216 A4; US Letter) and the margins page_setup sets, for estimating page breaks.
+PAGE_POINTS = {"A4": (595.3, 841.9), "Letter": (612.0, 792.0)}
+SIDE_MARGINS, END_MARGINS = 2 * 0.4 * 72, 2 * 0.6 * 72
+FOOTER_ROOM = 0.85  # of the height between the margins: the footer and a safety margin for the estimate
 
 
 def page_setup(ws: Worksheet, paper: str, landscape: bool, title_rows: int = 1) -> None:
@@ -79,6 +86,18 @@ def set_up_table(ws: Worksheet, paper: str, landscape: bool, wrapped: dict[str, 
             wrap_column(ws, column, wrapped[header])
     for cell in ws[1]:
         cell.alignment = WRAP
+    align_tall_rows(ws)
+
+
+def align_tall_rows(ws: Worksheet, first_row: int = 2) -> None:
+    """In every row taller than one line, the cells that do not wrap sit at the top beside the wrapped ones."""
+    for row in range(first_row, ws.max_row + 1):
+        height = ws.row_dimensions[row].height
+        if height is None or height <= LINE_POINTS:
+            continue
+        for cell in ws[row]:
+            if cell.value is not None and not cell.alignment.wrap_text:
+                cell.alignment = TOP
 
 
 def set_up_watch(ws: Worksheet, paper: str) -> None:
@@ -101,6 +120,39 @@ def set_up_watch(ws: Worksheet, paper: str) -> None:
             cell.alignment = WRAP
             lines = max(lines, lines_needed(cell.value, ws.column_dimensions[get_column_letter(cell.column)].width))
         ws.row_dimensions[row[0].row].height = lines * LINE_POINTS
+    align_tall_rows(ws, first_row=1)
+
+
+def page_rows_points(ws: Worksheet, paper: str, landscape: bool) -> float:
+    """About how many points of rows one printed page holds, once the sheet is shrunk to one page wide."""
+    short, long = PAGE_POINTS.get(paper, PAGE_POINTS["A4"])
+    width, height = (long, short) if landscape else (short, long)
+    # A column of w characters is about 7 w + 5 pixels of the default font wide, at 0.75 points a pixel.
+    sheet = sum(((ws.column_dimensions[get_column_letter(c)].width or 8.43) * 7 + 5) * 0.75
+                for c in range(1, ws.max_column + 1))
+    scale = min(1.0, (width - SIDE_MARGINS) / sheet)
+    return (height - END_MARGINS) * FOOTER_ROOM / scale
+
+
+def keep_sections_together(ws: Worksheet, starts: list[int], page: float) -> list[int]:
+    """Page breaks before the sections (headed at the rows ``starts``) that would otherwise run over a page
+    end and fit on a page of their own, so that their column headings print above their rows; returns them."""
+    def tall(r: int) -> float:
+        return ws.row_dimensions[r].height or LINE_POINTS
+
+    ends = [*starts[1:], ws.max_row + 1]
+    used, breaks = 0.0, []
+    for row in range(1, ws.max_row + 1):
+        if row in starts and used:
+            section = sum(tall(r) for r in range(row, ends[starts.index(row)]))
+            if used + section > page >= section:
+                ws.row_breaks.append(Break(id=row - 1))
+                breaks.append(row)
+                used = 0.0
+        used += tall(row)
+        if used > page:  # the program's own page break, about here
+            used = tall(row)
+    return breaks
 
 
 def set_up_printing(wb: Workbook, settings: Settings) -> None:
@@ -113,3 +165,6 @@ def set_up_printing(wb: Workbook, settings: Settings) -> None:
     watch = tool_sheet(wb, schema.WATCH_SHEET)
     if watch is not None:
         set_up_watch(watch, settings.paper)
+        starts = [r for r in range(1, watch.max_row + 1) if watch.cell(r, 1).font.sz == WATCH_HEADING.sz
+                  and watch.cell(r, 1).font.b and r > 1]
+        keep_sections_together(watch, starts, page_rows_points(watch, settings.paper, landscape=True))

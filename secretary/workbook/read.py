@@ -313,6 +313,10 @@ def _read_players(sheet: _Sheet | None, reader: _Reader) -> list[Player]:
                                "Write the name, or delete the row.")
             reader.note_blank(sheet, row, "player", index)
             continue
+        if len(player) > MAX_NAME_LENGTH:  # as on the Results sheet, where such a name is refused too
+            reader.add("error", name, row, sheet.header("player"), player, _too_long(player),
+                       "Write the player's name alone in the cell.")
+            continue
         starting = None
         raw = values.get("starting")
         if _blank(raw):
@@ -324,8 +328,20 @@ def _read_players(sheet: _Sheet | None, reader: _Reader) -> list[Player]:
                 reader.add("error", name, row, sheet.header("starting"), raw, "the starting rating is not a number",
                            "Write a number in points (like 1650), or leave it blank.")
         aliases = tuple(a for a in (clean(s) for s in str(values.get("aliases") or "").split(schema.ALIAS_SEPARATOR)) if a)
-        players.append(Player(player, clean(values.get("division")), starting, aliases, row))
+        for alias in (a for a in aliases if len(a) > MAX_NAME_LENGTH):
+            reader.add("error", name, row, sheet.header("aliases"), alias, _too_long(alias),
+                       f"Write only the player's other names, separated by '{schema.ALIAS_SEPARATOR}'.")
+        division = clean(values.get("division"))
+        if len(division) > MAX_NAME_LENGTH:
+            reader.add("error", name, row, sheet.header("division"), division, _too_long(division, "a division's"),
+                       "Write the division's name alone in the cell.")
+            division = ""
+        players.append(Player(player, division, starting, tuple(a for a in aliases if len(a) <= MAX_NAME_LENGTH), row))
     return players
+
+
+def _too_long(name: str, whose: str = "a player's") -> str:
+    return f"this name is {len(name):,} characters long; {whose} name has at most {MAX_NAME_LENGTH}"
 
 
 # ---------------------------------------------------------------- Divisions
@@ -386,10 +402,10 @@ def _link_divisions(divisions: list[Division], results, players, sheet: _Sheet |
         if spelling is None:
             index = index or CloseIndex(sorted(set(known.values())))
             close = index.matches(d.name)
-            hint = f"; close spellings: {', '.join(close)}" if close else ""
+            hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
             listed = sorted(set(known.values()), key=str.casefold)
             reader.add("error", sheet.spec.name, d.row, sheet.header("division"), d.name,
-                       f"no result in Results and no player in Players has the division '{d.name}'{hint}",
+                       f"no result in Results and no player in Players has the division '{shown(d.name)}'{hint}",
                        "Write the division as the Results sheet's Division column does ("
                        f"{', '.join(listed[:DIVISIONS_LISTED])}{', ...' if len(listed) > DIVISIONS_LISTED else ''}),"
                        " or delete the row.")
@@ -450,6 +466,8 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
     if not division:
         fault("division", "", "the division is blank",
               "Write the division (or the event, like 'Open night') where the match was played.", blank=True)
+    elif len(division) > MAX_NAME_LENGTH:
+        fault("division", division, _too_long(division, "a division's"), "Write the division's name alone in the cell.")
     players = []
     for key in ("player_a", "player_b"):
         spelling = str(values[key]).strip() if values[key] is not None else ""
@@ -457,8 +475,7 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
         if not spelling:
             fault(key, "", "the player's name is blank", "Write the player's name.", blank=True)
         elif len(spelling) > MAX_NAME_LENGTH:
-            fault(key, spelling, f"this name is {len(spelling):,} characters long; a player's name has at most "
-                  f"{MAX_NAME_LENGTH}", "Write the player's name alone in the cell.")
+            fault(key, spelling, _too_long(spelling), "Write the player's name alone in the cell.")
     if players[0] and players[1] and name_key(players[0]) == name_key(players[1]):
         fault("player_b", values["player_b"], "a player cannot play against themself",
               "Check the two names.")
@@ -647,9 +664,9 @@ def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _
                            f"Write '{slip[0]}' if it is that player, or add '{display}' to Players.")
                 continue
             close = index.matches(display)
-            hint = f"; close spellings: {', '.join(close)}" if close else ""
+            hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
             reader.add("warning", schema.RESULTS.name, mention.row, mention.column, mention.spelling,
-                       f"'{display}' is not in Players{hint}",
+                       f"'{shown(display)}' is not in Players{hint}",
                        "Add the player to the Players sheet, or correct the spelling (the player is rated anyway).")
     sheet = sheets[schema.PLAYERS.name]
     if "division" not in sheet.columns or not divisions:
@@ -660,7 +677,7 @@ def _check_players_sheet(players, known, first_row, divisions, sheets, reader: _
         if key and key not in divisions and key not in warned:
             warned.add(key)
             reader.add("warning", schema.PLAYERS.name, player.row, sheet.header("division"), player.division,
-                       f"no result in the Results sheet has the division '{player.division}'",
+                       f"no result in the Results sheet has the division '{shown(player.division)}'",
                        "Check the spelling against the Results sheet's Division column.")
 
 
@@ -687,15 +704,17 @@ def _link_fixtures(fixture_rows, known, display, sheet: _Sheet | None, reader: _
         for key in ("player_a", "player_b"):
             spelling = clean(values[key])
             name = everyone.get(name_key(spelling))
-            if name is None:
+            if name is None and len(spelling) > MAX_NAME_LENGTH:
+                reader.add("error", schema.FIXTURES.name, row, sheet.header(key), spelling, _too_long(spelling),
+                           "Write the player's name alone in the cell.")
+            elif name is None:
                 index = index or CloseIndex(set(everyone.values()))
                 close = index.matches(spelling)
-                hint = f"; close spellings: {', '.join(close)}" if close else ""
+                hint = f"; close spellings: {', '.join(map(shown, close))}" if close else ""
                 reader.add("warning", schema.FIXTURES.name, row, sheet.header(key), spelling,
-                           f"'{spelling}' has no results and is not in Players{hint}",
+                           f"'{shown(spelling)}' has no results and is not in Players{hint}",
                            "Check the spelling; a new player's chances are only a guess.")
-                name = spelling
-            names.append(name)
+            names.append(spelling if name is None else name)
         fixtures.append(Fixture(values["date"], names[0], names[1], values["race_a"], values["race_b"], row))
     return tuple(fixtures)
 

@@ -341,8 +341,19 @@ def _remove_stale_temps(target: Path) -> None:
 # ------------------------------------------------------------------ read-back check
 
 
+def check_opens_again(temp: Path, target: Path) -> None:
+    """The new version must pass the checks every command makes before it opens a workbook (sizes above
+    all), so that no save ever leaves a workbook that the next command refuses."""
+    try:
+        check_readable(temp)
+    except FileRefused as exc:
+        why = str(exc).replace(temp.name, target.name)
+        raise _check_failed(target, f"the next command would refuse it: {why}") from None
+
+
 def _check_copy(wb: Workbook, temp: Path, target: Path) -> None:
     """Read the new file back: same sheets, the tool's sheets cell for cell, the others' sizes."""
+    check_opens_again(temp, target)
     try:
         copy = load_workbook(temp, read_only=True, keep_links=False)
     except Exception as exc:  # any failure to read means the copy is not fit to replace the original

@@ -208,7 +208,7 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
                 "level is pinned down by games against other divisions.", 0, 1),
     SettingSpec("held_z", "Held back from", "number",
                 "How surprising (in standard deviations) a player's results must be before "
-                "the watch list says the starting assumption is holding them back (a z-score).", 0.1, 10,
+                "the watch list says the starting assumption is holding them back.", 0.1, 10,
                 aliases=("Held by the prior at z",)),  # its earlier name: workbooks that use it still read
     SettingSpec("linking_matches", "Linking matches to suggest", "whole",
                 "How many matches between divisions the watch list suggests.", 0, 50),

@@ -19,16 +19,18 @@ SIGNED_FORMAT = "+0;-0;0"
 YES = "yes"
 NOTHING = "Nothing to report."
 TODO = "What to do"
+LINKED = "How well linked"  # the linked share, in plain words (the window's heading too)
+DIVISION_LINKED = "How well their division is linked"
 
 POOL_HEADERS = ("Players", "Divisions", "Games among themselves", "± of their level", TODO)
 DIVISION_HEADERS = (
-    "Division", "Players", "Average rating", "Against the rest", "± of its level", "Linked share",
+    "Division", "Players", "Average rating", "Against the rest", "± of its level", LINKED,
     "Games against other divisions", "Recent games against other divisions", "Players who link it",
     "Needs attention", TODO,
 )
 HELD_HEADERS = (
     "Player", "Division", "Rating", "Games", "Won", "Expected at their rating", "Points held back",
-    "How surprising (z)", "Division's linked share", "Needs attention", TODO,
+    "How surprising (z)", DIVISION_LINKED, "Needs attention", TODO,
 )
 MATCH_HEADERS = (
     "Player A", "Division A", "Rating A", "Player B", "Division B", "Rating B", "Race to",
@@ -37,10 +39,10 @@ MATCH_HEADERS = (
 FORMATS = {
     "Games among themselves": GAMES_FORMAT, "± of their level": SD_FORMAT,
     "Average rating": RATING_FORMAT, "Against the rest": SIGNED_FORMAT, "± of its level": SD_FORMAT,
-    "Linked share": SHARE_FORMAT, "Games against other divisions": GAMES_FORMAT,
+    LINKED: SHARE_FORMAT, "Games against other divisions": GAMES_FORMAT,
     "Rating": RATING_FORMAT, "Games": GAMES_FORMAT, "Won": GAMES_FORMAT,
     "Expected at their rating": GAMES_FORMAT, "Points held back": RATING_FORMAT,
-    "How surprising (z)": Z_FORMAT, "Division's linked share": SHARE_FORMAT,
+    "How surprising (z)": Z_FORMAT, DIVISION_LINKED: SHARE_FORMAT,
     "Rating A": RATING_FORMAT, "Rating B": RATING_FORMAT, "A's chance per game": SHARE_FORMAT,
     "Expected games": GAMES_FORMAT, "± now": SD_FORMAT, "± after": SD_FORMAT,
 }
@@ -115,8 +117,8 @@ def write_watch(wb: Workbook, watch: WatchList) -> None:
               p.what_to_do) for p in watch.pools], widths)
     row = _section(
         ws, row, "Divisions",
-        "Linked share: how much of a division's level is pinned down by games against other "
-        "divisions (0% = only the starting assumption, 100% = fully tied in).", DIVISION_HEADERS,
+        f"{LINKED}: how much of a division's level is pinned down by games against other "
+        "divisions (0% = only the starting assumption, 100% = fully tied in; the linked share).", DIVISION_HEADERS,
         [(division_label(d.division), d.players, d.level, d.relative_level, d.level_sd, d.linked_share,
           d.cross_games, d.recent_cross_games, d.linking_players, YES if d.flagged else "",
           d.what_to_do) for d in watch.divisions], widths)

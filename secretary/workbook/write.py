@@ -5,11 +5,16 @@ import datetime as dt
 from typing import Sequence
 
 from openpyxl.chart import LineChart, Reference
+from openpyxl.utils import get_column_letter
 from openpyxl.chart.data_source import AxDataSource, StrRef
 from openpyxl.worksheet.pagebreak import Break
 from openpyxl.workbook.workbook import Workbook
 
-from secretary.model.records import PlayerRating, Problem, Settings, UpdateLog
+from openpyxl.styles import Alignment, Font
+
+from secretary.model.division_table import HOME_RULE, INFERRED, DivisionLevel, level_sentence
+from secretary.model.records import HOME_RULES, PlayerRating, Problem, Settings, UpdateLog
+from secretary.workbook.printing import LINE_POINTS, lines_needed
 from secretary.workbook.schema import (
     HISTORY_SHEET,
     LOG_SHEET,
@@ -25,6 +30,7 @@ from secretary.workbook.style import (
     SD_FORMAT,
     TIME_FORMAT,
     header_row,
+    put,
     remove_sheet,
     replace_sheet,
     tool_sheet,
@@ -40,6 +46,11 @@ PROBLEM_HEADERS = ("Kind", "Sheet", "Row", "Column", "Found", "Problem", "What t
 CHART_PLAYERS = 10
 NEW_NOTE = "new this update"
 FEW_GAMES_NOTE = "few games: rating still uncertain"
+LEVELS_TITLE = "Division levels"
+LEVEL_HEADERS = ("Division", "Division level", "±", "Games against other divisions", "Players", "Note")
+# Under Division, Rating, ±, Weighted games, Change and Note: Rank and Player stay blank under the players,
+# so that whoever reads the sheet's rows by their Player finds players only.
+LEVEL_COLUMNS = (3, 4, 5, 6, 7, 9)
 
 
 def ranked(ratings: Sequence[PlayerRating]) -> list[tuple[int, PlayerRating]]:
@@ -54,24 +65,60 @@ def ranked(ratings: Sequence[PlayerRating]) -> list[tuple[int, PlayerRating]]:
     return out
 
 
-def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Settings) -> None:
-    """Rewrite the Ratings sheet, best rating first."""
+def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Settings,
+                  levels: Sequence[DivisionLevel] = ()) -> None:
+    """Rewrite the Ratings sheet, best rating first; the divisions table under it when there are levels."""
     rows = []
     for rank, p in ranked(ratings):
         new = p.is_new or p.change is None
         notes = [NEW_NOTE] if new else []
         if p.games < settings.few_games:
             notes.append(FEW_GAMES_NOTE)
+        if p.division_from == HOME_RULES[1]:
+            notes.append(INFERRED)
         rows.append((
             rank, p.name, p.division, p.rating, p.sd, p.games,
             None if new else p.change, p.last_played, "; ".join(notes),
         ))
     ws = replace_sheet(wb, RATINGS_SHEET)
-    write_table(
+    count = write_table(
         ws, RATINGS_HEADERS, rows, freeze="C2",
         formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT,
                  "Change": CHANGE_FORMAT, "Last played": DATE_FORMAT},
     )
+    if levels:
+        _levels_table(ws, max(count, 1) + 3, levels, settings)
+
+
+def _levels_table(ws, row: int, levels: Sequence[DivisionLevel], settings: Settings) -> None:
+    """The divisions table from ``row`` down: a heading, what a division level is, the home rule, the rows.
+
+    Its columns sit under the players' (``LEVEL_COLUMNS``), its Note under theirs, which printing wraps."""
+    last = len(RATINGS_HEADERS)
+    put(ws.cell(row, LEVEL_COLUMNS[0]), LEVELS_TITLE)
+    ws.cell(row, LEVEL_COLUMNS[0]).font = Font(bold=True, size=13)
+    width = sum(ws.column_dimensions[get_column_letter(c)].width or 10 for c in range(LEVEL_COLUMNS[0], last + 1))
+    for k, text in enumerate((level_sentence(settings), HOME_RULE), start=row + 1):
+        ws.merge_cells(start_row=k, start_column=LEVEL_COLUMNS[0], end_row=k, end_column=last)
+        put(ws.cell(k, LEVEL_COLUMNS[0]), text)
+        ws.cell(k, LEVEL_COLUMNS[0]).alignment = Alignment(wrap_text=True, vertical="top")
+        ws.row_dimensions[k].height = LINE_POINTS * lines_needed(text, width)
+    row += 3
+    for col, header in zip(LEVEL_COLUMNS, LEVEL_HEADERS):
+        put(ws.cell(row, col), header)
+        ws.cell(row, col).font = Font(bold=True)
+        ws.cell(row, col).alignment = Alignment(wrap_text=True, vertical="top")
+    ws.row_dimensions[row].height = LINE_POINTS * 2  # "Games against other divisions" wraps
+    formats = (None, CHANGE_FORMAT, SD_FORMAT, GAMES_FORMAT, None, None)
+    for d in levels:
+        row += 1
+        for col, value, number_format in zip(LEVEL_COLUMNS, (d.label, d.level, d.sd, d.cross_games, d.players,
+                                                             d.note), formats):
+            if value is not None and value != "":
+                put(ws.cell(row, col), value, number_format)
+    letter = get_column_letter(LEVEL_COLUMNS[0])  # the names of divisions fit
+    longest = max(len(d.label) for d in levels) + 3
+    ws.column_dimensions[letter].width = max(ws.column_dimensions[letter].width or 0, min(longest, 40))
 
 
 def write_history(wb: Workbook, date: dt.date, ratings: Sequence[PlayerRating]) -> None:

@@ -1,6 +1,6 @@
 """`secretary tune` on a real season, with the thread limit the command line sets and without it.
 
-Run by hand (not part of the test command; needs ../shared/data/tennis):
+Run by hand (not part of the test command; needs the tennis set of docs/real-data.md):
 
     python tests/bench/bench_tune.py [--matches 13700] [--conditions idle busy] [--reference-timeout 900]
 

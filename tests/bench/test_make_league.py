@@ -50,7 +50,7 @@ def test_simulated_race_matches_the_textbook_value():
 
 
 def test_race_wins_follow_the_incomplete_beta_formula():
-    # model.md section 3 / checks.md section 4: P(A wins a race to 5) = I_p(5, 5).
+    # docs/model.md section 3 / docs/checks.md section 4: P(A wins a race to 5) = I_p(5, 5).
     g = ml.make_games(200_000, 200, seed=5)
     p = 1 / (1 + np.exp(g.strengths[g.idx_b] - g.strengths[g.idx_a]))
     expected = betainc(5, 5, p)

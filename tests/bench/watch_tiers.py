@@ -1,7 +1,7 @@
 """The watch list on the real tennis tiers, in one pool and with division levels.
 
 Run from the repository root: ``python tests/bench/watch_tiers.py``.  For the
-men's 2019 tiers (../shared/data/tennis; top G/M/A/F/D, second C, third S)
+men's 2019 tiers (docs/real-data.md; top G/M/A/F/D, second C, third S)
 fitted on the first eight months and on the whole season, prints each
 division's linked share and whether it is flagged, the held-back count, and
 where the suggested linking matches go, for Division spread 0 (one pool) and

@@ -13,6 +13,7 @@ from tkinter import ttk
 import pytest
 
 from secretary.gui import views
+from secretary.workbook import schema
 from tests.gui.conftest import LAPTOP_SCREENS
 from tests.gui.helpers import RecordingDialogs, screenshot, settle
 
@@ -42,11 +43,14 @@ def mapped_widgets(widget):
 
 
 def clipped(root) -> list[str]:
-    """Every shown label, button and check box narrower than its text needs."""
+    """Every shown label, button and check box narrower or lower than its text needs (a wrapped text asks for
+    its wrap length across and for all its lines down)."""
     root.update()
-    return [f"{w.winfo_class()} {w.cget('text')!r}: {w.winfo_width()} < {w.winfo_reqwidth()}"
+    return [f"{w.winfo_class()} {w.cget('text')!r}: {w.winfo_width()}x{w.winfo_height()} < "
+            f"{w.winfo_reqwidth()}x{w.winfo_reqheight()}"
             for w in mapped_widgets(root)
-            if isinstance(w, CHECKED) and w.winfo_width() + 1 < w.winfo_reqwidth()]
+            if isinstance(w, CHECKED) and (w.winfo_width() + 1 < w.winfo_reqwidth()
+                                           or w.winfo_height() + 1 < w.winfo_reqheight())]
 
 
 def tabs_fit(notebook: ttk.Notebook) -> bool:
@@ -86,6 +90,15 @@ def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo
             app.notebook.select(tab.frame)
             settle(app)
             problems += [f"{name}: {c}" for c in clipped(root)]
+            if tab is app.ratings:  # the chosen player's change: several lines in sight, the rest a scroll away
+                canvas = app.ratings.change_canvas
+                drawn = canvas.bbox("all")
+                region = [float(v) for v in str(canvas.cget("scrollregion")).split()] or [0.0] * 4
+                if not drawn or region[3] < drawn[3] or canvas.winfo_height() < 4 * app.ratings.line:
+                    problems.append(f"ratings: why it changed drawn to {drawn}, scrolls to {region}, "
+                                    f"{canvas.winfo_height()} pixels shown")
+            if tab is app.watch and not tabs_fit(app.watch.inner):  # Divisions, Held back, Suggested matches
+                problems.append("watch: a table's tab is off the tab row")
             screenshot(root, f"gui-{size}-{name}")
         assert not problems, "\n".join(problems)
         assert tabs_fit(app.notebook)
@@ -102,3 +115,56 @@ def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo
         if not app.closed:
             app.close()
     assert not [t for t in threading.enumerate() if t.name.startswith("secretary-")]
+
+
+LONG_FOLDER = "/home/a-secretary/Documents/League secretary demo/Harbourside and District Pool League/2026 spring"
+
+
+def on_screen(widget, screen) -> bool:
+    """The widget's whole box is on the screen, above the taskbar."""
+    widget.update()
+    return (widget.winfo_rootx() >= 0 and widget.winfo_rootx() + widget.winfo_width() <= screen[0]
+            and widget.winfo_rooty() + widget.winfo_height() <= screen[1] - TASKBAR)
+
+
+@pytest.mark.parametrize("screen", SCREENS)
+def test_long_messages_wrap_and_the_settings_dialog_fits(screen, display, demo_league, tmp_path, tk_errors):
+    """The texts a secretary must read in full: a problem's detail, a long status line, every Settings message."""
+    from secretary.gui.app import App
+
+    folder = tmp_path / "league"
+    shutil.copytree(demo_league, folder)
+    root = tk.Tk(screenName=f"{display}.{SCREENS.index(screen) + 1}")
+    app = App(root, dialogs=RecordingDialogs())
+    app.errors = tk_errors
+    try:
+        app.open_workbook(folder / "league.xlsx")
+        settle(app, 300)
+        app.notebook.select(app.problems.frame)
+        tree = app.problems.table.tree
+        tree.selection_set(tree.get_children()[0])  # the demo's one warning, shown in full under the table
+        settle(app)
+        assert app.problems.detail.cget("text") and app.problems.fix.cget("text")
+        app.say(f"No PDF viewer opened. The notice board is saved as league - notice board.pdf in {LONG_FOLDER}. "
+                f"The handicap card is beside it, and the backups are in {LONG_FOLDER}/backups.")
+        assert clipped(root) == [] and on_screen(app.status, screen) and on_screen(app.cancel_button, screen)
+        dialog = app.open_settings()
+        for spec, text in zip(schema.SETTINGS_TABLE, dialog.texts.values()):
+            if spec.kind != "choice":  # a wrong value in every box: every message shows at once
+                text.set("x" * 120 if spec.kind == "text" else "lots")
+        root.update()
+        shown = [m.cget("text") for m in dialog.messages.values() if m.cget("text")]
+        assert len(shown) == sum(1 for s in schema.SETTINGS_TABLE if s.kind != "choice")
+        assert dialog.summary.cget("text").startswith("To fix before saving:")
+        assert clipped(dialog.top) == []
+        # Nor cut off by the scrolled area that holds the settings (it is sized when the dialog opens).
+        view = dialog.canvas.winfo_rootx() + dialog.canvas.winfo_width()
+        assert [m.cget("text") for m in dialog.messages.values() if m.winfo_rootx() + m.winfo_width() > view] == []
+        assert on_screen(dialog.top, screen) and on_screen(dialog.save_button, screen)
+        screenshot(dialog.top, f"gui-{screen[0]}x{screen[1]}-settings-messages")
+        dialog.top.destroy()
+    finally:
+        app.worker.cancel.set()
+        app.worker.join(300)
+        if not app.closed:
+            app.close()

@@ -47,9 +47,15 @@ def test_demo_league_update_fills_every_tab(app, demo_copy):
     updated(app)
 
     # Ratings table == Ratings sheet written by the same update (rank, player, shown rating).
-    sheet = [(r[0], r[1], round(r[3])) for r in sheet_rows(demo_copy, "Ratings")]
+    # The players (a rank in column A); the divisions table under them has none.
+    sheet = [(r[0], r[1], round(r[3])) for r in sheet_rows(demo_copy, "Ratings") if isinstance(r[0], int)]
     tree = [(int(v[0]), v[1], int(v[2])) for v in app.ratings.table.shown_values()]
     assert tree == sheet and len(tree) == 63
+    # The divisions table == the one under the players on the sheet (division, level, ±).
+    levels = [(r[2], round(r[3]), round(r[4])) for r in sheet_rows(demo_copy, "Ratings")
+              if r[0] is None and isinstance(r[3], float)]
+    assert [(v[0], int(v[1]), int(v[2])) for v in app.ratings.levels.shown_values()] == levels
+    assert len(levels) == 4 and app.ratings.levels_frame.winfo_ismapped()
     # Fixtures and watch-list divisions: one table row per sheet row.
     assert len(app.fixtures.table.shown_values()) == len(sheet_rows(demo_copy, "Fixtures"))
     assert {v[0] for v in app.watch.tables[0].shown_values()} == set(app.updated.divisions)
@@ -118,6 +124,13 @@ def test_what_changed_after_the_new_week(app, demo_copy):
     texts = [app.changes.canvas.itemcget(i, "text") for i in app.changes.canvas.find_all()
              if app.changes.canvas.type(i) == "text"]
     assert not [t for t in texts if re.search(r"\b([Yy]ou|[Yy]our)\b", t)]
+    # The bars are in the printed board's part colours, under one axis of points.
+    from secretary.model.notice import PART_COLOURS
+
+    canvas = app.changes.canvas
+    fills = {canvas.itemcget(i, "fill").casefold() for i in canvas.find_all() if canvas.type(i) == "rectangle"}
+    assert fills == {c.casefold() for c in PART_COLOURS}
+    assert texts.count("Points") == 1  # the one axis at the top, shared by every card
     # A new filter starts at the top, so the biggest mover it keeps is in sight.
     app.changes.canvas.yview_moveto(0.6)
     app.changes.only_idle.set(True)
@@ -209,7 +222,7 @@ def test_every_button_heading_and_setting_has_a_tooltip(app, demo_copy):
     assert len(buttons) >= 9
     assert [str(b) for b in buttons if not tip_of(b)] == []
     trees = [w for w in everything if isinstance(w, ttk.Treeview)]
-    assert len(trees) == 6
+    assert len(trees) == 7  # the Ratings tab has the divisions table too
     for tree in trees:
         tips = tip_of(tree)
         assert all(tips.get(c) for c in tree["columns"]), str(tree)
@@ -267,6 +280,11 @@ def test_restore_and_demo_from_the_file_menu(app, user_home):
     assert app.path == demo and app.session.checked
     assert app.session.updated and app.updated.new_rows > 0 and app.changes.updated.changes  # What changed is filled
     assert str(demo.parent) in app.status.cget("text")  # the window says where it is
+    from secretary.pipeline import run_demo
+
+    first, second = run_demo(user_home.parent / "command-line demo")  # `secretary demo`: the same two updates
+    assert {p.name: round(p.rating, 6) for p in app.updated.ratings} == \
+        {p.name: round(p.rating, 6) for p in second.ratings}
     app.dialogs.answers["ask_yes_no"] = True
     app.dialogs.answers["choose"] = 0  # the newest version that differs from the workbook now
     app.restore_previous()

@@ -112,3 +112,71 @@ def test_a_huge_setting_value_is_cut_in_the_message(tmp_path, run):
     code, out = run("update", league)
     assert code == 1 and "Longest race" in out
     assert len(out) < 2000 and "(1,048,576 characters)" in out
+
+
+@pytest.mark.parametrize("sheet", ["Players", "Results", "Also known as"])
+def test_a_name_of_101_characters_is_refused_by_row_and_one_of_100_is_not(tmp_path, run, sheet):
+    at_limit, over = "Ada " + "C" * 96, "Ada " + "B" * 97
+    assert (len(at_limit), len(over)) == (100, 101)
+    for name, refused in ((at_limit, False), (over, True)):
+        players = [list(p) for p in PLAYERS]
+        rows = good_results()
+        if sheet == "Also known as":
+            players[0][3] = f"Ada F; {name}"
+        else:
+            players.append([name, "Premier", None, ""])
+            rows = rows + [[LATER, "Premier", name, "Dev Pike", 5, 2]]
+        if sheet == "Results":
+            players.pop()  # named in Results only
+        (tmp_path / str(len(name))).mkdir()
+        league = write_book(tmp_path / str(len(name)) / "league.xlsx", rows, players=players)
+        if not refused:
+            code, out = run("update", league)
+            assert code == 0, out
+            continue
+        row, column = {"Players": (6, "Player"), "Results": (6, "Player A"), "Also known as": (2, "Also known as")}[sheet]
+        where = "Results" if sheet == "Results" else "Players"
+        out = _refused(run, league, f"{where}, row {row}, column {column}: this name is 101 characters long; "
+                                    "a player's name has at most 100", "... (101 characters)")
+        assert over not in out  # cut in the message
+
+
+MEGA = "Q" * 2**20
+
+
+@pytest.mark.parametrize("where", ["Results Division", "Players Division", "Fixtures Player A", "Setting name",
+                                   "League name"])
+def test_a_megabyte_value_anywhere_is_cut_in_every_message(tmp_path, run, where):
+    rows, players, settings, fixtures = good_results(), [list(p) for p in PLAYERS], None, None
+    if where == "Results Division":
+        rows[0] = [rows[0][0], MEGA, *rows[0][2:]]
+    elif where == "Players Division":
+        players[0][1] = MEGA
+    elif where == "Fixtures Player A":
+        fixtures = [[LATER, MEGA, "Ada Finch", None, None]]
+    else:
+        settings = [[MEGA, "5"]] if where == "Setting name" else [["League name", MEGA]]
+    league = write_book(tmp_path / "league.xlsx", rows, players=players, settings=settings, fixtures=fixtures)
+    out = _refused(run, league, " characters)")  # shown as its start and its length
+    assert len(out) < 2000 and "Q" * 61 not in out, out[:3000]
+
+
+@pytest.mark.parametrize("score", [(7, 3), (9, 0)])
+def test_a_score_up_to_the_longest_race_passes(tmp_path, run, score):
+    league = write_book(tmp_path / "league.xlsx", good_results() + [[LATER, "Premier", "Ada Finch", "Dev Pike", *score]])
+    code, out = run("update", league)
+    assert code == 0, out
+
+
+@pytest.mark.parametrize("far_rows, refused", [(5, True), (6, False)])
+def test_up_to_five_results_far_after_all_others_are_refused(tmp_path, run, far_rows, refused):
+    old = [[D.replace(year=2024), *row[1:]] for row in good_results()]
+    far = [[D.replace(year=2025) + dt.timedelta(days=30 + k), "Premier", "Ada Finch", "Dev Pike", 5, 2]
+           for k in range(far_rows)]
+    league = write_book(tmp_path / "league.xlsx", old + far)
+    if refused:
+        out = _refused(run, league, "more than a year after every other result")
+        assert out.count("more than a year after every other result") == far_rows
+    else:  # six or more: a league that paused for a year, not a typing slip
+        code, out = run("update", league)
+        assert code == 0, out

@@ -1,4 +1,4 @@
-"""The exact four-part breakdown of every change (model.md, section 2)."""
+"""The exact four-part breakdown of every change (docs/model.md, section 2)."""
 import datetime as dt
 import random
 import re
@@ -8,9 +8,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings as hyp_settings, strategies as st
 
-from secretary.model.breakdown import best_response, displayed_parts, explain_changes, opponent_shares
+from secretary.model.breakdown import displayed_parts, explain_changes
 from secretary.model.league import fit_league
 from secretary.model.records import Player, PublishedState, Result, Settings, fingerprint, identity
+from secretary.model.response import best_response, opponent_shares
 from secretary.model.scale import game_chance, points_per_logodds
 
 JARGON = re.compile(r"\b(prior|map|hessian|log-?odds|bradley|terry|posterior|z-?score|logit|gradient)\b", re.I)
@@ -180,7 +181,7 @@ def test_beating_expectation_raises_own_part_and_quotes_the_games():
     pc = b.player(c)
     assert pc.own > 10 and largest_part(pc) == "own"
     # Expected games from the published ratings with the standard logistic formula
-    # E = 1 / (1 + 10 ** (-D / 400)) (checks.md section 3, USCF rating system description);
+    # E = 1 / (1 + 10 ** (-D / 400)) (docs/checks.md section 3, USCF rating system description);
     # same data and settings, so the pre-week strengths equal the published ratings.
     expected = sum(
         (res.games_a + res.games_b)
@@ -315,7 +316,7 @@ def test_opponent_shares_add_up_to_the_opponents_part():
     b = explain_changes(old + new, publish(old), Settings(), current=fit)
     r0 = b.before_r + b.corrections_r
     shifted = b.after_r - b.own_r - b.opponents_r - b.group_r + (b.after_r - r0).mean()  # one division
-    to_i, to_j = opponent_shares(fit.pairs, shifted, b.after_r, fit.prior_mean, fit.prior_sd)
+    to_i, to_j, _ = opponent_shares(fit.pairs, shifted, b.after_r, fit.prior_mean, fit.prior_sd)
     n = len(fit.names)
     total = np.bincount(fit.pairs.i, to_i, n) + np.bincount(fit.pairs.j, to_j, n)
     assert np.abs(b.opponents_r).max() > 0.01  # the check below is not empty
@@ -342,3 +343,153 @@ def test_real_results_week_by_week():
         assert sum(shown) == change == shown_after - shown_before
         assert not JARGON.search(pc.sentence), pc.sentence
     assert any(not pc.played and abs(pc.opponents) >= 1 for pc in b.players)
+    # Each part from its own definition for the players each part moved most and ten others
+    # (measured: agreement to 8e-15 log-odds; last update's rows are unchanged, so R0 = P).
+    names = list(b.names)
+    who = {names[k] for part in (b.own_r, b.group_r, b.opponents_r) for k in np.argsort(-np.abs(part))[:5]}
+    who |= set(np.random.default_rng(1).choice(names, 10, replace=False).tolist())
+    expected, _, _, _ = parts_by_definition(old, rows, published, Settings(), (), names, sorted(who))
+    assert_parts(b, expected, 1e-10)
+    assert max(abs(b.group_r[names.index(n)]) for n in who) * points_per_logodds(400.0) > 3
+
+
+# --- each part from its own definition ---------------------------------------------------------
+#
+# docs/model.md section 2: R0 = solve(D0, t0) and R1 = solve(D1, t1) with today's
+# settings; BR_i(x, D, t) is player i's best strength with everyone else frozen at x. With division
+# levels (r = L_d + u) the group part is the change of the player's division level with every
+# deviation u frozen, so "shifted" moves each player j by L1_d(j) - L0_d(j) and player i's prior mean
+# moves with their level. Here every part is computed again in the test: R0 and R1 by separate fits,
+# BR by a root search (scipy's brentq) on player i's own derivative written out over the raw rows,
+# and the opponents part not as the remainder but as BR_i(R1) - BR_i(shifted): at the joint optimum
+# BR_i(R1) = R1_i, so that difference is what the others' own re-rating did to player i.
+
+LN10 = np.log(10.0)
+
+
+def weight(res, t, half_life):
+    """Age weight of one row at the reference date t (docs/model.md section 1)."""
+    return 0.5 ** (max((t - res.date).days, 0) / half_life) if half_life else 1.0
+
+
+def best_alone(rows, t, settings, name, frozen, prior_mean):
+    """BR for one player: the root of d/dy log posterior, everyone else at ``frozen`` (log-odds by name)."""
+    from scipy.optimize import brentq
+    from scipy.special import expit
+
+    s2 = (settings.skill_spread * LN10 / settings.scale) ** 2
+    games = []
+    for res in rows:
+        if res.void or name not in (res.player_a, res.player_b):
+            continue
+        won, lost = (res.games_a, res.games_b) if res.player_a == name else (res.games_b, res.games_a)
+        other = res.player_b if res.player_a == name else res.player_a
+        games.append((weight(res, t, settings.half_life_days), won, lost, frozen[other]))
+
+    def slope(y):
+        return sum(w * (won - (won + lost) * expit(y - x)) for w, won, lost, x in games) - (y - prior_mean) / s2
+
+    return brentq(slope, prior_mean - 60.0, prior_mean + 60.0, xtol=1e-14, rtol=1e-15)
+
+
+def tiered_weeks():
+    """Three divisions, last update's rows (one of them since corrected) and a new week.
+
+    Division Two does well at a cross-division open night; Kit Ormond, on no Players sheet, played
+    mostly in Three before and mostly in Two this week, so his home division changes; Uma Vance plays
+    for the first time (not published before: corrections 0, R0 her prior mean given Three's level).
+    """
+    one = ["Ann Holt", "Bea Marsh", "Cal Penn", "Dee Varga", "Ross Kell"]
+    two = ["Fay Dunn", "Gus Orme", "Hal Ives", "Ida Lowe", "Jon Pike"]
+    three = ["Lea Quinn", "Max Rudd", "Ned Sole", "Ola Tate", "Pia Ueda"]
+    mover, newcomer = "Kit Ormond", "Uma Vance"
+    old = round_robin(one, START, "One", (5, 3)) + round_robin(two, START + DAY, "Two", (5, 4))
+    old += round_robin(three, START + 2 * DAY, "Three", (5, 2))
+    old += round_robin(one[::-1], START + 14 * DAY, "One", (5, 4)) + round_robin(two[::-1], START + 15 * DAY, "Two", (5, 2))
+    old += [Result(START + 7 * DAY, a, b, 5, 4, "", "Cup") for a, b in zip(one, two)]
+    old += [Result(START + 8 * DAY, a, b, 5, 3, "", "Cup") for a, b in zip(two, three)]
+    old += [Result(START + 9 * DAY, mover, o, 5, 4, "Three") for o in three[:3]]
+    night = START + 30 * DAY
+    new = [Result(night, b, a, 5, 2, "", "Open night") for a in one for b in two[:3]]
+    new += [Result(night + DAY, mover, o, 3, 5, "Two") for o in two]
+    new += [Result(night + DAY, newcomer, "Lea Quinn", 5, 1, "Three")]
+    fixed = list(old)
+    fixed[0] = replace(old[0], games_a=2, games_b=5)  # Ann Holt v Bea Marsh was entered the wrong way round
+    players = ([Player(p, "One") for p in one] + [Player(p, "Two") for p in two]
+               + [Player(p, "Three", starting=1400.0 if p == "Pia Ueda" else None) for p in three])
+    return old, fixed, fixed + new, players, mover, newcomer
+
+
+def parts_by_definition(d0, d1, published, settings, players, names, who=None):
+    """Per player of ``who`` (default all): (corrections, own, group, opponents, BR_i(R1), R1_i), log-odds.
+
+    R0 and R1 are fits of D0 and D1 from scratch, at their own reference dates; BR is ``best_alone``.
+    Also returns the two fits and R0 by name.
+    """
+    t0, t1 = max(r.date for r in d0), max(r.date for r in d1)
+    fit0 = fit_league(d0, settings, players=players, reference_date=t0)
+    fit1 = fit_league(d1, settings, players=players)
+    starting = {p.name: p.starting for p in players if p.starting is not None}
+
+    def prior_mean(name):  # starting rating, else the centre, in log-odds
+        return (starting[name] - settings.centre) * LN10 / settings.scale if name in starting else 0.0
+
+    L0, L1 = dict(zip(fit0.group_names, fit0.level)), dict(zip(fit1.group_names, fit1.level))
+    home0 = {n: fit0.division(n) if n in fit0.names else fit1.division(n) for n in names}
+    home1 = {n: fit1.division(n) for n in names}
+    # A player with no row in D0 (a newcomer) sits at their prior mean given their division's level.
+    r0 = {n: float(fit0.r[fit0.index(n)]) if n in fit0.names else prior_mean(n) + L0[home1[n]] for n in names}
+    r1 = {n: float(fit1.r[fit1.index(n)]) for n in names}
+    if settings.division_spread:
+        shifted = {n: r0[n] - L0[home0[n]] + L1[home1[n]] for n in names}  # every deviation frozen
+    else:  # one pool: each division moves by its players' mean change
+        move = {g: np.mean([r1[n] - r0[n] for n in names if home1[n] == g]) for g in fit1.group_names}
+        shifted = {n: r0[n] + move[home1[n]] for n in names}
+    out = {}
+    for n in names if who is None else who:
+        br0 = best_alone(d1, t1, settings, n, r0, prior_mean(n) + L0[home0[n]])
+        br_shifted = best_alone(d1, t1, settings, n, shifted, prior_mean(n) + L1[home1[n]])
+        br1 = best_alone(d1, t1, settings, n, r1, prior_mean(n) + L1[home1[n]])
+        was = published.ratings.get(n)
+        p = r0[n] if was is None else (was - settings.centre) * LN10 / settings.scale
+        out[n] = (r0[n] - p, br0 - r0[n], br_shifted - br0, br1 - br_shifted, br1, r1[n])
+    return out, fit0, fit1, r0
+
+
+def assert_parts(b, expected, tol):
+    """The breakdown's four parts against ``parts_by_definition``; R1 is everyone's best response to R1."""
+    for n, (corrections, own, group, opponents, br1, r1) in expected.items():
+        k = b.names.index(n)
+        assert b.corrections_r[k] == pytest.approx(corrections, abs=tol), n
+        assert b.own_r[k] == pytest.approx(own, abs=tol), n
+        assert b.group_r[k] == pytest.approx(group, abs=tol), n
+        assert b.opponents_r[k] == pytest.approx(opponents, abs=tol), n
+        assert br1 == pytest.approx(r1, abs=tol), n
+
+
+@pytest.mark.parametrize("division_spread", [100.0, 0.0], ids=["levels", "one pool"])
+def test_each_part_equals_its_own_definition(division_spread):
+    old, d0, d1, players, mover, newcomer = tiered_weeks()
+    settings = Settings(half_life_days=60.0, division_spread=division_spread)
+    published = publish(old, settings, players)
+    b = explain_changes(d1, published, settings, players)
+    ppl = settings.scale / LN10
+    expected, fit0, fit1, r0 = parts_by_definition(d0, d1, published, settings, players, list(b.names))
+    assert fit0.division(mover) == "Three" and fit1.division(mover) == "Two"
+    # Measured: the parts agree to 5e-9 log-odds (R0's warm start against a fit from scratch), and
+    # BR(R1) = R1 to 3e-15.
+    assert_parts(b, expected, 2e-8)
+    # The scenario moves every part somewhere, so none of the checks above is empty.
+    for part in (b.corrections_r, b.own_r, b.group_r, b.opponents_r):
+        assert np.abs(part).max() * ppl > 2
+    for g in fit1.group_names:  # each division's shift: its level's change (one pool: its mean change)
+        if division_spread:
+            assert b.group_shift[g] == pytest.approx(fit1.level_points(g) - fit0.level_points(g), abs=2e-8 * ppl)
+            assert b.level_before[g] == pytest.approx(fit0.level_points(g), abs=2e-8 * ppl)
+        else:
+            moved = np.mean([fit1.r[fit1.index(n)] - r0[n] for n in b.names if fit1.division(n) == g])
+            assert b.group_shift[g] == pytest.approx(moved * ppl, abs=2e-8 * ppl)
+    k = b.names.index(mover)
+    if division_spread:  # the mover's group part is Two's new level against Three's old one
+        assert b.group_r[k] * ppl > 5 and fit1.level_points("Two") - fit0.level_points("Three") > 0
+    assert newcomer not in published.ratings and b.corrections_r[b.names.index(newcomer)] == 0.0

@@ -169,7 +169,8 @@ def test_calibration_on_a_league_with_known_skills():
 def test_real_tennis_walk_beats_a_coin_toss():
     from tests.realdata import tennis
 
-    threadpoolctl = pytest.importorskip("threadpoolctl")
+    import threadpoolctl  # a dependency of the package (secretary/threads.py)
+
     results = tennis()
     # One BLAS thread: on a busy shared machine threaded small solves spin and time the machine, not the walk.
     with threadpoolctl.threadpool_limits(1):

@@ -50,7 +50,7 @@ def test_chance_at_the_given_race():
     # Source: S. Ross, A First Course in Probability, problem 4.72: p = 0.6, first to 4 -> 0.710208.
     assert (fc.race_a, fc.race_b) == (4, 4) and fc.point_race_chance == pytest.approx(0.710208, abs=5e-7)
     fc = forecast(Fixture(DAY, "Ann Regular", "Bea Regular", 3, 5), fit)
-    # Source: checks.md section 4, scipy.stats.nbinom.cdf(4, 3, 0.6) -> 0.903744.
+    # Source: docs/checks.md section 4, scipy.stats.nbinom.cdf(4, 3, 0.6) -> 0.903744.
     assert fc.point_race_chance == pytest.approx(0.903744, abs=5e-7)
 
 

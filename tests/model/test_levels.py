@@ -1,4 +1,4 @@
-"""Division levels: the joint MAP over (u, L) and its Laplace posterior (model.md, section 1)."""
+"""Division levels: the joint MAP over (u, L) and its Laplace posterior (docs/model.md, section 1)."""
 import datetime as dt
 
 import numpy as np
@@ -52,7 +52,7 @@ def test_level_map_equals_scikit_learn_with_scaled_division_columns(seed, spread
     # Outside check: scikit-learn's LogisticRegression (no intercept, L2, C = s^2) on rows
     # x = [e_i - e_j, (e_d(i) - e_d(j)) tau / s] gives the MAP of r = u + B L with
     # u ~ N(0, s^2), L ~ N(0, tau^2): one penalty |beta|^2 / (2 s^2) is both priors when
-    # L = beta_L tau / s.  Pairs map to rows as in shared design checks.md section 2: each
+    # L = beta_L tau / s.  Pairs map to rows as in docs/checks.md section 2: each
     # match twice, label 1 weighted by games A won, label 0 by games B won (times the age weight).
     rows, players = tiered_league(seed)
     settings = Settings(division_spread=spread, half_life_days=half_life)
@@ -160,11 +160,27 @@ def test_home_division_rules_are_recorded():
         Result(START + dt.timedelta(days=14), "Ann", "Bea", 3, 0, ""),
     ]
     fit = fit_league(rows, Settings(), players=[Player("Cal", "Hill"), Player("Dee")])
-    assert fit.division("Ann") in ("Hill", "Town")  # the division played most (a row without one counts last)
+    assert fit.division("Ann") == "Town"  # her most recent result with a division (a row without one counts last)
     assert fit.division("Bea") == "Hill"
-    assert fit.division("Cal") == "Hill"
+    assert fit.division("Cal") == "Hill"  # the Players sheet, though her only result was in Town
     rule = dict(zip(fit.names, fit.home_rule))
-    assert rule == {"Ann": "played most", "Bea": "played most", "Cal": "Players sheet", "Dee": "no results"}
+    assert rule == {"Ann": "latest results", "Bea": "latest results", "Cal": "Players sheet", "Dee": "no results"}
+
+
+def test_a_player_who_changed_division_is_counted_in_the_one_they_play_in_now():
+    day = [START + dt.timedelta(days=7 * k) for k in range(6)]
+    rows = [Result(day[k], "Moe", f"Low{k}", 3, 1, "Lower") for k in range(4)]  # most of Moe's games
+    rows += [Result(day[4], "Moe", "Top0", 1, 3, "Upper"), Result(day[5], "Top1", "Moe", 3, 2, "Upper")]
+    # Same date: the row further down the sheet is the more recent one.
+    rows += [Result(day[5], "Sal", "Low0", 3, 0, "Upper"), Result(day[5], "Sal", "Low1", 3, 0, "Lower")]
+    fit = fit_league(rows, Settings())
+    assert fit.division("Moe") == "Upper" and fit.division("Low2") == "Lower"
+    assert fit.division("Sal") == "Lower"
+    assert dict(zip(fit.names, fit.home_rule))["Moe"] == "latest results"
+    # A doubles partner's seat counts like any other: Low3's latest game was as Moe's partner in Upper.
+    rows.append(Result(day[5] + dt.timedelta(days=1), "Moe", "Top0", 3, 2, "Upper", partner_a="Low3",
+                       partner_b="Top1"))
+    assert fit_league(rows, Settings()).division("Low3") == "Upper"
 
 
 def test_api_rates_with_division_levels_and_without_them_as_one_pool():

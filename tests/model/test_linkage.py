@@ -8,16 +8,8 @@ from scipy.special import expit
 
 from secretary.model.fit import hessian, pair_curvature
 from secretary.model.league import fit_league
-from secretary.model.linkage import (
-    HELD_SHOWN,
-    HessianSolver,
-    average_contrasts,
-    division_contrasts,
-    level_vectors,
-    posterior_solver,
-    surplus,
-    watch_list,
-)
+from secretary.model.contrasts import HessianSolver, average_contrasts, division_contrasts, level_vectors, posterior_solver
+from secretary.model.linkage import HELD_SHOWN, surplus, watch_list
 from secretary.model.linking_matches import expected_race_games
 from secretary.model.records import Player, Result, Settings
 from secretary.model.scale import points_per_logodds
@@ -28,7 +20,7 @@ START = dt.date(2025, 1, 6)
 # (z ~ sqrt(r) / s for an unbeaten player); the synthetic leagues use a threshold of 1.
 # Pinned, not the defaults (which evaluation may move): skill spread 145, Division spread 100 (levels).
 HELD = Settings(held_z=1.0, skill_spread=145.0, division_spread=100.0)
-ONE_POOL = HELD.replace(division_spread=0.0)  # today's one-pool model (model.md 4)
+ONE_POOL = HELD.replace(division_spread=0.0)  # today's one-pool model (docs/model.md 4)
 BOTH = pytest.mark.parametrize("settings", [HELD, ONE_POOL], ids=["levels", "one pool"])
 
 
@@ -128,7 +120,7 @@ def test_isolated_division_with_dominant_player_is_flagged(settings):
 
 
 def test_held_pull_equals_the_priors_pull_at_the_optimum():
-    # model.md section 4: at the optimum sum w (won - p) = (r_i - mu_i) / s^2 for every player.
+    # docs/model.md section 4: at the optimum sum w (won - p) = (r_i - mu_i) / s^2 for every player.
     results, players, _, _ = make_league(dominant="Valley 0")
     players = [p if p.name != "Hill 1" else Player("Hill 1", "Hill", starting=1650.0) for p in players]
     fit = fit_league(results, HELD, players=players, with_uncertainty=False)
@@ -234,6 +226,22 @@ def test_separate_pool_is_called_out_with_the_prior_as_its_only_anchor():
     assert not any({"Cara Quill", "Dov Reed"} & {m.player_a, m.player_b} for m in wl.suggestions)
 
 
+def test_a_group_that_outnumbers_its_divisions_linked_players_is_still_an_island():
+    # Hill's eight regulars play Town; twelve newcomers counted in Hill play only each other. They
+    # are most of Hill's players, but Hill is tied in by the regulars, so its line is not flagged:
+    # the twelve must be named on their own line, or nobody would hear of them.
+    results, players, strength, rng = make_league(seed=7)
+    results = results + cross_matches(rng, strength, 20)
+    group = [f"New {k}" for k in range(12)]
+    extra = [Result(START + dt.timedelta(days=k), a, b, 5, 2 + k % 3, "Hill")
+             for k, (a, b) in enumerate(itertools.combinations(group, 2))]
+    wl = watch(results + extra, players + [Player(name, "Hill") for name in group])
+    (pool,) = wl.pools
+    assert set(pool.players) == set(group) and pool.divisions == ("Hill",)
+    assert not wl.division("Hill").flagged
+    assert not any(set(group) & {m.player_a, m.player_b} for m in wl.suggestions)
+
+
 # ------------------------------------------------------------------ division levels
 
 SPREAD = 120.0  # points: a Division spread for the level tests
@@ -254,7 +262,7 @@ def level_shares(fit, method="auto"):
 def joint_level_variance(fit):
     """``c^T Cov(L) c`` per division, the prior's, the part no game sees and ``Var(L_d)``, from dense matrices.
 
-    Built from the model's definition (model.md 1), in the (u, L) form the fit does not use:
+    Built from the model's definition (docs/model.md 1), in the (u, L) form the fit does not use:
     ``r = u + B L``, ``u ~ N(mu, s^2 I)``, ``L ~ N(m, tau^2 I)``; the Hessian is
     ``J^T diag(n p (1 - p)) J`` over the pairs' rows ``J = (e_i - e_j) [I  B]`` plus the prior
     precisions, and the hidden part is ``Cov(L | r)`` of the prior.
@@ -422,7 +430,7 @@ def mid_size_fit(seed=0, n_div=6, size=80, matches=6000, cross=0.03, spread=0.0)
 def test_sparse_level_variances_agree_with_a_dense_inverse(method):
     fit = mid_size_fit()
     H = hessian(fit.pairs, fit.r, fit.prior_sd)
-    # The dense Hessian built here from its definition (model.md 1): n p (1 - p) per pair, I / s^2.
+    # The dense Hessian built here from its definition (docs/model.md 1): n p (1 - p) per pair, I / s^2.
     pairs, n = fit.pairs, len(fit.names)
     p = expit(fit.r[pairs.i] - fit.r[pairs.j])
     h = pairs.total * p * (1 - p)
@@ -473,31 +481,44 @@ CAPITALISED = {"Kento MOMOTA", "Sameer VERMA", "Yuqi SHI", "Wan Ho SON", "Tien C
 
 
 @pytest.mark.realdata
-def test_badminton_finals_spelt_in_capitals_form_a_division_held_by_the_prior():
-    # Source: ../shared/data/README.md (badminton): one season-ending event writes surnames in
-    # capitals; taken literally its eight players play nobody else. They are the whole Finals
-    # division, so the division's line says so (not an island line) and the suggestions tie it in.
+def test_badminton_finals_spelt_in_capitals_are_an_island_inside_a_linked_division():
+    # Source: docs/real-data.md (badminton, world-tour men's singles 2018-2021): the 2018
+    # season-ending Finals write surnames in capitals, so taken literally those eight players play
+    # nobody else. A player's home division is that of their most recent result, and the set ends in
+    # March 2021, two months after the January 2021 Finals: four players whose last event was that
+    # Finals (Chou, Ginting, Wang, Ng) are counted in Finals too, and tie it to the rest (measured:
+    # 12 players, 4 linking it, linked share 0.61). So the eight are not "the whole Finals division",
+    # as they were when the home division was the one played most: they are a group with no path of
+    # games to anyone else, named once on their own line, and never in a suggestion.
     results = realdata.badminton(fold_case=False)
     wl = watch_list(fit_league(results, with_uncertainty=False), results)
-    assert wl.pools == ()
+    [island] = wl.pools
+    assert set(island.players) == CAPITALISED and island.divisions == ("Finals",)
+    assert "another spelling" in island.what_to_do
     finals = wl.division("Finals")
-    assert finals.flagged and finals.cross_games == 0 and finals.linking_players == 0
-    assert finals.linked_share == pytest.approx(0.0, abs=1e-9)  # only the prior sets their level
-    assert "has played no one from another division" in finals.what_to_do
-    assert wl.divisions[0].division == "Finals"  # the emptiest link is listed first
-    assert wl.suggestions and all(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
+    assert finals.players == 12 and set(finals.linkers) == {
+        "Tien Chen Chou", "Anthony Sinisuka Ginting", "Tzu Wei Wang", "Ka Long Angus Ng"}
+    assert finals.cross_games > 0 and not finals.flagged
+    assert not any(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
+    assert not {h.name for h in wl.held} & CAPITALISED
 
     merged = realdata.badminton(fold_case=True)
     fit = fit_league(merged, with_uncertainty=False)
     wl = watch_list(fit, merged)
     assert wl.pools == ()
-    assert "Finals" not in fit.group_names  # the eight are counted in the divisions they mostly play
     folded = {name.casefold() for name in CAPITALISED}
     names = [n for n in fit.names if n.casefold() in folded]
     assert len(names) == 8
+    last = {}  # each one's most recent result's division, computed here from the rows themselves
+    for r in merged:
+        for name in (r.player_a, r.player_b):
+            if name in names and (name not in last or r.date >= last[name][0]):
+                last[name] = (r.date, r.division)
     for name in names:
+        assert fit.division(name) == last[name][1]
         division = wl.division(fit.division(name))
         assert name in division.linkers and division.cross_games > 0
+    assert {fit.division(n) for n in names} == {"Finals", "Super 1000", "Super 750"}
     assert not {h.name for h in wl.flagged_players} & set(names)
     assert not any(CAPITALISED & {m.player_a, m.player_b} for m in wl.suggestions)
 
@@ -509,7 +530,7 @@ def tennis():
 
 @pytest.mark.realdata
 def test_tennis_tiers_are_ordered_and_unlink_without_their_crossing_players(tennis):
-    # Source: ../shared/data/README.md (tennis): the fitted levels come out ordered
+    # Source: docs/real-data.md (tennis): the fitted levels come out ordered
     # top > second > third, linked by the players who play in more than one tier.
     fit = fit_league(tennis, with_uncertainty=False)
     wl = watch_list(fit, tennis)
@@ -539,7 +560,7 @@ def _capitals(name: str) -> str:
 
 @pytest.mark.realdata
 def test_tennis_suggestions_touch_the_detached_tier_and_never_the_islands(tennis):
-    # Real results (../shared/data/README.md, tennis): the first eight months of 2019, the third tier
+    # Real results (docs/real-data.md, tennis): the first eight months of 2019, the third tier
     # cut off from the others (its cross-tier matches dropped), and three real top-tier matches
     # written with surnames in capitals, so that each becomes a two-player island inside the top
     # tier. Before this change all six suggestions paired islands with each other.
@@ -583,7 +604,7 @@ def test_tennis_suggestions_touch_the_detached_tier_and_never_the_islands(tennis
 
 @pytest.mark.realdata
 def test_tennis_tiers_with_levels_are_linked_where_one_pool_flagged_the_big_tier(tennis):
-    # ../shared/data/README.md (tennis): three tiers linked by about 950 players. Fitted on the first
+    # docs/real-data.md (tennis): three tiers linked by about 950 players. Fitted on the first
     # eight months, the one-pool model flags the 2,000-player third tier although it played thousands
     # of games against the others (its average is held tightly by the prior alone); its level is not.
     season = [r for r in tennis if r.date < dt.date(2019, 9, 1)]

@@ -31,7 +31,7 @@ def test_two_thirds_first_to_four():
 
 @pytest.mark.parametrize("a, b, expected", [(3, 5, 0.903744), (5, 3, 0.419904)])
 def test_unequal_races(a, b, expected):
-    # Source: checks.md section 4, computed with scipy.stats.nbinom.cdf(b - 1, a, p) for p = 0.6.
+    # Source: docs/checks.md section 4, computed with scipy.stats.nbinom.cdf(b - 1, a, p) for p = 0.6.
     assert race_chance(0.6, a, b) == pytest.approx(expected, abs=5e-7)
     assert race_chance(0.6, a, b) == pytest.approx(nbinom.cdf(b - 1, a, 0.6), abs=1e-12)
 

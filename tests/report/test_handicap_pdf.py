@@ -46,7 +46,7 @@ def test_every_fixture_in_plain_words(league, card):
 def test_chance_printed_matches_an_independent_race_formula(league, card):
     """A's chance at the set race: first to a before the other gets b, averaged over the posterior.
 
-    Source: checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p),
+    Source: docs/checks.md section 4, unequal races computed with scipy.stats.nbinom.cdf(b - 1, a, p),
     integrated over the difference's normal posterior by the trapezoid rule.
     """
     _, fcs = league
@@ -107,3 +107,36 @@ def test_past_fixtures_are_marked_and_come_after_the_coming_ones(league, tmp_pat
     assert squeeze(f"{count} past fixtures (dated before the latest results) at the end") in text
     # Without a newest result nothing is past, and the card says nothing about past fixtures.
     assert "past" not in pdf_text(write_handicap_pdf(tmp_path / "none.pdf", fcs, SETTINGS, ratings=update.ratings))
+
+
+def test_a_long_card_fills_its_pages(league, tmp_path):
+    """48 fixtures over six days: a day's table runs on over a page break (its header repeated) rather than
+    leave a page half empty, so every page but the last is filled to near its foot (measured 82-92 %)."""
+    import datetime as dt
+    import itertools
+    import re
+    import subprocess
+
+    from secretary.model.fixtures import forecast_fixtures
+    from secretary.model.league import fit_league
+    from secretary.model.records import Fixture
+    from tests.invented_league import WEEK_2, players
+
+    update, _ = league
+    fit = fit_league(update.results, SETTINGS, players=players())
+    pairs = list(itertools.combinations([p.name for p in players()], 2))[:48]
+    fixtures = [Fixture(WEEK_2 + dt.timedelta(days=7 + k // 8), a, b, None, None, row=2 + k)
+                for k, (a, b) in enumerate(pairs)]
+    card = write_handicap_pdf(tmp_path / "long.pdf", forecast_fixtures(fixtures, fit), SETTINGS,
+                              ratings=update.ratings)
+    boxes = subprocess.run(["pdftotext", "-bbox", str(card), "-"], check=True, capture_output=True,
+                           text=True).stdout.split("<page ")[1:]
+    assert len(boxes) >= 3
+    filled = []
+    for page in boxes:
+        height = float(re.search(r'height="([\d.]+)"', page).group(1))
+        lowest = max(float(y) for y in re.findall(r'yMax="([\d.]+)"', page) if float(y) < height - 50)  # not the footer
+        filled.append(lowest / height)
+    assert min(filled[:-1]) >= 0.78, filled
+    text = pdf_text(card)
+    assert text.count("Fair race") >= len(boxes)  # every page's table has its header row

@@ -175,3 +175,40 @@ def test_watch_lines_are_the_watch_lists_own_words_islands_and_more(updates, tmp
     assert squeeze(f"and {hidden} more players held back") in text
     assert squeeze("Cara Quill, Dov Reed (2 players) have played nobody outside their group") in text
     assert more and squeeze(more[-1].name) not in text  # past the summary's few: counted, not named
+
+
+def _words_by_page(path) -> list[list[tuple[float, str]]]:
+    """Per page, (height in points, text) of every word above the footer, from ``pdftotext -bbox``."""
+    import html
+    import re
+    import subprocess
+
+    out = subprocess.run(["pdftotext", "-bbox", str(path), "-"], check=True, capture_output=True,
+                         text=True).stdout
+    pages = []
+    for page in out.split("<page ")[1:]:
+        bottom = float(re.search(r'height="([\d.]+)"', page).group(1)) - 50
+        pages.append([(float(b) - float(a), html.unescape(t)) for a, b, t in
+                      re.findall(r'yMin="([\d.]+)" xMax="[\d.]+" yMax="([\d.]+)">([^<]*)<', page) if float(b) < bottom])
+    return pages
+
+
+def test_only_the_charts_print_below_12_points(updates, second_pdf):
+    """Body text, tables and headings of the full list are 12 points or more; the wall page 14 or more.
+    Smaller type is allowed only for the words of the parts charts: their names, totals, legend and caption."""
+    from secretary.model.notice import PART_NAMES
+    from secretary.report.notice import _short
+
+    path, _ = second_pdf
+    pages = _words_by_page(path)
+    assert min(h for h, _ in pages[0]) >= 13.9, "the wall page has text under 14 points"
+    notice = build_notice(updates[1].breakdown, updates[1].ratings, SETTINGS)
+    chart = {"Points", "from:", "gains", "right,", "losses", "left", *" ".join(PART_NAMES).split()}
+    for block in notice.divisions:
+        chart |= set(f"The biggest changes in {block.division}, split into their four parts. The number at the end "
+                     "of each bar is the whole change, in points.".split())
+        for line in block.biggest_changes():
+            chart |= {*_short(line.name).split(), change_text(line)}
+    small = [(round(h, 1), word) for page in pages[1:] for h, word in page if h < 11.9]
+    assert small, "no chart was drawn: the test would pass whatever the type size"
+    assert [(h, word) for h, word in small if word not in chart] == []

@@ -150,3 +150,80 @@ def test_a_divisions_sheet_saved_by_libreoffice_reads_the_same(tmp_path):
     assert not theirs.problems
     assert theirs.divisions == mine.divisions == (
         Division("Top", 150.0, "the strong tier", 2), Division("Bottom", -150.5, "", 3))
+
+
+# ------------------------------------------------------------------ the divisions table on the Ratings sheet
+
+
+def levels_table(path: Path) -> dict[str, tuple]:
+    """The divisions table under the players on the Ratings sheet: division -> (level, ±, games, players, note)."""
+    rows = list(openpyxl.load_workbook(path, read_only=True)["Ratings"].iter_rows(values_only=True))
+    start = next(k for k, r in enumerate(rows) if r[2] == "Division" and r[3] == "Division level")
+    assert rows[start][2:7] + rows[start][8:9] == (
+        "Division", "Division level", "±", "Games against other divisions", "Players", "Note")
+    out = {}
+    for r in rows[start + 1:]:
+        if r[2] is None:
+            break
+        assert r[0] is None and r[1] is None  # Rank and Player stay blank: players only there
+        out[r[2]] = (r[3], r[4], r[5], r[6], r[8])
+    return out
+
+
+def test_a_division_that_plays_no_other_keeps_its_starting_level_with_the_division_spread_as_its_pm(tmp_path):
+    path = write_book(tmp_path / "league.xlsx", tiered_results(), players=_players(),
+                      divisions=[["Top", 150, ""], ["Bottom", -150, ""]])
+    assert main(["update", str(path)]) == 0
+    table = levels_table(path)
+    # No game sees a division's level here, so its posterior is its prior: N(starting level, spread^2), spread 100.
+    assert table["Top"][:4] == (pytest.approx(150, abs=0.01), pytest.approx(100, abs=1e-6), 0, 4)
+    assert table["Bottom"][:4] == (pytest.approx(-150, abs=0.01), pytest.approx(100, abs=1e-6), 0, 4)
+    assert "no games against other divisions" in table["Top"][4]
+    assert list(table) == ["Top", "Bottom"]  # strongest first
+
+
+def test_games_against_other_divisions_are_the_age_weighted_games_between_them(tmp_path):
+    rows = tiered_results(cross=8)
+    path = write_book(tmp_path / "league.xlsx", rows, players=_players(), divisions=[["Top", 100, ""]])
+    assert main(["update", str(path)]) == 0
+    table = levels_table(path)
+    newest = max(r[0] for r in rows)
+    top = set(TOP)
+    # Each game weighs 0.5 ** (age / half-life), half-life 520 days (the default), age from the newest result.
+    weighted = sum((r[4] + r[5]) * 0.5 ** ((newest - r[0]).days / 520) for r in rows
+                   if (r[2] in top) != (r[3] in top))
+    assert weighted > 0
+    assert table["Top"][2] == pytest.approx(weighted, rel=1e-12)
+    assert table["Bottom"][2] == pytest.approx(weighted, rel=1e-12)
+    assert table["Top"][4] == "started at +100 (Divisions sheet)"
+    assert 0 < table["Top"][1] < 100  # the games narrow the level's ± below the Division spread
+
+
+def test_with_division_spread_0_the_levels_are_fixed_and_one_division_has_no_table(tmp_path):
+    fixed = write_book(tmp_path / "fixed.xlsx", tiered_results(cross=4), players=_players(),
+                       divisions=[["Top", 150, ""]], settings=[["Division spread", 0]])
+    assert main(["update", str(fixed)]) == 0
+    table = levels_table(fixed)
+    assert table["Top"][:2] == (150, None) and table["Bottom"][:2] == (0, None)
+    assert "Division spread is 0" in table["Top"][4]
+    single = write_book(tmp_path / "single.xlsx")
+    assert main(["update", str(single)]) == 0
+    rows = list(openpyxl.load_workbook(single, read_only=True)["Ratings"].iter_rows(values_only=True))
+    assert not any("Division levels" in map(str, r) for r in rows)
+
+
+def test_a_division_not_given_by_the_players_sheet_is_marked_as_taken_from_the_latest_result(tmp_path):
+    rows = tiered_results()
+    # Hal Crane, not on the Players sheet, played most in Bottom but last in Top: counted in Top.
+    rows.append([D + dt.timedelta(days=28), "Top", "Hal Crane", "Ada Finch", 2, 5, "", ""])
+    players = [p for p in _players() if p[0] != "Hal Crane"]
+    path = write_book(tmp_path / "league.xlsx", rows, players=players)
+    assert main(["update", str(path)]) == 0
+    sheet = list(openpyxl.load_workbook(path, read_only=True)["Ratings"].iter_rows(values_only=True))
+    header = sheet[0]
+    by_name = {r[1]: r for r in sheet[1:] if isinstance(r[0], int)}
+    note, division = header.index("Note"), header.index("Division")
+    assert by_name["Hal Crane"][division] == "Top"
+    assert "division from latest result" in by_name["Hal Crane"][note]
+    assert not any("division from latest result" in (r[note] or "") for n, r in by_name.items() if n != "Hal Crane")
+    assert "most recent result" in " ".join(str(v) for r in sheet for v in r if v)  # the rule, named

@@ -84,7 +84,7 @@ def test_values_formats_and_notes(tmp_path, results):
         assert ws.cell(r, 2).value == fc.fixture.player_a
         chance = ws.cell(r, where[CHANCE])
         # A's chance of getting race_a games first, averaged over the posterior of the difference.
-        # Source: checks.md section 4 (scipy.stats.nbinom.cdf(b-1, a, p)), integrated by the trapezoid rule.
+        # Source: docs/checks.md section 4 (scipy.stats.nbinom.cdf(b-1, a, p)), integrated by the trapezoid rule.
         assert chance.value == pytest.approx(chance_by_integral(fc, fc.race_a, fc.race_b), abs=1e-6)
         assert chance.number_format == "0%"
         assert (ws.cell(r, where[FAIR_A]).value, ws.cell(r, where[FAIR_B]).value) == (fc.fair_race_a, fc.fair_race_b)

@@ -13,6 +13,7 @@ import pytest
 from tests.workbook.league_books import D, good_results, write_book
 from secretary.model.records import Fixture, Player, PublishedState, Result, Settings
 from secretary.workbook import schema
+from secretary.workbook import state as state_module
 from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.read import read_workbook
 from tests import realdata
@@ -224,7 +225,6 @@ def test_a_loaded_workbook_finds_formulas_and_is_not_changed(tmp_path):
 
 
 def test_state_written_by_an_update_is_read_back(tmp_path):
-    state_module = pytest.importorskip("secretary.workbook.state")
     path = write_book(tmp_path / "s.xlsx")
     wb = openpyxl.load_workbook(path)
     state = PublishedState("2026-03-22T10:00:00", LATER, {"Ada Finch": 1550.0}, {"Ada Finch": 80.0},

@@ -87,8 +87,8 @@ def test_rows_carry_the_numbers_and_what_to_do(saved, watch):
     first = {h: ws.cell(row + 1, c).value for c, h in enumerate(headers, start=1)}
     valley = watch.division("Valley")
     assert first["Division"] == "Valley" and first["Needs attention"] == "yes"
-    assert first["Linked share"] == pytest.approx(valley.linked_share)
-    assert ws.cell(row + 1, headers.index("Linked share") + 1).number_format == "0%"
+    assert first["How well linked"] == pytest.approx(valley.linked_share)
+    assert ws.cell(row + 1, headers.index("How well linked") + 1).number_format == "0%"
     assert first["What to do"] == valley.what_to_do and "Valley" in first["What to do"]
 
     row, headers = header_row_after(ws, "Held back")

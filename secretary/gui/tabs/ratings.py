@@ -12,6 +12,9 @@ from secretary.model.sentences import plural
 
 # Sizes in lines and average characters of the default font, so that they follow the screen's text size.
 HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
+LEVEL_LINES = 5  # rows of the divisions table at most (it scrolls)
+LEAGUE_WEIGHT = 4  # the league table's share of the height against the divisions table's 1, when resized
+LEVELS_SHARE = 0.4  # the divisions table's share of the height at most, when first shown
 
 
 class RatingsTab:
@@ -40,10 +43,23 @@ class RatingsTab:
         self.history_height = HISTORY_LINES * line
         panes = ttk.PanedWindow(self.frame, orient="horizontal")
         panes.pack(fill="both", expand=True)
-        self.table = Table(panes, views.RATING_COLUMNS, scheduler,
+        # The divisions table sits under the league table (the player panel keeps the whole height), shown once
+        # there are levels (``show_levels``); the two share the height by weight, with a sash to drag.
+        self.stack = ttk.PanedWindow(panes, orient="vertical")
+        self.stack.bind("<Map>", lambda e: self._place_levels(), add="+")
+        self.levels_frame = ttk.Frame(self.stack, padding=(0, 6, 0, 0))
+        tip(ttk.Label(self.levels_frame, text="Division levels", font="SecretaryBold"),
+            "Each division's level (a random effect fitted with the players): how strong it is as a whole.").pack(
+            anchor="w")
+        self.levels = Table(self.levels_frame, views.LEVEL_COLUMNS, scheduler,
+                            "How strong each division is as a whole, and the games between divisions that set it.",
+                            height=LEVEL_LINES)
+        self.levels.frame.pack(fill="both", expand=True)
+        self.table = Table(self.stack, views.RATING_COLUMNS, scheduler,
                            "Choose a player to see their rating history and why their rating changed.",
                            height=18, on_select=self.chosen)
-        panes.add(self.table.frame, weight=3)
+        self.stack.add(self.table.frame, weight=LEAGUE_WEIGHT)
+        panes.add(self.stack, weight=3)
         side = ttk.Frame(panes, padding=(10, 0, 0, 0))
         panes.add(side, weight=1)
         self.panes = panes
@@ -58,15 +74,35 @@ class RatingsTab:
                                         highlightthickness=0)
         self.history_canvas.pack(fill="x", pady=(2, 8))
         ttk.Label(side, text="Why it changed", font="SecretaryBold").pack(anchor="w")
-        self.change_canvas = tk.Canvas(side, height=CHANGE_LINES * line, width=300, background="white",
+        holder = ttk.Frame(side)
+        holder.pack(fill="both", expand=True, pady=(2, 0))
+        # On a short screen the change does not fit under the history: it scrolls rather than being cut off.
+        self.change_canvas = tk.Canvas(holder, height=CHANGE_LINES * line, width=300, background="white",
                                        highlightthickness=0)
-        self.change_canvas.pack(fill="both", expand=True, pady=(2, 0))
+        self.change_scroll = ttk.Scrollbar(holder, orient="vertical", command=self.change_canvas.yview)
+        self.change_canvas.configure(yscrollcommand=self.change_scroll.set)
+        self.change_scroll.pack(side="right", fill="y")
+        self.change_canvas.pack(side="left", fill="both", expand=True)
         self.change_canvas.bind("<Configure>", lambda e: self._redraw())
+        for key, step in (("<Button-4>", -2), ("<Button-5>", 2)):
+            self.change_canvas.bind(key, lambda e, s=step: self.change_canvas.yview_scroll(s, "units"))
+        self.change_canvas.bind("<MouseWheel>", lambda e: self.change_canvas.yview_scroll(
+            -1 if e.delta > 0 else 1, "units"))
+        self.line = line
+        side.bind("<Configure>", self._fit_history, add="+")
         self.rows: list[views.Row] = []
         self.ratings = {}
         self.history = {}
         self.changes = {}
         self.player: str | None = None
+
+    def _fit_history(self, event) -> None:
+        """The history chart takes at most a third of the panel's height (4 to 9 lines), leaving room for why."""
+        height = int(min(HISTORY_LINES * self.line, max(4 * self.line, event.height / 3)))
+        if height != self.history_height:
+            self.history_height = height
+            self.history_canvas.configure(height=height)
+            self._redraw()
 
     def _place_sash(self, event) -> None:
         """Once, when first shown: the player panel gets about a third of the width."""
@@ -79,6 +115,7 @@ class RatingsTab:
         self.changes = {c.name: c for c in updated.changes}
         self.history = updated.history
         self.rows = views.rating_rows(updated.ratings, updated.checked.settings.few_games)
+        self.show_levels(updated.levels)
         self.divisions.configure(values=views.divisions_of(self.rows))
         if self.division.get() not in self.divisions.cget("values"):
             self.division.set(views.ALL_DIVISIONS)
@@ -87,7 +124,28 @@ class RatingsTab:
         if self.rows:
             self.chosen(self.rows[0].iid)
 
+    def show_levels(self, levels) -> None:
+        """The divisions table, only for a league of two or more divisions."""
+        rows = views.level_rows(levels)
+        self.levels.show(rows)
+        shown = str(self.levels_frame) in map(str, self.stack.panes())
+        if rows:
+            self.levels.tree.configure(height=min(len(rows), LEVEL_LINES))
+            if not shown:
+                self.stack.add(self.levels_frame, weight=1)
+            self.stack.after_idle(self._place_levels)
+        elif shown:
+            self.stack.forget(self.levels_frame)
+
+    def _place_levels(self) -> None:
+        """The divisions table as tall as its rows need, but never more than LEVELS_SHARE of the height."""
+        height = self.stack.winfo_height()
+        if height > 1 and len(self.stack.panes()) > 1:
+            wanted = self.levels_frame.winfo_reqheight()
+            self.stack.sashpos(0, int(max(height - wanted, height * (1 - LEVELS_SHARE))))
+
     def clear(self) -> None:
+        self.show_levels(())
         self.rows, self.ratings, self.changes, self.history, self.player = [], {}, {}, {}, None
         self.refilter()
         self._blank("Update the ratings to see them here.")
@@ -133,3 +191,5 @@ class RatingsTab:
         if change is not None:
             charts.draw_change(self.change_canvas, 4, 4, max(200, self.change_canvas.winfo_width()) - 8, change,
                                views.common_scale(self.changes.values()))
+        box = self.change_canvas.bbox("all")
+        self.change_canvas.configure(scrollregion=(0, 0, box[2], box[3] + 4) if box else (0, 0, 0, 0))

@@ -1,0 +1,86 @@
+"""The divisions table: each division's level, its ±, and the games that set it, in plain words.
+
+One table for the Ratings sheet, the window's Ratings view and the notice
+board, so that all three say the same.  A division's level is ``L_d`` of the
+fit (``LeagueFit.level``), in points above the centre; its ± is the Laplace
+posterior SD of ``L_d`` (``LeagueFit.level_sd``).  With Division spread 0 the
+levels are fixed at their starting levels and have no ±.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from secretary.model.records import Settings
+
+NO_DIVISION = "(no division)"
+FIXED = "fixed at its starting level (Division spread is 0)"
+UNLINKED = "no games against other divisions yet: still at its starting level"
+STARTED = "started at {:+.0f} (Divisions sheet)"
+INFERRED = "division from latest result"  # a player's Note where the Players sheet gives no division
+HOME_RULE = ("A player's division is the one the Players sheet gives, else the division of their most recent "
+             "result (marked in Note).")
+
+
+@dataclass(frozen=True)
+class DivisionLevel:
+    """One division's line of the divisions table.
+
+    Attributes
+    ----------
+    division : the division's name ("" for players without one)
+    level : the division level, points above (+) or below (-) the centre
+    sd : its ± (one posterior SD), points; None when the levels are fixed (Division spread 0)
+    starting_level : the Divisions sheet's starting level, points (0 when not given)
+    players : players counted in it
+    cross_games : age-weighted games against other divisions
+    note : plain words about how the level was set ("" when nothing to say)
+    """
+
+    division: str
+    level: float
+    sd: float | None
+    starting_level: float
+    players: int
+    cross_games: float
+    note: str = ""
+
+    @property
+    def label(self) -> str:
+        return self.division or NO_DIVISION
+
+
+def level_sentence(settings: Settings) -> str:
+    """What "division level" means, in one plain sentence."""
+    return (f"A division level is how strong a division is as a whole, in points above (+) or below (-) the "
+            f"league's starting rating of {settings.centre:.0f}: games between divisions set it, and each "
+            "player's rating is their division's level plus how far they stand above or below it.")
+
+
+def level_table(fit, watch) -> tuple[DivisionLevel, ...]:
+    """The divisions table of a fit (``LeagueFit``) and its watch list, strongest first; () for one division.
+
+    The games against other divisions are the watch list's (``DivisionLink.cross_games``).
+    """
+    import numpy as np  # here: the window imports this module for its records, without the maths libraries
+
+    from secretary.model.scale import points_per_logodds
+
+    if len(fit.group_names) < 2:
+        return ()
+    ppl = points_per_logodds(fit.settings.scale)
+    cross = {d.division: d.cross_games for d in watch.divisions}
+    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
+    free = fit.levels is not None
+    rows = []
+    for g, name in enumerate(fit.group_names):
+        start = float(fit.starting_level[g] * ppl)
+        games = float(cross.get(name, 0.0))
+        notes = [FIXED] if not free else [UNLINKED] if games == 0 else []
+        if start and (free and games > 0):
+            notes.append(STARTED.format(start))
+        rows.append(DivisionLevel(
+            division=name, level=float(fit.level[g] * ppl),
+            sd=float(np.sqrt(max(float(fit.level_var[g]), 0.0)) * ppl) if free else None,
+            starting_level=start, players=int(sizes[g]), cross_games=games, note="; ".join(notes)))
+    rows.sort(key=lambda d: (not d.division, -d.level, d.division.casefold()))
+    return tuple(rows)
