@@ -15,6 +15,11 @@ over all games, and again over the cross-division games only (the two
 players' home divisions differ; a newcomer counts in the division they start
 in).
 
+Doubles games (both partners given) are predicted from the sides' mean
+strengths, ``d = (r_a + r_a2 - r_b - r_b2) / 2`` (variance ``x^T H^-1 x``),
+fitted jointly with the singles, and scored in all the totals and on their own
+(``Evaluation.doubles``).
+
 Predictive chances, as the secretary sees them: the difference ``d = r_a -
 r_b`` has the Laplace posterior ``N(r_a - r_b, c^T H^-1 c)`` (``H`` the step's
 Hessian over the strengths and, with division levels, the levels; a player
@@ -121,6 +126,8 @@ class Evaluation:
     cross, predictive_cross : per-game scores of the point and predictive chances over the cross-division games
         only (the two players' home divisions differ); ``count`` 0 when there are none
     cross_division : per input result, True where the match was predicted as a cross-division one
+    doubles, doubles_predictive : per-game point and predictive scores of the doubles games alone
+        (None without doubles; the totals above include them)
     """
 
     settings: Settings
@@ -143,6 +150,8 @@ class Evaluation:
     cross: Scores | None = None
     predictive_cross: Scores | None = None
     cross_division: np.ndarray | None = None
+    doubles: Scores | None = None
+    doubles_predictive: Scores | None = None
 
     @property
     def score(self) -> float:
@@ -250,6 +259,9 @@ def evaluate(
     few_scores = scores(p_sorted[done][few], ga[few], gb[few])
     pred_sorted = predictive_game_chance(mean, var) if predictive else np.full(len(mean), np.nan)
     race, predictive_race = _race_scores(mean[done], var[done], ga, gb)
+    dbl = walk.doubles[done]
+    doubles = scores(p_sorted[done][dbl], ga[dbl], gb[dbl]) if dbl.any() else None
+    doubles_predictive = scores(pred_sorted[done][dbl], ga[dbl], gb[dbl]) if dbl.any() and predictive else None
 
     def per_input(values, fill=np.nan):
         result = np.full(walk.n_input, fill, dtype=np.asarray(values).dtype if fill is False else float)
@@ -265,5 +277,5 @@ def evaluate(
         race=race, predictive_race=predictive_race, p_predictive=per_input(pred_sorted) if predictive else None,
         cross=scores(p_sorted[done][cross], ga[cross], gb[cross]),
         predictive_cross=scores(pred_sorted[done][cross], ga[cross], gb[cross]) if predictive else None,
-        cross_division=per_input(out.cross, False),
+        cross_division=per_input(out.cross, False), doubles=doubles, doubles_predictive=doubles_predictive,
     )

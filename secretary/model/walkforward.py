@@ -31,9 +31,9 @@ import numpy as np
 import scipy.sparse as sp
 
 from secretary.errors import Cancelled
-from secretary.model.fit import LaplacianPattern, Levels, fit_map, joint_hessian, pair_curvature
+from secretary.model.fit import Levels, fit_map, hessian
 from secretary.model.matches import factorise
-from secretary.model.pairs import Pairs, age_weights
+from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, Result, Settings
 from secretary.model.scale import points_per_logodds, to_strength
 from secretary.model.uncertainty import contrast_variance
@@ -64,6 +64,7 @@ class Walk:
     division_names : the divisions met ("" = none given), Players-sheet divisions first
     given_home : each player's Players-sheet division (index), -1 where none
     starting_level : each division's starting level, points above the centre (0 = blank)
+    pa, pb : each side's second player in a doubles match, -1 in singles (None: no doubles at all)
     """
 
     names: tuple[str, ...]
@@ -86,12 +87,20 @@ class Walk:
     division_names: tuple[str, ...] = ("",)
     given_home: np.ndarray = None
     starting_level: np.ndarray = None
+    pa: np.ndarray | None = None
+    pb: np.ndarray | None = None
 
     def seen(self, stop: int) -> int:
         """Number of players who appear in the first ``stop`` matches."""
         if stop == 0:
             return 0
-        return int(max(self.a[:stop].max(), self.b[:stop].max())) + 1
+        partners = (self.pa[:stop].max(), self.pb[:stop].max()) if self.pa is not None else ()
+        return int(max(self.a[:stop].max(), self.b[:stop].max(), *partners)) + 1
+
+    @property
+    def doubles(self) -> np.ndarray:
+        """Which sorted matches are doubles."""
+        return np.zeros(len(self.a), bool) if self.pa is None else self.pa >= 0
 
 
 def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_days: int = 7,
@@ -111,9 +120,16 @@ def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_d
     results = list(results)
     kept = [k for k, res in enumerate(results) if not res.void]
     kept.sort(key=lambda k: results[k].date)  # stable: same-day rows keep the caller's order
-    sides = [name for k in kept for name in (results[k].player_a, results[k].player_b)]
-    names, both = factorise(sides)
-    a, b = both[0::2].copy(), both[1::2].copy()
+    # Players numbered in order of first appearance: side A, side B, then the partners of each match.
+    seats = [(res.player_a, res.player_b, res.partner_a, res.partner_b) if res.is_doubles
+             else (res.player_a, res.player_b) for res in (results[k] for k in kept)]
+    names, codes = factorise([name for seat in seats for name in seat])
+    ends = np.cumsum([len(seat) for seat in seats], dtype=np.int64)
+    first_seat = ends - np.fromiter((len(seat) for seat in seats), np.int64, len(seats))
+    a, b = codes[first_seat], codes[first_seat + 1]
+    dbl = (ends - first_seat) == 4
+    pa, pb = np.full(len(kept), -1, np.int64), np.full(len(kept), -1, np.int64)
+    pa[dbl], pb[dbl] = codes[first_seat[dbl] + 2], codes[first_seat[dbl] + 3]
     n = len(names)
     given = {p.name: p.division for p in players if p.division}
     division_names, division = factorise([results[k].division for k in kept],
@@ -140,6 +156,7 @@ def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_d
         n_input=len(results), division=division, division_names=tuple(division_names),
         given_home=np.fromiter((code[given[x]] if x in given else -1 for x in names), np.int64, n),
         starting_level=np.array([float((starting_levels or {}).get(d, 0.0)) for d in division_names]),
+        pa=pa if dbl.any() else None, pb=pb if dbl.any() else None,
     )
 
 
@@ -151,6 +168,13 @@ def training_pairs(walk: Walk, stop: int, half_life_days: float) -> Pairs:
     n = walk.seen(stop)
     age = (walk.day[stop - 1] - walk.day[:stop]) if stop else np.zeros(0)
     w = age_weights(age, half_life_days)
+    doubles = walk.doubles[:stop]
+    table = None
+    if doubles.any():  # doubles rows by pair of sides; their (a, b) pair gets none of their games
+        table = aggregate(walk.a[:stop][doubles], walk.b[:stop][doubles], walk.games_a[:stop][doubles],
+                          walk.games_b[:stop][doubles], n, w[doubles], walk.pa[:stop][doubles],
+                          walk.pb[:stop][doubles]).doubles
+        w = np.where(doubles, 0.0, w)
     first_is_i = walk.a[:stop] < walk.b[:stop]
     won_lo = np.where(first_is_i, walk.games_a[:stop], walk.games_b[:stop]) * w
     won_hi = np.where(first_is_i, walk.games_b[:stop], walk.games_a[:stop]) * w
@@ -158,7 +182,7 @@ def training_pairs(walk: Walk, stop: int, half_life_days: float) -> Pairs:
     won_i = np.bincount(walk.pair[:stop], won_lo, m)
     won_j = np.bincount(walk.pair[:stop], won_hi, m)
     met = walk.pair_first < stop
-    return Pairs(n, walk.pair_i[met], walk.pair_j[met], won_i[met], won_j[met])
+    return Pairs(n, walk.pair_i[met], walk.pair_j[met], won_i[met], won_j[met], table)
 
 
 class Homes:
@@ -180,8 +204,9 @@ class Homes:
     def at(self, stop: int) -> np.ndarray:
         """Home division (index) of players ``0 .. walk.seen(stop) - 1``."""
         w, lo = self.walk, self.done
-        np.maximum.at(self.latest, w.a[lo:stop], self.key[lo:stop])
-        np.maximum.at(self.latest, w.b[lo:stop], self.key[lo:stop])
+        for seat in (w.a, w.b) if w.pa is None else (w.a, w.b, w.pa, w.pb):  # doubles partners too
+            sat = seat[lo:stop] >= 0
+            np.maximum.at(self.latest, seat[lo:stop][sat], self.key[lo:stop][sat])
         self.done = stop
         n = w.seen(stop)
         home = w.division[self.latest[:n] % max(len(w.day), 1)]
@@ -238,37 +263,40 @@ def walk_steps(walk: Walk, settings: Settings, cancel, gtol: float, predictive: 
 
 def _predict_step(walk: Walk, out: StepOutput, step: slice, pairs: Pairs, r, level, home, mu, prior_sd: float,
                   few_games: float, levels: Levels | None, predictive: bool) -> None:
-    """Fill ``out`` for the matches of ``step`` from the step's fit."""
-    n = pairs.n_players
-    a, b = walk.a[step], walk.b[step]
-    new_a, new_b = a >= n, b >= n
+    """Fill ``out`` for the matches of ``step`` from the step's fit.
 
-    def division_of(idx, new):
-        given = walk.given_home[idx]
-        newcomer = np.where(given >= 0, given, walk.division[step])
-        return np.where(new, newcomer, home[np.minimum(idx, max(n - 1, 0))])
-
-    div_a, div_b = division_of(a, new_a), division_of(b, new_b)
-
-    def strength(idx, new, div):
-        return np.where(new, mu[idx] + level[div], r[np.minimum(idx, max(n - 1, 0))])
-
-    out.mean[step] = strength(a, new_a, div_a) - strength(b, new_b, div_b)
-    out.cross[step] = div_a != div_b
+    Each seat (side A, side B, and in doubles both partners, each counted at half) adds its strength to
+    the difference: a seen player's fitted ``r``, a newcomer's ``mu + L_d``.  A match is cross-division
+    when the divisions' levels do not cancel in the difference.
+    """
+    n, m = pairs.n_players, step.stop - step.start
+    half = np.where(walk.doubles[step], 0.5, 1.0)
+    seats = [(walk.a[step], half), (walk.b[step], -half)]
+    if walk.pa is not None:
+        seats += [(walk.pa[step], half), (walk.pb[step], -half)]
     games = pairs.games_per_player()
-    played = lambda idx, new: np.where(new, 0.0, games[np.minimum(idx, max(n - 1, 0))])  # noqa: E731
-    out.few[step] = np.minimum(played(a, new_a), played(b, new_b)) < few_games
+    mean, least, extra = np.zeros(m), np.full(m, np.inf), np.zeros(m)
+    level_sum = np.zeros((m, len(level)))
+    rows, cols, vals = [], [], []
+    for idx, coef in seats:
+        sat = idx >= 0
+        new = sat & (idx >= n)
+        seen = np.clip(idx, 0, max(n - 1, 0))
+        given = walk.given_home[np.maximum(idx, 0)]
+        div = np.where(new, np.where(given >= 0, given, walk.division[step]), home[seen])
+        mean += np.where(sat, coef * np.where(new, mu[np.maximum(idx, 0)] + level[div], r[seen]), 0.0)
+        least = np.where(sat, np.minimum(least, np.where(new, 0.0, games[seen])), least)
+        np.add.at(level_sum, (np.flatnonzero(sat), div[sat]), coef[sat])
+        extra += np.where(new, coef**2 * prior_sd**2, 0.0)  # a newcomer's own deviation
+        use = sat & (~new | (levels is not None))  # a newcomer's coefficient sits on their level (free levels)
+        rows.append(np.flatnonzero(use))
+        cols.append(np.where(new, n + div, idx)[use])
+        vals.append(coef[use])
+    out.mean[step], out.few[step] = mean, least < few_games
+    out.cross[step] = np.any(np.abs(level_sum) > 1e-12, axis=1)
     if not predictive:
         return
-    H = LaplacianPattern(pairs).matrix(pair_curvature(pairs, r), prior_sd)
-    size = n
-    if levels is not None:
-        H, size = joint_hessian(H, levels, prior_sd), n + len(levels.mean)
-    rows = np.arange(len(a))
-    # A seen side's coefficient sits on its strength; a newcomer's on their division's level (free levels only).
-    col_a, col_b = np.where(new_a, n + div_a, a), np.where(new_b, n + div_b, b)
-    use_a, use_b = ~new_a | (levels is not None), ~new_b | (levels is not None)
-    C = sp.csr_matrix((np.r_[np.ones(use_a.sum()), -np.ones(use_b.sum())],
-                       (np.r_[rows[use_a], rows[use_b]], np.r_[col_a[use_a], col_b[use_b]])),
-                      shape=(len(a), max(size, 1)))
-    out.var[step] = contrast_variance(H, C) + prior_sd**2 * (new_a.astype(float) + new_b)
+    H = hessian(pairs, r, prior_sd, levels)
+    C = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                      shape=(m, max(H.shape[0], 1)))
+    out.var[step] = contrast_variance(H, C) + extra

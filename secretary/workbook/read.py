@@ -17,6 +17,7 @@ from secretary.workbook.cells import SheetCells
 from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.dates import parse_date
 from secretary.workbook.names import MAX_NAME_LENGTH, CloseIndex, Mention, clean, merge_aliases, name_key, resolve
+from secretary.workbook.partners import PARTNERS, SEATS, seat_faults
 
 from secretary.workbook.state import read_state, state_from_rows
 
@@ -430,6 +431,8 @@ class _Row:
     games_b: int
     event: str
     void: bool
+    pa: str = ""  # partners as written ("" in a singles row)
+    pb: str = ""
 
 
 def _read_results(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> list[_Row]:
@@ -468,17 +471,16 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
               "Write the division (or the event, like 'Open night') where the match was played.", blank=True)
     elif len(division) > MAX_NAME_LENGTH:
         fault("division", division, _too_long(division, "a division's"), "Write the division's name alone in the cell.")
-    players = []
-    for key in ("player_a", "player_b"):
+    spellings = {}
+    for key in [k for k in SEATS if k in values]:
         spelling = str(values[key]).strip() if values[key] is not None else ""
-        players.append(spelling)
-        if not spelling:
+        spellings[key] = spelling
+        if not spelling and key not in PARTNERS:
             fault(key, "", "the player's name is blank", "Write the player's name.", blank=True)
         elif len(spelling) > MAX_NAME_LENGTH:
             fault(key, spelling, _too_long(spelling), "Write the player's name alone in the cell.")
-    if players[0] and players[1] and name_key(players[0]) == name_key(players[1]):
-        fault("player_b", values["player_b"], "a player cannot play against themself",
-              "Check the two names.")
+    for key, found, problem, fix in seat_faults(spellings, {k: sheet.header(k) for k in SEATS}, name_key):
+        fault(key, found, problem, fix, blank=not found and key in sheet.columns)
     games = []
     for key in ("games_a", "games_b"):
         number, wrong = whole_number(values[key])
@@ -498,7 +500,8 @@ def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, read
               "Write the real score, or start the Note with 'void' to keep the row unrated.")
     if not ok:
         return None
-    return _Row(row, date, division, players[0], players[1], games[0], games[1], clean(values.get("event")), void)
+    return _Row(row, date, division, spellings["player_a"], spellings["player_b"], games[0], games[1],
+                clean(values.get("event")), void, spellings.get("partner_a", ""), spellings.get("partner_b", ""))
 
 
 # ----------------------------------------------------------------- Fixtures
@@ -527,10 +530,10 @@ def _read_fixtures(sheet: _Sheet | None, settings: Settings, reader: _Reader) ->
                 reader.note_blank(sheet, row, key, reader.add(
                     "error", name, row, sheet.header(key), "", "the player's name is blank",
                     "Write the player's name, or delete the row."))
-        if ok and name_key(values["player_a"]) == name_key(values["player_b"]):
+        spellings = {key: clean(values[key]) for key in SEATS if key in values}
+        for key, found, problem, fix in seat_faults(spellings, {k: sheet.header(k) for k in SEATS}, name_key):
             ok = False
-            reader.add("error", name, row, sheet.header("player_b"), values["player_b"],
-                       "a player cannot play against themself", "Check the two names.")
+            reader.add("error", name, row, sheet.header(key), found, problem, fix)
         races = [values.get("race_a"), values.get("race_b")]
         parsed_races: list[int | None] = [None, None]
         if not all(_blank(r) for r in races):
@@ -616,22 +619,24 @@ def _link_names(rows: list[_Row], players: list[Player], fixture_rows: list[tupl
     mentions = []
     if results_sheet is not None:
         col_a, col_b = results_sheet.header("player_a"), results_sheet.header("player_b")
+        partner_a, partner_b = results_sheet.header("partner_a"), results_sheet.header("partner_b")
         for r in rows:
             mentions.append(Mention(r.a, r.row, col_a))
             mentions.append(Mention(r.b, r.row, col_b))
+            if r.pa:
+                mentions.append(Mention(r.pa, r.row, partner_a))
+                mentions.append(Mention(r.pb, r.row, partner_b))
     display, counts, problems = resolve(mentions, known, schema.RESULTS.name)
     reader.problems.extend(problems)
     divisions = _division_spellings(r.division for r in rows)
     results = []
     for r in rows:
         a, b = display[name_key(r.a)], display[name_key(r.b)]
-        if a == b:  # two spellings that "Also known as" merges into one player
-            reader.add("error", schema.RESULTS.name, r.row, results_sheet.header("player_b"), r.b,
-                       f"'{r.a}' and '{r.b}' are the same player ({a}) by 'Also known as'",
-                       "Check the two names.")
+        pa, pb = (display[name_key(r.pa)], display[name_key(r.pb)]) if r.pa else ("", "")
+        if _merged_by_aliases(r, (a, pa, b, pb), results_sheet, reader):
             continue
         results.append(Result(r.date, a, b, r.games_a, r.games_b, divisions[name_key(r.division)],
-                              r.event, r.void, r.row))
+                              r.event, r.void, r.row, pa, pb))
     first_row = {}
     for mention in mentions:
         first_row.setdefault(display[name_key(mention.spelling)], mention)
@@ -643,6 +648,21 @@ def _link_names(rows: list[_Row], players: list[Player], fixture_rows: list[tupl
                for p in players]
     fixtures = _link_fixtures(fixture_rows, known, display, sheets.get(schema.FIXTURES.name), reader)
     return tuple(results), tuple(players), fixtures
+
+
+def _merged_by_aliases(r: _Row, names, sheet: _Sheet, reader: _Reader) -> bool:
+    """Two spellings of one row that "Also known as" merges into one player: an error naming the cell."""
+    spelled = dict(zip(SEATS, (r.a, r.pa, r.b, r.pb)))
+    seen: dict[str, str] = {}
+    for key, name in zip(SEATS, names):
+        if name and name in seen:
+            first = seen[name]
+            reader.add("error", schema.RESULTS.name, r.row, sheet.header(key), spelled[key],
+                       f"'{spelled[first]}' and '{spelled[key]}' are the same player ({name}) by 'Also known as'",
+                       "Check the two names." if not r.pa else "Check the four names.")
+            return True
+        seen[name] = key
+    return False
 
 
 def _division_spellings(spellings) -> dict[str, str]:
@@ -701,7 +721,7 @@ def _link_fixtures(fixture_rows, known, display, sheet: _Sheet | None, reader: _
     fixtures = []
     for row, values in fixture_rows:
         names = []
-        for key in ("player_a", "player_b"):
+        for key in [k for k in SEATS if clean(values.get(k))]:
             spelling = clean(values[key])
             name = everyone.get(name_key(spelling))
             if name is None and len(spelling) > MAX_NAME_LENGTH:
@@ -715,7 +735,8 @@ def _link_fixtures(fixture_rows, known, display, sheet: _Sheet | None, reader: _
                            f"'{shown(spelling)}' has no results and is not in Players{hint}",
                            "Check the spelling; a new player's chances are only a guess.")
             names.append(spelling if name is None else name)
-        fixtures.append(Fixture(values["date"], names[0], names[1], values["race_a"], values["race_b"], row))
+        a, pa, b, pb = names if len(names) == 4 else (names[0], "", names[1], "")
+        fixtures.append(Fixture(values["date"], a, b, values["race_a"], values["race_b"], row, pa, pb))
     return tuple(fixtures)
 
 
@@ -727,10 +748,11 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
         return
     seen: dict[tuple, int] = {}
     for r in results:
-        sides = sorted(((r.player_a.casefold(), r.games_a), (r.player_b.casefold(), r.games_b)))
+        sides = sorted(((tuple(sorted(name.casefold() for name in side)), games)
+                        for side, games in ((r.side_a, r.games_a), (r.side_b, r.games_b))))
         key = (r.date, tuple(sides), r.division.casefold(), r.void)
         if key in seen:
-            reader.add("warning", sheet.spec.name, r.row, None, f"{r.player_a} {r.games_a}-{r.games_b} {r.player_b}",
+            reader.add("warning", sheet.spec.name, r.row, None, f"{r.label_a} {r.games_a}-{r.games_b} {r.label_b}",
                        f"the same result as row {seen[key]}",
                        "Delete one of the two rows if the match was entered twice; "
                        "if they really played twice that day, nothing to do.")
