@@ -228,7 +228,8 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
 
     _step(progress, cancel, "Writing the sheets", 0.75)
     if graft_it:
-        wb, target, lost = graft.load_tool_sheets(path), path, []
+        # Only the sheets the writers read back: the others are all replaced.
+        wb, target, lost = graft.load_tool_sheets(path, cells=(schema.HISTORY_SHEET, schema.LOG_SHEET)), path, []
     else:
         wb, target, lost = _full_target(path, Path(out) if out else None)
     companion = bool(lost) and out is None
