@@ -105,7 +105,7 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
     results were all removed) is not published: one state per player, never ranked at a starting rating
     and listed as no longer rated at once."""
     by_name = {c.name: c for c in breakdown.players}
-    games, wins, ratings, sds = fit.games, fit.wins, fit.ratings, fit.sds
+    games, wins, ratings, sds, doubles = fit.games, fit.wins, fit.ratings, fit.sds, fit.doubles_games
     unrated = set(fit.diagnosis.no_games.tolist())
     out = []
     for k, name in enumerate(fit.names):
@@ -117,7 +117,7 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
             name=name, division=fit.group_names[fit.group[k]], rating=float(ratings[k]), sd=float(sds[k]),
             games=float(games[k]), wins=float(wins[k]), last_played=fit.last_played[k],
             change=None if is_new else float(change.change), is_new=is_new,
-            division_from=fit.home_rule[k] if fit.home_rule else ""))
+            division_from=fit.home_rule[k] if fit.home_rule else "", doubles_games=float(doubles[k])))
     return tuple(out)
 
 
@@ -228,7 +228,8 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
 
     _step(progress, cancel, "Writing the sheets", 0.75)
     if graft_it:
-        wb, target, lost = graft.load_tool_sheets(path), path, []
+        # Only the sheets the writers read back: the others are all replaced.
+        wb, target, lost = graft.load_tool_sheets(path, cells=(schema.HISTORY_SHEET, schema.LOG_SHEET)), path, []
     else:
         wb, target, lost = _full_target(path, Path(out) if out else None)
     companion = bool(lost) and out is None

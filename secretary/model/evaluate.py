@@ -13,6 +13,11 @@ predictions are scored per game:
 Each fit starts from the previous step's optimum (players first seen since
 get their prior mean), so a walk costs a few Newton steps per week.
 
+Doubles games (both partners given) are predicted from the sides' mean
+strengths, ``d = (r_a + r_a2 - r_b - r_b2) / 2`` (variance ``x^T H^-1 x``),
+fitted jointly with the singles, and scored in all the totals and on their own
+(``Evaluation.doubles``).
+
 Predictive chances, as the secretary sees them: the difference ``d = r_a -
 r_b`` has the Laplace posterior ``N(r_a - r_b, c^T H^-1 c)`` (``c = e_a -
 e_b``, ``H`` the step's Hessian; a player not yet seen adds the prior's
@@ -32,12 +37,13 @@ from dataclasses import dataclass
 from typing import Sequence
 
 import numpy as np
+import scipy.sparse as sp
 from scipy.special import expit, log_expit
 from scipy.stats import chi2
 
 from secretary.errors import Cancelled
 from secretary.model.fit import fit_map
-from secretary.model.pairs import Pairs, age_weights
+from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, Result, Settings
 from secretary.model.races import predictive_game_chance, predictive_race_chance, race_chance
 from secretary.model.scale import points_per_logodds, to_strength
@@ -86,12 +92,20 @@ class Walk:
     first_date: dt.date | None
     step_days: int
     n_input: int
+    pa: np.ndarray | None = None  # each side's second player in a doubles match, -1 in singles (None: no doubles)
+    pb: np.ndarray | None = None
 
     def seen(self, stop: int) -> int:
         """Number of players who appear in the first ``stop`` matches."""
         if stop == 0:
             return 0
-        return int(max(self.a[:stop].max(), self.b[:stop].max())) + 1
+        partners = (self.pa[:stop].max(), self.pb[:stop].max()) if self.pa is not None else ()
+        return int(max(self.a[:stop].max(), self.b[:stop].max(), *partners)) + 1
+
+    @property
+    def doubles(self) -> np.ndarray:
+        """Which sorted matches are doubles."""
+        return np.zeros(len(self.a), bool) if self.pa is None else self.pa >= 0
 
 
 def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_days: int = 7) -> Walk:
@@ -112,10 +126,14 @@ def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_d
     index: dict[str, int] = {}
     a = np.empty(len(kept), np.int64)
     b = np.empty(len(kept), np.int64)
+    pa, pb = np.full(len(kept), -1, np.int64), np.full(len(kept), -1, np.int64)
     for m, k in enumerate(kept):
         res = results[k]
         a[m] = index.setdefault(res.player_a, len(index))
         b[m] = index.setdefault(res.player_b, len(index))
+        if res.is_doubles:
+            pa[m] = index.setdefault(res.partner_a, len(index))
+            pb[m] = index.setdefault(res.partner_b, len(index))
     n = len(index)
     first = results[kept[0]].date if kept else None
     day = np.fromiter(((results[k].date - first).days for k in kept), np.int64, len(kept))
@@ -144,6 +162,8 @@ def prepare(results: Sequence[Result], *, players: Sequence[Player] = (), step_d
         first_date=first,
         step_days=step_days,
         n_input=len(results),
+        pa=pa if np.any(pa >= 0) else None,
+        pb=pb if np.any(pa >= 0) else None,
     )
 
 
@@ -155,6 +175,13 @@ def training_pairs(walk: Walk, stop: int, half_life_days: float) -> Pairs:
     n = walk.seen(stop)
     age = (walk.day[stop - 1] - walk.day[:stop]) if stop else np.zeros(0)
     w = age_weights(age, half_life_days)
+    doubles = walk.doubles[:stop]
+    table = None
+    if doubles.any():  # doubles rows by pair of sides; their (a, b) pair gets none of their games
+        table = aggregate(walk.a[:stop][doubles], walk.b[:stop][doubles], walk.games_a[:stop][doubles],
+                          walk.games_b[:stop][doubles], n, w[doubles], walk.pa[:stop][doubles],
+                          walk.pb[:stop][doubles]).doubles
+        w = np.where(doubles, 0.0, w)
     first_is_i = walk.a[:stop] < walk.b[:stop]
     won_lo = np.where(first_is_i, walk.games_a[:stop], walk.games_b[:stop]) * w
     won_hi = np.where(first_is_i, walk.games_b[:stop], walk.games_a[:stop]) * w
@@ -162,7 +189,7 @@ def training_pairs(walk: Walk, stop: int, half_life_days: float) -> Pairs:
     won_i = np.bincount(walk.pair[:stop], won_lo, m)
     won_j = np.bincount(walk.pair[:stop], won_hi, m)
     met = walk.pair_first < stop
-    return Pairs(n, walk.pair_i[met], walk.pair_j[met], won_i[met], won_j[met])
+    return Pairs(n, walk.pair_i[met], walk.pair_j[met], won_i[met], won_j[met], table)
 
 
 @dataclass(frozen=True)
@@ -236,6 +263,8 @@ class Evaluation:
     predictive : per-game scores of the predictive chances (None when not computed)
     race, predictive_race : per-race scores of the point and predictive race chances
     p_predictive : A's predictive chance per game for each input result (NaN as for ``p``)
+    doubles, doubles_predictive : per-game point and predictive scores of the doubles games alone
+        (None without doubles; the totals above include them)
     """
 
     settings: Settings
@@ -255,6 +284,8 @@ class Evaluation:
     race: Scores | None = None
     predictive_race: Scores | None = None
     p_predictive: np.ndarray | None = None
+    doubles: Scores | None = None
+    doubles_predictive: Scores | None = None
 
     @property
     def score(self) -> float:
@@ -308,11 +339,25 @@ def game_scores(p, games_a, games_b) -> tuple[float, float]:
     return float(loss), float(brier)
 
 
-def difference_variance(pairs: Pairs, r, prior_sd: float, a, b) -> np.ndarray:
-    """Posterior variance of ``r_a - r_b`` per match (log-odds squared); a side not yet seen adds ``prior_sd^2``."""
+def difference_variance(pairs: Pairs, r, prior_sd: float, a, b, pa=None, pb=None) -> np.ndarray:
+    """Posterior variance of ``r_a - r_b`` per match (log-odds squared); a side not yet seen adds ``prior_sd^2``.
+
+    With partners (``pa``, ``pb``, -1 in singles) a doubles match's variance is that of
+    ``(r_a + r_pa - r_b - r_pb) / 2``; a player not yet seen adds ``prior_sd^2 / 4``.
+    """
     n = pairs.n_players
-    var = contrast_variance(hessian(pairs, r, prior_sd), difference_coefficients(a, b, n)) if n else np.zeros(len(a))
-    return var + prior_sd**2 * ((a >= n).astype(float) + (b >= n))
+    if pa is None or not np.any(pa >= 0):
+        var = contrast_variance(hessian(pairs, r, prior_sd), difference_coefficients(a, b, n)) if n else np.zeros(len(a))
+        return var + prior_sd**2 * ((a >= n).astype(float) + (b >= n))
+    half = np.where(pa >= 0, 0.5, 1.0)
+    rows = np.tile(np.arange(len(a)), 4)
+    who = np.concatenate([a, pa, b, pb])
+    coef = np.concatenate([half, half, -half, -half])
+    seated = who >= 0
+    known = seated & (who < n)
+    coefficients = sp.csr_matrix((coef[known], (rows[known], who[known])), shape=(len(a), max(n, 1)))
+    var = contrast_variance(hessian(pairs, r, prior_sd), coefficients) if n else np.zeros(len(a))
+    return var + prior_sd**2 * np.bincount(rows[seated & ~known], coef[seated & ~known] ** 2, len(a))
 
 
 def _walk(walk: Walk, settings: Settings, cancel, gtol: float, predictive: bool):
@@ -339,9 +384,17 @@ def _walk(walk: Walk, settings: Settings, cancel, gtol: float, predictive: bool)
         games = np.concatenate([pairs.games_per_player(), np.zeros(n_total - n)])
         a, b = walk.a[start:stop], walk.b[start:stop]
         mean[start:stop] = full[a] - full[b]
+        pa = pb = None
+        if walk.pa is not None:
+            pa, pb = walk.pa[start:stop], walk.pb[start:stop]
+            dbl = pa >= 0
+            mean[start:stop][dbl] = (full[a[dbl]] + full[pa[dbl]] - full[b[dbl]] - full[pb[dbl]]) / 2
         if predictive:
-            var[start:stop] = difference_variance(pairs, r, prior_sd, a, b)
-        few[start:stop] = np.minimum(games[a], games[b]) < settings.few_games
+            var[start:stop] = difference_variance(pairs, r, prior_sd, a, b, pa, pb)
+        least = np.minimum(games[a], games[b])
+        if pa is not None:
+            least = np.where(dbl, np.minimum(least, np.minimum(games[pa], games[pb])), least)
+        few[start:stop] = least < settings.few_games
         steps += 1
     return mean, var, few, steps
 
@@ -395,6 +448,9 @@ def evaluate(
     few_scores = scores(p_sorted[done][few], ga[few], gb[few])
     pred_sorted = predictive_game_chance(mean, var) if predictive else np.full(len(mean), np.nan)
     race, predictive_race = _race_scores(mean[done], var[done], ga, gb)
+    dbl = walk.doubles[done]
+    doubles = scores(p_sorted[done][dbl], ga[dbl], gb[dbl]) if dbl.any() else None
+    doubles_predictive = scores(pred_sorted[done][dbl], ga[dbl], gb[dbl]) if dbl.any() and predictive else None
 
     def per_input(values):
         out = np.full(walk.n_input, np.nan)
@@ -410,4 +466,5 @@ def evaluate(
         p=per_input(p_sorted), uncertain=uncertain,
         predictive=scores(pred_sorted[done], ga, gb) if predictive else None,
         race=race, predictive_race=predictive_race, p_predictive=per_input(pred_sorted) if predictive else None,
+        doubles=doubles, doubles_predictive=doubles_predictive,
     )

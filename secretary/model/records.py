@@ -13,25 +13,8 @@ from functools import lru_cache
 from typing import Mapping
 
 
-@dataclass(frozen=True)
-class Result:
-    """One match between two sides: the games (racks/frames) each side won.
-
-    A singles match has one player a side; a doubles match (both partners given)
-    has two, and a side's strength is the mean of its players' strengths.
-    """
-
-    date: dt.date
-    player_a: str
-    player_b: str
-    games_a: int
-    games_b: int
-    division: str = ""
-    event: str = ""
-    void: bool = False  # kept in the workbook but not rated
-    row: int = 0  # row in the Results sheet (0 = not from a sheet)
-    partner_a: str = ""  # side A's second player in a doubles match ("" = singles)
-    partner_b: str = ""  # side B's second player
+class _Sides:
+    """The two sides of a match or fixture: one player each in singles, two in doubles (both partners given)."""
 
     @property
     def is_doubles(self) -> bool:
@@ -50,6 +33,36 @@ class Result:
     def players(self) -> tuple[str, ...]:
         """Everyone in the match, side A first."""
         return self.side_a + self.side_b
+
+    @property
+    def label_a(self) -> str:
+        """Side A as printed: "Ann Pike" or "Ann Pike & Cy Dunn"."""
+        return " & ".join(self.side_a)
+
+    @property
+    def label_b(self) -> str:
+        return " & ".join(self.side_b)
+
+
+@dataclass(frozen=True)
+class Result(_Sides):
+    """One match between two sides: the games (racks/frames) each side won.
+
+    A singles match has one player a side; a doubles match (both partners given)
+    has two, and a side's strength is the mean of its players' strengths.
+    """
+
+    date: dt.date
+    player_a: str
+    player_b: str
+    games_a: int
+    games_b: int
+    division: str = ""
+    event: str = ""
+    void: bool = False  # kept in the workbook but not rated
+    row: int = 0  # row in the Results sheet (0 = not from a sheet)
+    partner_a: str = ""  # side A's second player in a doubles match ("" = singles)
+    partner_b: str = ""  # side B's second player
 
 
 @dataclass(frozen=True)
@@ -74,8 +87,8 @@ class Division:
 
 
 @dataclass(frozen=True)
-class Fixture:
-    """A match still to be played; races are optional."""
+class Fixture(_Sides):
+    """A match still to be played (singles, or doubles with both partners); races are optional."""
 
     date: dt.date | None
     player_a: str
@@ -83,6 +96,8 @@ class Fixture:
     race_a: int | None = None
     race_b: int | None = None
     row: int = 0
+    partner_a: str = ""
+    partner_b: str = ""
 
 
 # Defaults chosen by walk-forward evaluation (see README, "How good are the
@@ -232,6 +247,7 @@ class PlayerRating:
     last_played: dt.date | None
     change: float | None = None  # points since the previous update; None = new
     is_new: bool = False  # first published this update
+    doubles_games: float = 0.0  # age-weighted doubles games played (included in ``games``)
     division_from: str = ""  # how the division was found: one of HOME_RULES ("" when not known)
 
 
