@@ -41,7 +41,7 @@ import datetime as dt
 import math
 import sys
 import shutil
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -135,11 +135,13 @@ class Row:
     games_b: int
     event: str
     note: str = ""
+    partner_a: str = ""  # a doubles frame: each side's second player
+    partner_b: str = ""
 
     def cells(self) -> tuple:
         """The row's cells in the Results sheet's column order."""
-        return (self.date, self.division, self.player_a, self.player_b,
-                self.games_a, self.games_b, self.event, self.note)
+        return tuple((getattr(self, c.key) or None) if c.key.startswith("partner") else getattr(self, c.key)
+                     for c in schema.RESULTS.columns)
 
 
 @dataclass
@@ -353,9 +355,11 @@ def add_wrinkles(rows: list[Row]) -> list[Row]:
     rows[i] = Row(r.date, r.division, r.player_a, r.player_b, 2, 1, r.event, VOID_NOTE)
     name, alias = ALIAS
     i = first(lambda r: r.player_a == name, 200)
-    rows[i] = Row(*(alias if c == name else c for c in rows[i].cells()))
+    rows[i] = replace(rows[i], player_a=alias)
     i = first(lambda r: LOWER_CASE_NAME in (r.player_a, r.player_b), 300)
-    rows[i] = Row(*(c.lower() if c == LOWER_CASE_NAME else c for c in rows[i].cells()))
+    r = rows[i]
+    rows[i] = replace(r, **{side: getattr(r, side).lower() for side in ("player_a", "player_b")
+                            if getattr(r, side) == LOWER_CASE_NAME})
     return rows
 
 

@@ -13,6 +13,7 @@ from pathlib import Path
 
 from secretary import __version__
 from secretary.errors import SecretaryError, WorkbookProblems
+from secretary.model.sentences import plural
 from secretary.threads import limit_native_threads
 
 EXIT_DONE, EXIT_PROBLEMS, EXIT_USAGE, EXIT_BUG = 0, 1, 2, 3
@@ -91,7 +92,7 @@ def summary(outcome) -> list[str]:
         lines += [f"    - {line}" for line in watching]
     lines += [f"  Note: {note}" for note in outcome.notes]
     if book.warnings:
-        lines.append(f"  {len(book.warnings)} warning(s); see the Problems sheet:")
+        lines.append(f"  {plural(len(book.warnings), 'warning')}; see the Problems sheet:")
         lines += [f"    - {w}" for w in book.warnings[:5]]
         if len(book.warnings) > 5:
             lines.append(f"    ... and {len(book.warnings) - 5} more")
@@ -114,11 +115,11 @@ def _print_problems(problems, stream=None) -> None:
     errors = [p for p in problems if p.is_error]
     warnings = [p for p in problems if not p.is_error]
     if errors:
-        print(f"{len(errors)} error(s) to fix before the ratings can be updated:", file=stream)
+        print(f"{plural(len(errors), 'error')} to fix before the ratings can be updated:", file=stream)
         for p in errors:
             print(f"  - {p}", file=stream)
     if warnings:
-        print(f"{len(warnings)} warning(s) (the update can go ahead):", file=stream)
+        print(f"{plural(len(warnings), 'warning')} (the update can go ahead):", file=stream)
         for p in warnings:
             print(f"  - {p}", file=stream)
 
@@ -227,6 +228,14 @@ def cmd_evaluate(args) -> int:
     for label, sc in (("per game, predictive", ev.predictive), ("per game, point", ev),
                       ("per race, predictive", ev.predictive_race), ("per race, point", ev.race)):
         print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
+    if ev.cross.count:
+        print(f"  Cross-division games (the two players' home divisions differ): {ev.cross.count:,.0f} of the games.")
+        for label, sc in (("per game, predictive", ev.predictive_cross), ("per game, point", ev.cross)):
+            print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
+    if ev.doubles is not None:
+        print(f"  Doubles alone ({ev.doubles.count:,.0f} games, included above):")
+        for label, sc in (("per game, predictive", ev.doubles_predictive), ("per game, point", ev.doubles)):
+            print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
     if ev.few_games:
         print(f"  Games involving a player with few games: {ev.few_games:,.0f}, point log-loss {ev.few_log_loss:.4f}.")
     for what, unit, bands in (("each game", "games", ev.predictive.calibration),
@@ -246,10 +255,9 @@ def cmd_tune(args) -> int:
 
     t = tune_workbook(args.workbook, apply=args.apply, progress=ProgressBar())
     old, new = t.old_settings, t.settings
-    print(f"Current settings: half-life {old.half_life_days:g} days, skill spread {old.skill_spread:g} points: "
-          f"log-loss {t.old_score:.4f} per game (predictive chances).")
-    print(f"Best found:       half-life {new.half_life_days:g} days, skill spread {new.skill_spread:g} points: "
-          f"log-loss {t.new_score:.4f} per game (predictive chances).")
+    for label, st, score in (("Current settings:", old, t.old_score), ("Best found:      ", new, t.new_score)):
+        print(f"{label} half-life {st.half_life_days:g} days, skill spread {st.skill_spread:g} points, "
+              f"division spread {st.division_spread:g} points: log-loss {score:.4f} per game (predictive chances).")
     if not t.improved:
         print("The current settings are already the best found; nothing to change.")
     elif args.apply:

@@ -1,8 +1,8 @@
 """Small, quick loaders for the real result sets in the shared data folder beside the repository (test material only).
 
 Badminton: world-tour men's singles 2018-2021 (mirror of a public dataset by
-SanderP99, CC0); tennis: professional men's singles 2019 (JeffSackmann/tennis_atp,
-CC BY-NC-SA 4.0).  Nothing derived from them is shipped; docs/real-data.md records what the
+SanderP99, CC0); tennis: professional men's singles 2019 and doubles 2018-2019
+(JeffSackmann/tennis_atp, CC BY-NC-SA 4.0).  Nothing derived from them is shipped; docs/real-data.md records what the
 tests rely on.
 """
 from __future__ import annotations
@@ -88,11 +88,15 @@ def sets_won(score: str) -> tuple[int, int] | None:
     return (won[0], won[1]) if won[0] > won[1] else None
 
 
-@lru_cache(maxsize=1)
-def tennis() -> tuple[Result, ...]:
-    """Men's singles 2019, three tiers as divisions; games won = sets won."""
+@lru_cache(maxsize=2)
+def tennis(by_file: bool = False) -> tuple[Result, ...]:
+    """Men's singles 2019, three tiers as divisions; games won = sets won.
+
+    The tier is the event's level (qualifying rows of top-tier events count as top tier), or with ``by_file``
+    the file a row comes from (qualifying rows then count in the second tier, where those players play).
+    """
     out = []
-    for file in TENNIS_FILES:
+    for file, tier in zip(TENNIS_FILES, ("Top", "Second", "Third")):
         with open(need(TENNIS / file), newline="", encoding="utf-8") as fh:
             for row in csv.DictReader(fh):
                 sets = sets_won(row["score"])
@@ -100,7 +104,8 @@ def tennis() -> tuple[Result, ...]:
                     continue
                 d = row["tourney_date"]
                 out.append(Result(dt.date(int(d[:4]), int(d[4:6]), int(d[6:])), row["winner_name"],
-                                  row["loser_name"], sets[0], sets[1], TENNIS_TIERS[row["tourney_level"]]))
+                                  row["loser_name"], sets[0], sets[1],
+                                  tier if by_file else TENNIS_TIERS[row["tourney_level"]]))
     return tuple(out)
 
 
@@ -115,3 +120,25 @@ def write_results_workbook(results, path: Path) -> Path:
         ws.append([r.date, r.division, r.player_a, r.player_b, r.games_a, r.games_b])
     wb.save(path)
     return path
+
+
+TENNIS_DOUBLES_FILES = ("atp_matches_doubles_2018.csv", "atp_matches_doubles_2019.csv")
+
+
+@lru_cache(maxsize=1)
+def tennis_doubles() -> tuple[Result, ...]:
+    """Men's doubles 2018-2019 as doubles results (sets as games; a match tie-break written as its own
+    token, "(10-5)", counts as a set); unfinished rows and rows naming a player twice are skipped as bad
+    rows, as the data's README says."""
+    out = []
+    for file in TENNIS_DOUBLES_FILES:
+        with open(need(TENNIS / file), newline="", encoding="utf-8") as fh:
+            for row in csv.DictReader(fh):
+                sets = sets_won(" ".join(t.strip("()[]") if t[:1] in "([" else t for t in row["score"].split()))
+                names = [row[k].strip() for k in ("winner1_name", "winner2_name", "loser1_name", "loser2_name")]
+                if sets is None or not all(names) or len(set(names)) < 4:
+                    continue
+                d = row["tourney_date"]
+                out.append(Result(dt.date(int(d[:4]), int(d[4:6]), int(d[6:])), names[0], names[2], sets[0],
+                                  sets[1], partner_a=names[1], partner_b=names[3]))
+    return tuple(out)

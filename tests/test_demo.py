@@ -16,7 +16,8 @@ ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "demo"
 REAL_DATA = ROOT / ".." / "shared" / "data"
 FILES = ("league.xlsx", "new-week.csv", "true-skills.csv")
-RESULTS_HEADER = ["Date", "Division", "Player A", "Player B", "Games A", "Games B", "Event", "Note"]
+RESULTS_HEADER = ["Date", "Division", "Player A", "Player B", "Games A", "Games B", "Partner A", "Partner B", "Event",
+                  "Note"]
 TOP_THREE = ("Premier", "Division One", "Division Two")
 ISOLATED = "Valley"
 

@@ -65,7 +65,7 @@ from secretary.model.changes import DataChanges, all_new, compare_rows
 from secretary.model.league import LeagueFit, fit_league
 from secretary.model.pairs import Pairs, age_weights, aggregate
 from secretary.model.records import Player, PublishedState, Result, Settings
-from secretary.model.response import best_response, opponent_shares, split_partners, top_opponents
+from secretary.model.response import best_response, opponent_shares, top_opponents
 from secretary.model.scale import points_per_logodds, to_points, to_strength
 from secretary.model.sentences import Context, sentence, update_note
 
@@ -417,7 +417,6 @@ def explain_changes(
     parts = _parts(fit1, before, settings, index)
     to_i, to_j, to_seat = opponent_shares(fit1.pairs, parts.shifted, fit1.r, parts.shifted_mean, fit1.prior_sd)
     top = top_opponents(fit1.pairs, to_i * ppl, to_j * ppl, parts.opponents, names, to_seat * ppl)
-    top = split_partners(fit1.pairs, top, names)
     out, played_all = _player_changes(fit1, before, parts, published, settings, top)
     published_ratings = published.ratings if published is not None else {}
     removed_players = tuple(

@@ -10,6 +10,10 @@ r_B)``) are kept beside them.  The fair race is the race, each side between
 the shortest and the longest race, whose predictive chance is closest to one
 half.
 
+A doubles fixture compares the sides' mean strengths: ``d = x . r`` with
+``x = (e_A + e_A2 - e_B - e_B2) / 2`` and variance ``x^T H^-1 x`` (an unmet
+player adding ``prior variance / 4``).
+
 How sure a forecast is: the posterior SD of ``d``.  At ``FAR_OFF`` log-odds
 (about 100 points on the 400 scale) the per-game chance of an even match is
 only known to lie between about 35 % and 65 % (one SD): the forecast says the
@@ -83,7 +87,9 @@ def _index_and_games(fit: LeagueFit, name: str) -> tuple[int, float]:
 
 
 def _posteriors(fixtures: Sequence[Fixture], fit: LeagueFit):
-    """Per fixture: mean and variance of the difference, and each side's own variance (log-odds)."""
+    """Per fixture: mean and variance of the difference, and each player's own variance (log-odds)."""
+    if any(f.is_doubles for f in fixtures):
+        return _doubles_posteriors(fixtures, fit)
     n, m, prior_var = len(fit.names), len(fixtures), fit.prior_sd**2
     idx = np.array([[_index_and_games(fit, f.player_a)[0], _index_and_games(fit, f.player_b)[0]]
                     for f in fixtures], np.int64).reshape(m, 2)
@@ -96,18 +102,46 @@ def _posteriors(fixtures: Sequence[Fixture], fit: LeagueFit):
     var = fit.contrast_variance(coef) if n else np.zeros(3 * m)
     own = np.where(known, var[m:].reshape(2, m).T, prior_var)
     diff = var[:m] + prior_var * (~known).sum(axis=1)
-    return r[:, 0] - r[:, 1], diff, own
+    return r[:, 0] - r[:, 1], diff, [dict(zip(f.players, v)) for f, v in zip(fixtures, own.tolist())]
+
+
+def _doubles_posteriors(fixtures: Sequence[Fixture], fit: LeagueFit):
+    """``_posteriors`` with doubles among the fixtures: each player weighs ``+-1 / (players on the side)``."""
+    n, m, prior_var = len(fit.names), len(fixtures), fit.prior_sd**2
+    row, col, value, unmet = [], [], [], np.zeros(m)
+    mean = np.zeros(m)
+    seats = []
+    for k, f in enumerate(fixtures):
+        for side, sign in ((f.side_a, 1.0), (f.side_b, -1.0)):
+            for name in side:
+                c, idx = sign / len(side), _index_and_games(fit, name)[0]
+                seats.append((k, name, idx))
+                if idx < 0:
+                    unmet[k] += c * c * prior_var
+                else:
+                    row.append(k), col.append(idx), value.append(c)
+                    mean[k] += c * fit.r[idx]
+    known = [s for s in seats if s[2] >= 0]
+    own_rows = sp.csr_matrix((np.ones(len(known)), (np.arange(len(known)), [s[2] for s in known])),
+                             shape=(len(known), max(n, 1)))
+    coef = sp.vstack([sp.csr_matrix((value, (row, col)), shape=(m, max(n, 1))), own_rows]).tocsr()
+    var = fit.contrast_variance(coef) if n else np.zeros(m + len(known))
+    own: list[dict[str, float]] = [{} for _ in range(m)]
+    known_var = iter(var[m:].tolist())
+    for k, name, idx in seats:
+        own[k][name] = next(known_var) if idx >= 0 else prior_var
+    return mean, var[:m] + unmet, own
 
 
 def _forecast(fixture: Fixture, fit: LeagueFit, mean: float, var: float, side_var) -> FixtureForecast:
     settings = fit.settings
     race_a = int(fixture.race_a or settings.usual_race)
     race_b = int(fixture.race_b or settings.usual_race)
-    fair_a, fair_b = fair_race_predictive(mean, var, settings.longest_race, min(settings.shortest_race,
-                                                                                settings.longest_race))
-    games = {name: _index_and_games(fit, name)[1] for name in (fixture.player_a, fixture.player_b)}
+    fair_a, fair_b = fair_race_predictive(mean, var, settings.longest_race,
+                                          min(settings.shortest_race, settings.longest_race), settings.usual_race)
+    games = {name: _index_and_games(fit, name)[1] for name in fixture.players}
     sd = float(np.sqrt(max(var, 0.0)))
-    least = fixture.player_a if side_var[0] >= side_var[1] else fixture.player_b
+    least = max(fixture.players, key=lambda name: side_var[name])  # the first of equals
     p = float(expit(mean))
     return FixtureForecast(
         fixture=fixture,
@@ -119,7 +153,7 @@ def _forecast(fixture: Fixture, fit: LeagueFit, mean: float, var: float, side_va
         fair_race_b=fair_b,
         fair_chance=predictive_race_chance(mean, var, fair_a, fair_b),
         uncertain=bool(min(games.values()) < settings.few_games),
-        not_rated=tuple(name for name in (fixture.player_a, fixture.player_b) if games[name] <= 0),
+        not_rated=tuple(name for name in fixture.players if games[name] <= 0),
         point_game_chance=p,
         point_race_chance=float(race_chance(p, race_a, race_b)),
         difference_sd=sd,

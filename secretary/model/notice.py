@@ -80,6 +80,7 @@ class Notice:
     divisions: tuple[NoticeDivision, ...]
     removed: str  # a closing line about players no longer rated, or ""
     closing: tuple[str, ...] = CLOSING
+    doubles: str = ""  # the week's doubles results in one paragraph, or ""
     levels: tuple[DivisionLevel, ...] = ()  # the divisions' levels, strongest first (only when they are fitted)
     level_sentence: str = ""  # what "division level" means, in one plain sentence ("" without levels)
 
@@ -147,6 +148,19 @@ def _ranked_lines(ratings: Sequence[PlayerRating], changes: dict[str, "PlayerCha
     return tuple(lines)
 
 
+DOUBLES_SHOWN = 12  # doubles results listed on the board; the rest are counted
+
+
+def doubles_summary(rows: Iterable) -> str:
+    """The update's new doubles results in one paragraph ("" when there were none), oldest first."""
+    rows = sorted((r for r in rows if r.is_doubles and not r.void), key=lambda r: (r.date, r.row))
+    if not rows:
+        return ""
+    shown = [f"{r.label_a} {r.games_a}-{r.games_b} {r.label_b}" for r in rows[:DOUBLES_SHOWN]]
+    more = f"; and {len(rows) - DOUBLES_SHOWN} more" if len(rows) > DOUBLES_SHOWN else ""
+    return "Doubles this week: " + "; ".join(shown) + more + "."
+
+
 def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settings: Settings,
                  levels: Sequence[DivisionLevel] = ()) -> Notice:
     """The notice board's content: one block per division (strongest first), players ranked within it.
@@ -174,6 +188,7 @@ def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settin
         first_update=breakdown.first_update,
         divisions=divisions,
         removed=removed,
+        doubles=doubles_summary(breakdown.changes.new),
         levels=fitted,
         level_sentence=level_sentence(settings) if fitted else "",
     )

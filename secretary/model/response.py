@@ -7,7 +7,7 @@ one-dimensional convex problem per player, solved for all at once
 own, group and opponents parts from it; the opponents part is attributed to
 the opponents (and doubles partners) that moved it by integrating the
 linearisation ``dBR_i/dx_j`` along the path (``opponent_shares``), and the
-largest movers are named (``top_opponents``, ``split_partners``).
+largest movers are named (``top_opponents``: opponents and doubles partners apart).
 Everything here is in natural log-odds.
 """
 from __future__ import annotations
@@ -101,39 +101,34 @@ def opponent_shares(pairs: Pairs, start, end, prior_mean, prior_sd: float):
     return to_i, to_j, to_seat
 
 
-def top_opponents(pairs: Pairs, to_i, to_j, opponents, names, to_seat=()) -> list[tuple[tuple[str, float], ...]]:
-    """Per player, the (up to 3) opponents or doubles partners that moved the opponents part most, in its direction."""
+def top_opponents(pairs: Pairs, to_i, to_j, opponents, names, to_seat=()):
+    """Per player, ``(opponents, partners)``: the (up to 3 in all) movers of the opponents part, in its direction.
+
+    A doubles partner's share is kept apart from the same player's share as an opponent
+    (a partner rated up moves you down, an opponent rated up moves you up), so a player met
+    both ways is named for the role that moved the part.
+    """
     player = np.concatenate([pairs.i, pairs.j])
     other = np.concatenate([pairs.j, pairs.i])
     share = np.concatenate([to_i, to_j])
-    if pairs.doubles is not None:  # a player met the same partner or opponent in several rows: one sum each
-        _, seat_player, seat_other, _ = doubles.links(pairs.doubles)
+    partner = np.zeros(len(player), dtype=bool)
+    if pairs.doubles is not None:  # one sum per (player, other, role) over all rows
+        _, seat_player, seat_other, seat_partner = doubles.links(pairs.doubles)
         player, other = np.concatenate([player, seat_player]), np.concatenate([other, seat_other])
-        key, where = np.unique(player * len(names) + other, return_inverse=True)
+        partner = np.concatenate([partner, seat_partner])
+        key, where = np.unique((player * len(names) + other) * 2 + partner, return_inverse=True)
         share = np.bincount(where.ravel(), np.concatenate([share, to_seat]), len(key))
-        player, other = key // len(names), key % len(names)
+        player, other, partner = key // (2 * len(names)), key // 2 % len(names), key % 2 == 1
     # Only movers in the part's own direction explain it; sort each player's by size.
     keep = np.sign(share) == np.sign(opponents[player])
-    player, other, share = player[keep], other[keep], share[keep]
+    player, other, share, partner = player[keep], other[keep], share[keep], partner[keep]
     order = np.lexsort((-np.abs(share), player))
-    player, other, share = player[order], other[order], share[order]
+    player, other, share, partner = player[order], other[order], share[order], partner[order]
     bounds = np.searchsorted(player, np.arange(len(names) + 1))
     out = []
     for k in range(len(names)):
         lo, hi = bounds[k], min(bounds[k + 1], bounds[k] + TOP_OPPONENTS)
-        top = [(names[other[m]], float(share[m])) for m in range(lo, hi)]
-        if top:
-            top = [t for t in top if abs(t[1]) >= OPPONENT_SHARE * abs(top[0][1])]
-        out.append(tuple(top))
+        top = [m for m in range(lo, hi) if abs(share[m]) >= OPPONENT_SHARE * abs(share[lo])]
+        out.append(tuple(tuple((names[other[m]], float(share[m])) for m in top if partner[m] == role)
+                         for role in (False, True)))
     return out
-
-
-def split_partners(pairs: Pairs, top, names):
-    """Per player, ``(opponents, partners)``: the movers split by whether they ever partnered the player."""
-    if pairs.doubles is None:
-        return [(movers, ()) for movers in top]
-    _, player, other, partner = doubles.links(pairs.doubles)
-    partnered = set(zip(player[partner].tolist(), other[partner].tolist()))
-    index = {name: k for k, name in enumerate(names)}
-    return [(tuple(m for m in movers if (k, index[m[0]]) not in partnered),
-             tuple(m for m in movers if (k, index[m[0]]) in partnered)) for k, movers in enumerate(top)]

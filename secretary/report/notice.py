@@ -181,8 +181,7 @@ def write_notice_pdf(path: str | Path, breakdown: Breakdown, ratings: Sequence[P
     width = layout.frame_width(settings)
     story = wall_page(notice, watch, width, layout.frame_height(settings))
     story += layout.title_block(f"{notice.title}: the full list", notice.dates)
-    if notice.note:
-        story.append(layout.para(notice.note))
+    story += [layout.para(text) for text in (notice.note, notice.doubles) if text]
     explained = (*HOW_IT_WORKS, *((notice.level_sentence,) if notice.level_sentence else ()), *notice.closing)
     story += [layout.boxed("How ratings work here", explained, width), Spacer(1, 4)]
     for k, block in enumerate(notice.divisions):

@@ -9,6 +9,7 @@ from dataclasses import dataclass
 from typing import Iterable, Mapping, Sequence
 
 from secretary.model.records import Player, Problem
+from secretary.model.sentences import plural
 from secretary.workbook import schema
 
 CLOSE_CUTOFF = 0.85  # as difflib's ratio: "Jon Smith"/"John Smith" 0.95, "Al Li"/"Al Lu" 0.8
@@ -95,19 +96,20 @@ def merge_aliases(players: Sequence[Player]) -> tuple[dict[str, str], list[Probl
     return known, problems
 
 
-def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str
-            ) -> tuple[dict[str, str], Counter, list[Problem]]:
+def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str,
+            times: Mapping[str, int] | None = None) -> tuple[dict[str, str], Counter, list[Problem]]:
     """Choose one display spelling per name and warn where capitals or spacing differ.
 
     ``known`` (key -> name, from the Players sheet) wins; otherwise the most frequent
     spelling (the first seen on a tie).  Returns key -> display, games-per-display counts
-    and the warnings.
+    and the warnings.  ``times``: how often each mention's spelling is written, when
+    ``mentions`` holds only the first mention of each spelling.
     """
     by_key: dict[str, Counter] = {}
     first: dict[str, Mention] = {}
     for mention in mentions:
         spelling = mention.spelling.strip()  # spaces around a name are invisible: never worth a warning
-        by_key.setdefault(name_key(spelling), Counter())[spelling] += 1
+        by_key.setdefault(name_key(spelling), Counter())[spelling] += 1 if times is None else times[mention.spelling]
         first.setdefault(spelling, mention)
     display: dict[str, str] = {}
     counts: Counter = Counter()
@@ -122,7 +124,7 @@ def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str
         for spelling, count in spellings.items():
             if _visible(spelling) != kept:  # one Unicode form of the same letters is the same spelling
                 where = first[spelling]
-                others = f" and {count - 1} more row(s)" if count > 1 else ""
+                others = f" and {plural(count - 1, 'more row')}" if count > 1 else ""
                 problems.append(Problem(
                     "warning", sheet, where.row, where.column, spelling,
                     f"only capitals or spaces differ from '{kept}' ({source}); "

@@ -52,8 +52,9 @@ def write_notice(wb: Workbook, breakdown: Breakdown, ratings: Sequence[PlayerRat
         put(cell, header)
         cell.font, cell.border = BOLD, UNDERLINE
     row = HEADER_ROWS + 1
-    if notice.note:
-        row = _paragraph(ws, row, notice.note, SMALL) + 1
+    for text in (notice.note, notice.doubles):
+        if text:
+            row = _paragraph(ws, row, text, SMALL) + 1
     if notice.levels:
         row = _paragraph(ws, row, f"{LEVELS_LEAD} {notice.levels_line()}", BOLD)
         row = _paragraph(ws, row, notice.level_sentence, SMALL) + 1

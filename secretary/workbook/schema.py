@@ -49,6 +49,8 @@ RESULTS = SheetSpec(
         Column("player_b", "Player B", True, 22),
         Column("games_a", "Games A", True, 9),
         Column("games_b", "Games B", True, 9),
+        Column("partner_a", "Partner A", False, 22),  # doubles: both partners given
+        Column("partner_b", "Partner B", False, 22),
         Column("event", "Event", False, 18),
         Column("note", "Note", False, 24),
     ),
@@ -99,6 +101,8 @@ FIXTURES = SheetSpec(
         Column("player_b", "Player B", True, 22),
         Column("race_a", "Race A", False, 8),
         Column("race_b", "Race B", False, 8),
+        Column("partner_a", "Partner A", False, 22),  # a doubles fixture: both partners given
+        Column("partner_b", "Partner B", False, 22),
     ),
 )
 

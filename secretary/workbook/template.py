@@ -27,8 +27,9 @@ INSTRUCTIONS = (
     ("One row per match. Date: the day it was played (a date, or text like 2026-03-14). "
      "Division: the division or event where it was played. Player A and Player B: the two names, "
      "written the same way every week. Games A and Games B: the games (racks or frames) each "
-     "won, whole numbers. Event and Note are free text; a row whose Note starts with 'void' is "
-     "kept but not rated.", False),
+     "won, whole numbers. Partner A and Partner B: for a doubles frame only, each side's second "
+     "player (leave both blank for singles). Event and Note are free text; a row whose Note starts "
+     "with 'void' is kept but not rated.", False),
     ("Players (optional)", True),
     ("One row per player: the name as used in Results, the home division, a starting rating when "
      "you already know the player's level, and other spellings of the name (separated by ;) "
@@ -42,8 +43,8 @@ INSTRUCTIONS = (
     ("Leave a Value blank to use the default shown beside it. The 'What it means' column says "
      "what each setting does.", False),
     ("Fixtures (optional)", True),
-    ("Matches still to be played. The tool adds each player's chance and a fair handicap race.",
-     False),
+    ("Matches still to be played (Partner A and Partner B for a doubles frame). The tool adds "
+     "side A's chance and a fair handicap race.", False),
     ("", False),
     ("Good to know", True),
     ("Ratings are estimates: each comes with a ± that says how sure it is. Few games mean a "

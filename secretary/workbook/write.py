@@ -44,6 +44,7 @@ LOG_HEADERS = (
 )
 PROBLEM_HEADERS = ("Kind", "Sheet", "Row", "Column", "Found", "Problem", "What to do")
 CHART_PLAYERS = 10
+DOUBLES_GAMES = "Doubles games"  # last, only in a league with doubles: how many of the weighted games were doubles
 NEW_NOTE = "new this update"
 FEW_GAMES_NOTE = "few games: rating still uncertain"
 LEVELS_TITLE = "Division levels"
@@ -67,7 +68,11 @@ def ranked(ratings: Sequence[PlayerRating]) -> list[tuple[int, PlayerRating]]:
 
 def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Settings,
                   levels: Sequence[DivisionLevel] = ()) -> None:
-    """Rewrite the Ratings sheet, best rating first; the divisions table under it when there are levels."""
+    """Rewrite the Ratings sheet, best rating first; the divisions table under it when there are levels.
+
+    A league with doubles gets a last column, Doubles games: how many of the weighted games were doubles.
+    """
+    doubles = any(p.doubles_games > 0 for p in ratings)
     rows = []
     for rank, p in ranked(ratings):
         new = p.is_new or p.change is None
@@ -78,12 +83,13 @@ def write_ratings(wb: Workbook, ratings: Sequence[PlayerRating], settings: Setti
             notes.append(INFERRED)
         rows.append((
             rank, p.name, p.division, p.rating, p.sd, p.games,
-            None if new else p.change, p.last_played, "; ".join(notes),
+            None if new else p.change, p.last_played, "; ".join(notes), *((p.doubles_games,) if doubles else ()),
         ))
+    headers = RATINGS_HEADERS + ((DOUBLES_GAMES,) if doubles else ())
     ws = replace_sheet(wb, RATINGS_SHEET)
     count = write_table(
-        ws, RATINGS_HEADERS, rows, freeze="C2",
-        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT,
+        ws, headers, rows, freeze="C2",
+        formats={"Rating": RATING_FORMAT, "±": SD_FORMAT, "Weighted games": GAMES_FORMAT, DOUBLES_GAMES: GAMES_FORMAT,
                  "Change": CHANGE_FORMAT, "Last played": DATE_FORMAT},
     )
     if levels:

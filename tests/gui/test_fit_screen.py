@@ -90,6 +90,15 @@ def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo
             app.notebook.select(tab.frame)
             settle(app)
             problems += [f"{name}: {c}" for c in clipped(root)]
+            if tab is app.ratings:  # the chosen player's change: several lines in sight, the rest a scroll away
+                canvas = app.ratings.change_canvas
+                drawn = canvas.bbox("all")
+                region = [float(v) for v in str(canvas.cget("scrollregion")).split()] or [0.0] * 4
+                if not drawn or region[3] < drawn[3] or canvas.winfo_height() < 4 * app.ratings.line:
+                    problems.append(f"ratings: why it changed drawn to {drawn}, scrolls to {region}, "
+                                    f"{canvas.winfo_height()} pixels shown")
+            if tab is app.watch and not tabs_fit(app.watch.inner):  # Divisions, Held back, Suggested matches
+                problems.append("watch: a table's tab is off the tab row")
             screenshot(root, f"gui-{size}-{name}")
         assert not problems, "\n".join(problems)
         assert tabs_fit(app.notebook)

@@ -75,3 +75,24 @@ def test_no_warning_when_every_name_prints(tmp_path, run):
     league = _league(tmp_path, [GREEK, CYRILLIC, "Zoë Ōtake", "Ada Finch"])
     code, out = run("update", league)
     assert code == 0 and not _warning(out), out
+
+
+@needs_poppler
+def test_without_fontconfig_the_usual_font_folders_are_searched(tmp_path):
+    """As on Windows and macOS, where there is no fc-list: the font files in the usual folders."""
+    import os
+    import sys
+
+    if not _font_file_with(CHINESE):
+        import pytest
+
+        pytest.skip("no TrueType font with Chinese letters on this machine (fonts-droid-fallback has them)")
+    league = _league(tmp_path, [GREEK, CHINESE, "Ada Finch"])
+    bare = tmp_path / "bin"
+    bare.mkdir()  # a PATH with no fc-list on it
+    env = dict(os.environ, PATH=str(bare), PYTHONPATH=str(Path(__file__).resolve().parents[2]))
+    done = subprocess.run([sys.executable, "-m", "secretary.cli", "update", str(league)], capture_output=True,
+                          text=True, env=env, timeout=600)
+    assert done.returncode == 0, done.stdout + done.stderr
+    assert squeeze(CHINESE) in squeeze(pdf_text(notice_pdf_path(league)))
+    assert "could not show" not in done.stdout

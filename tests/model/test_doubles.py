@@ -62,12 +62,13 @@ def test_singles_only_league_gives_exactly_todays_ratings():
             seen.setdefault(name, {}).setdefault(division, 0)
             seen[name][division] += 1
     most = {name: max(count, key=count.get) for name, count in seen.items()}  # dicts keep first-met order
-    fit = fit_league(today_results(), Settings(), players=players, home=most)
+    then = Settings(skill_spread=250.0, half_life_days=520.0, division_spread=100.0)  # c188dc8's defaults
+    fit = fit_league(today_results(), then, players=players, home=most)
     assert list(fit.names) == TODAY_NAMES
     assert fit.r.tolist() == TODAY_R
     assert fit.var.tolist() == TODAY_VAR
     assert fit.level.tolist() == TODAY_LEVEL
-    one_pool = fit_league(today_results(), Settings(division_spread=0.0, half_life_days=0))
+    one_pool = fit_league(today_results(), then.replace(division_spread=0.0, half_life_days=0))
     assert one_pool.r.tolist() == TODAY_R_ONE_POOL
     assert one_pool.var.tolist() == TODAY_VAR_ONE_POOL
     assert fit.pairs.doubles is None and fit.doubles_games.sum() == 0.0
@@ -391,3 +392,71 @@ def test_watch_list_counts_a_doubles_game_as_a_link_when_the_sides_divisions_dif
     assert link["North"].cross_games == 4 and link["South"].cross_games == 4
     assert link["South"].recent_cross_games == 4 and link["South"].linkers == ("Fay",)
     assert link["South"].linked_share > even["South"].linked_share
+
+
+def test_a_doubles_fixture_is_forecast_over_the_sides_mean_difference():
+    # The predictive chance E[I_p(a, b)], p = sigmoid(d), d ~ N(x . r, x^T H^-1 x), by scipy.integrate.quad.
+    from scipy.integrate import quad
+    from scipy.special import betainc, expit
+
+    from secretary.model.fit import hessian
+    from secretary.model.fixtures import forecast_fixtures
+    from secretary.model.records import Fixture
+
+    rng = np.random.default_rng(10)
+    names = [f"Player {k}" for k in range(8)]
+    fit = fit_league(doubles_week(D0, rng, names, rows=20) + [Result(D0, "Player 1", "Player 2", 3, 1)])
+    fixture = Fixture(None, "Player 0", "Player 2", 4, 3, 0, "Player 1", "Player 3")
+    single = Fixture(None, "Player 0", "Player 2", 4, 3, 0)
+    newcomer = Fixture(None, "Player 0", "Player 2", 4, 3, 0, "Player 1", "Nell New")
+    doubled, singled, new = forecast_fixtures([fixture, single, newcomer], fit)
+    cov = np.linalg.inv(hessian(fit.pairs, fit.r, fit.prior_sd, fit.levels).toarray())[:len(fit.names), :len(fit.names)]
+    for fc, players, weights, unmet in ((doubled, ["Player 0", "Player 1", "Player 2", "Player 3"], [.5, .5, -.5, -.5], 0),
+                                        (singled, ["Player 0", "Player 2"], [1, -1], 0),
+                                        (new, ["Player 0", "Player 1", "Player 2"], [.5, .5, -.5], 0.25)):
+        x = np.zeros(len(fit.names))
+        for name, w in zip(players, weights):
+            x[fit.index(name)] = w
+        mean, var = x @ fit.r, x @ cov @ x + unmet * fit.prior_sd**2
+        sd = np.sqrt(var)
+        chance = quad(lambda z: betainc(4, 3, expit(mean + sd * z)) * np.exp(-z * z / 2) / np.sqrt(2 * np.pi), -12, 12,
+                      epsabs=1e-12)[0]
+        assert fc.race_chance == pytest.approx(chance, abs=1e-4)
+        assert fc.difference_sd == pytest.approx(sd, rel=1e-9)
+    assert new.not_rated == ("Nell New",) and new.least_known == ("Nell New", 0.0)
+    assert doubled.fair_chance == pytest.approx(0.5, abs=0.15)
+
+
+def test_the_walk_forward_predicts_doubles_from_the_sides_and_scores_them_apart():
+    # Each step refitted independently with fit_league on the results dated before it (ages from the newest):
+    # a doubles game's chance is sigmoid of the sides' mean difference; its log-loss summed by hand.
+    from scipy.special import expit
+
+    from secretary.model.evaluate import evaluate
+
+    rng = np.random.default_rng(12)
+    names = [f"Player {k}" for k in range(8)]
+    rows = []
+    for week in range(4):
+        day = D0 + dt.timedelta(days=7 * week)
+        rows += doubles_week(day, rng, names, rows=5)
+        rows += [Result(day, str(a), str(b), int(rng.integers(0, 4)), 3) for a, b in
+                 (rng.choice(names, 2, replace=False) for _ in range(4))]
+    settings = Settings(half_life_days=100)
+    ev = evaluate(rows, settings, gtol=1e-12)
+    loss, games = 0.0, 0.0
+    for k, res in enumerate(rows):
+        if res.date == D0:
+            assert np.isnan(ev.p[k])
+            continue
+        before = [r for r in rows if r.date < res.date]
+        fit = fit_league(before, settings, with_uncertainty=False)
+        r = {name: fit.r[fit.index(name)] if name in fit.names else 0.0 for name in res.players}
+        d = (np.mean([r[n] for n in res.side_a]) - np.mean([r[n] for n in res.side_b]))
+        assert ev.p[k] == pytest.approx(expit(d), abs=1e-7)
+        if res.is_doubles:
+            loss -= res.games_a * np.log(expit(d)) + res.games_b * np.log(expit(-d))
+            games += res.games_a + res.games_b
+    assert ev.doubles.count == games
+    assert ev.doubles.log_loss == pytest.approx(loss / games, abs=1e-7)
+    assert ev.doubles_predictive.log_loss > 0 and ev.games > ev.doubles.count

@@ -36,6 +36,7 @@ def write_book(
     divisions: Sequence[Sequence] | None = None,
     settings: Sequence[Sequence] | None = None,
     fixtures: Sequence[Sequence] | None = None,
+    fixtures_headers: Sequence[str] = FIXTURES_HEADERS,
     results_sheet: str | None = "Results",
 ) -> Path:
     """Write a workbook; a sheet given as None is left out (Results too, with results_sheet=None)."""
@@ -50,7 +51,7 @@ def write_book(
     if settings is not None:
         _sheet(wb, "Settings", SETTINGS_HEADERS, settings)
     if fixtures is not None:
-        _sheet(wb, "Fixtures", FIXTURES_HEADERS, fixtures)
+        _sheet(wb, "Fixtures", fixtures_headers, fixtures)
     if not wb.sheetnames:
         wb.create_sheet("Notes")
     wb.save(path)

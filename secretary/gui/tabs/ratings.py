@@ -75,15 +75,35 @@ class RatingsTab:
                                         highlightthickness=0)
         self.history_canvas.pack(fill="x", pady=(2, 8))
         ttk.Label(side, text="Why it changed", font="SecretaryBold").pack(anchor="w")
-        self.change_canvas = tk.Canvas(side, height=CHANGE_LINES * line, width=300, background="white",
+        holder = ttk.Frame(side)
+        holder.pack(fill="both", expand=True, pady=(2, 0))
+        # On a short screen the change does not fit under the history: it scrolls rather than being cut off.
+        self.change_canvas = tk.Canvas(holder, height=CHANGE_LINES * line, width=300, background="white",
                                        highlightthickness=0)
-        self.change_canvas.pack(fill="both", expand=True, pady=(2, 0))
+        self.change_scroll = ttk.Scrollbar(holder, orient="vertical", command=self.change_canvas.yview)
+        self.change_canvas.configure(yscrollcommand=self.change_scroll.set)
+        self.change_scroll.pack(side="right", fill="y")
+        self.change_canvas.pack(side="left", fill="both", expand=True)
         self.change_canvas.bind("<Configure>", lambda e: self._redraw())
+        for key, step in (("<Button-4>", -2), ("<Button-5>", 2)):
+            self.change_canvas.bind(key, lambda e, s=step: self.change_canvas.yview_scroll(s, "units"))
+        self.change_canvas.bind("<MouseWheel>", lambda e: self.change_canvas.yview_scroll(
+            -1 if e.delta > 0 else 1, "units"))
+        self.line = line
+        side.bind("<Configure>", self._fit_history, add="+")
         self.rows: list[views.Row] = []
         self.ratings = {}
         self.history = {}
         self.changes = {}
         self.player: str | None = None
+
+    def _fit_history(self, event) -> None:
+        """The history chart takes at most a third of the panel's height (4 to 9 lines), leaving room for why."""
+        height = int(min(HISTORY_LINES * self.line, max(4 * self.line, event.height / 3)))
+        if height != self.history_height:
+            self.history_height = height
+            self.history_canvas.configure(height=height)
+            self._redraw()
 
     def _place_sash(self, event) -> None:
         """Once, when first shown: the player panel gets about a third of the width."""
@@ -174,3 +194,5 @@ class RatingsTab:
         if change is not None:
             charts.draw_change(self.change_canvas, 4, 4, max(200, self.change_canvas.winfo_width()) - 8, change,
                                views.common_scale(self.changes.values()))
+        box = self.change_canvas.bbox("all")
+        self.change_canvas.configure(scrollregion=(0, 0, box[2], box[3] + 4) if box else (0, 0, 0, 0))
