@@ -13,6 +13,7 @@ from pathlib import Path
 
 from secretary import __version__
 from secretary.errors import SecretaryError, WorkbookProblems
+from secretary.model.sentences import plural
 from secretary.threads import limit_native_threads
 
 EXIT_DONE, EXIT_PROBLEMS, EXIT_USAGE, EXIT_BUG = 0, 1, 2, 3
@@ -91,7 +92,7 @@ def summary(outcome) -> list[str]:
         lines += [f"    - {line}" for line in watching]
     lines += [f"  Note: {note}" for note in outcome.notes]
     if book.warnings:
-        lines.append(f"  {len(book.warnings)} warning(s); see the Problems sheet:")
+        lines.append(f"  {plural(len(book.warnings), 'warning')}; see the Problems sheet:")
         lines += [f"    - {w}" for w in book.warnings[:5]]
         if len(book.warnings) > 5:
             lines.append(f"    ... and {len(book.warnings) - 5} more")
@@ -114,11 +115,11 @@ def _print_problems(problems, stream=None) -> None:
     errors = [p for p in problems if p.is_error]
     warnings = [p for p in problems if not p.is_error]
     if errors:
-        print(f"{len(errors)} error(s) to fix before the ratings can be updated:", file=stream)
+        print(f"{plural(len(errors), 'error')} to fix before the ratings can be updated:", file=stream)
         for p in errors:
             print(f"  - {p}", file=stream)
     if warnings:
-        print(f"{len(warnings)} warning(s) (the update can go ahead):", file=stream)
+        print(f"{plural(len(warnings), 'warning')} (the update can go ahead):", file=stream)
         for p in warnings:
             print(f"  - {p}", file=stream)
 

@@ -14,7 +14,9 @@ class WorkbookProblems(SecretaryError):
     def __init__(self, problems: Sequence, message: str | None = None):
         self.problems = tuple(problems)
         errors = sum(1 for p in self.problems if getattr(p, "is_error", True))
-        super().__init__(message or f"The workbook has {errors} problem(s) to fix; nothing was written.")
+        from secretary.model.sentences import plural  # here: the model imports this module
+
+        super().__init__(message or f"The workbook has {plural(errors, 'problem')} to fix; nothing was written.")
 
 
 class FileRefused(SecretaryError):

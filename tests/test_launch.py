@@ -28,7 +28,7 @@ def test_arguments_are_the_command_line():
     done = launch("--version", text=True)
     assert (done.returncode, done.stdout.strip()) == (0, f"secretary {__version__}")
     done = launch("check", str(DEMO), text=True)
-    assert done.returncode == 0 and "1 warning(s) (the update can go ahead)" in done.stdout, done
+    assert done.returncode == 0 and "1 warning (the update can go ahead)" in done.stdout, done
     done = launch("no-such-command", text=True)
     assert done.returncode == 2 and "invalid choice" in done.stderr and "Traceback" not in done.stderr
 

@@ -9,6 +9,7 @@ from dataclasses import dataclass
 from typing import Iterable, Mapping, Sequence
 
 from secretary.model.records import Player, Problem
+from secretary.model.sentences import plural
 from secretary.workbook import schema
 
 CLOSE_CUTOFF = 0.85  # as difflib's ratio: "Jon Smith"/"John Smith" 0.95, "Al Li"/"Al Lu" 0.8
@@ -122,7 +123,7 @@ def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str
         for spelling, count in spellings.items():
             if _visible(spelling) != kept:  # one Unicode form of the same letters is the same spelling
                 where = first[spelling]
-                others = f" and {count - 1} more row(s)" if count > 1 else ""
+                others = f" and {plural(count - 1, 'more row')}" if count > 1 else ""
                 problems.append(Problem(
                     "warning", sheet, where.row, where.column, spelling,
                     f"only capitals or spaces differ from '{kept}' ({source}); "

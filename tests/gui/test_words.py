@@ -29,12 +29,14 @@ def _sheet_of(columns):
     fixtures = (*(c.header for c in schema.FIXTURES.columns), *fixtures_sheet.TOOL_HEADERS)
     return {id(views.RATING_COLUMNS): write.RATINGS_HEADERS, id(views.PROBLEM_COLUMNS): write.PROBLEM_HEADERS,
             id(views.DIVISION_COLUMNS): watch_sheet.DIVISION_HEADERS, id(views.HELD_COLUMNS): watch_sheet.HELD_HEADERS,
-            id(views.SUGGESTION_COLUMNS): watch_sheet.MATCH_HEADERS, id(views.FIXTURE_COLUMNS): fixtures}[id(columns)]
+            id(views.SUGGESTION_COLUMNS): watch_sheet.MATCH_HEADERS, id(views.FIXTURE_COLUMNS): fixtures,
+            id(views.LEVEL_COLUMNS): write.LEVEL_HEADERS}[id(columns)]
 
 
 @pytest.mark.parametrize("columns", [views.RATING_COLUMNS, views.PROBLEM_COLUMNS, views.DIVISION_COLUMNS,
-                                     views.HELD_COLUMNS, views.SUGGESTION_COLUMNS, views.FIXTURE_COLUMNS],
-                         ids=["ratings", "problems", "divisions", "held", "suggestions", "fixtures"])
+                                     views.HELD_COLUMNS, views.SUGGESTION_COLUMNS, views.FIXTURE_COLUMNS,
+                                     views.LEVEL_COLUMNS],
+                         ids=["ratings", "problems", "divisions", "held", "suggestions", "fixtures", "levels"])
 def test_every_window_heading_is_its_sheets_heading(columns):
     sheet = _sheet_of(columns)
     for column in columns:
