@@ -14,7 +14,7 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
 from reportlab.pdfbase import pdfmetrics
 from reportlab.pdfbase.ttfonts import TTFont
-from reportlab.platypus import KeepTogether, Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
+from reportlab.platypus import Flowable, KeepTogether, Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
 
 from secretary.model.records import Settings
 from secretary.report import scripts
@@ -155,7 +155,7 @@ def boxed(heading: str, lines: Sequence[str], width: float) -> Table:
 
 
 def table(headers: Sequence[str], rows: Sequence[Sequence[object]], widths: Sequence[float],
-          right: Sequence[int] = ()) -> Table:
+          right: Sequence[int] = ()) -> Flowable:
     """A striped table with a shaded header row repeated on each page; ``right`` columns align right."""
     def cell(value, col, header=False):
         if not isinstance(value, str):
@@ -164,19 +164,51 @@ def table(headers: Sequence[str], rows: Sequence[Sequence[object]], widths: Sequ
                  (False, True): "right", (False, False): "cell"}[(header, col in right)]
         return para(value, style)
 
-    data = [[cell(h, c, True) for c, h in enumerate(headers)]]
-    data += [[cell(v, c) for c, v in enumerate(row)] for row in rows]
-    t = Table(data, colWidths=list(widths), repeatRows=1)
+    head = [cell(h, c, True) for c, h in enumerate(headers)]
+    body = [[cell(v, c) for c, v in enumerate(row)] for row in rows]
+    if len(body) <= TABLE_ROWS:
+        return _striped(head, body, widths, 0, last=True)
+    starts = range(0, len(body), TABLE_ROWS)
+    return _Tables([_striped(head, body[k:k + TABLE_ROWS], widths, k, last=k + TABLE_ROWS >= len(body))
+                    for k in starts])
+
+
+# reportlab splits a Table at a page's end by building a new Table of every row left, so one table of
+# n rows costs time in n squared (4 divisions of 6,000 players: minutes).  A longer list is printed as
+# Tables of this many rows, one after the other (the header row shows again where one ends).
+TABLE_ROWS = 400
+
+
+def _striped(head: list, body: list, widths: Sequence[float], first: int, last: bool) -> Table:
+    """The Table of rows ``first``, ``first + 1``, ... of a striped table (``last``: its final rows)."""
+    t = Table([head, *body], colWidths=list(widths), repeatRows=1)
     commands = [
         ("BACKGROUND", (0, 0), (-1, 0), HEADER_FILL),
         ("LINEBELOW", (0, 0), (-1, 0), 0.6, RULE),
-        ("LINEBELOW", (0, -1), (-1, -1), 0.6, RULE),
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
         ("TOPPADDING", (0, 0), (-1, -1), 2.5), ("BOTTOMPADDING", (0, 0), (-1, -1), 2.5),
     ]
-    commands += [("BACKGROUND", (0, r), (-1, r), STRIPE) for r in range(2, len(data), 2)]
+    if last:
+        commands.append(("LINEBELOW", (0, -1), (-1, -1), 0.6, RULE))
+    commands += [("BACKGROUND", (0, r), (-1, r), STRIPE) for r in range(1, len(body) + 1) if (first + r) % 2 == 0]
     t.setStyle(TableStyle(commands))
     return t
+
+
+class _Tables(Flowable):
+    """Tables printed one after the other: longer than a page, so a frame splits it into them at once."""
+
+    def __init__(self, tables: list[Table]):
+        super().__init__()
+        self.tables = tables
+
+    def wrap(self, avail_width, avail_height):
+        width, height = self.tables[0].wrap(avail_width, avail_height)
+        return width, height * len(self.tables)
+
+    def split(self, avail_width, avail_height):
+        first = self.tables[0].split(avail_width, avail_height)  # what fits here comes first
+        return [*first, *self.tables[1:]] if first else []
 
 
 def closing(lines: Sequence[str]) -> KeepTogether:

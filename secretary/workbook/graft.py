@@ -17,6 +17,8 @@ import io
 import posixpath
 import re
 import zipfile
+import zlib
+from collections.abc import Iterable, Mapping
 from pathlib import Path
 
 from lxml import etree
@@ -25,7 +27,7 @@ from openpyxl.workbook.workbook import Workbook
 
 from secretary.errors import FileRefused
 from secretary.workbook import save
-from secretary.workbook import toolsheets
+from secretary.workbook import cells, toolsheets, zipcopy
 
 MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 REL_NS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -44,12 +46,23 @@ _FIRST_CUSTOM_FORMAT = 164
 _PARSER = etree.XMLParser(resolve_entities=False, no_network=True, huge_tree=True, remove_blank_text=False)
 
 
+_SHARED_REF = re.compile(rb"""\st\s*=\s*["']s["']""")  # a cell whose value is a shared string
+_NO_STRINGS = (b'<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+               b'<sst xmlns="' + MAIN.encode() + b'" count="0" uniqueCount="0"/>')
+
+
+STUB = "_secretary_without_rows"  # marks a tool sheet loaded without its rows, to be replaced before a save
+
+
 class GraftRefused(FileRefused):
     """The tool's sheets cannot be grafted into this workbook; the caller falls back to a full save."""
 
 
 def graft_outputs(original: str | Path, outputs_wb: Workbook, dest: str | Path) -> None:
     """Write to `dest` the original package with its tool sheets replaced by those of `outputs_wb`."""
+    stubs = [ws.title for ws in outputs_wb.worksheets if getattr(ws, STUB, False)]
+    if stubs:
+        raise ValueError(f"tool sheets loaded without their rows were not rewritten: {stubs}")
     buffer = io.BytesIO()
     outputs_wb.save(buffer)
     graft_package(original, buffer.getvalue(), dest)
@@ -82,49 +95,113 @@ def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10,
 
 
 def _check_graft(path: Path, outputs_wb: Workbook, temp: Path) -> None:
-    """Read the new file back: the secretary's sheets all there, the tool's sheets cell for cell."""
+    """Read the new file back: the secretary's sheets all there, the tool's sheets cell for cell.
+
+    The tool's sheets are read back by calamine (see `cells`), a reader independent of the openpyxl
+    that wrote them; a tool sheet calamine cannot read faithfully is read by openpyxl instead."""
     save.check_opens_again(temp, path)
     try:
-        theirs = _secretarys_sheets(path)
-        copy = load_tool_sheets(temp)
-        if _secretarys_sheets(temp) != theirs:
+        before, tool_before = _sheet_names(path)
+        names, tool = _sheet_names(temp)
+        if [n for n in names if n not in tool] != [n for n in before if n not in tool_before]:
             raise save._check_failed(path, "its sheets differ")
+        if [n for n in names if n in tool] != outputs_wb.sheetnames:
+            raise save._check_failed(path, "the tool's sheets differ")
+        copy = cells.Workbook(temp)
+        try:
+            fallback = []  # openpyxl's reading of the tool sheets, loaded only when needed
+            for name in outputs_wb.sheetnames:
+                if save._cells(outputs_wb[name]) != _read_back(copy, temp, name, fallback):
+                    raise save._check_failed(path, f"sheet '{name}' does not read back as written")
+        finally:
+            copy.close()
     except FileRefused:
         raise
     except Exception as exc:  # any failure to read means the copy is not fit to replace the original
         raise save._check_failed(path, f"it cannot be read: {exc}") from exc
-    if copy.sheetnames != outputs_wb.sheetnames:
-        raise save._check_failed(path, "the tool's sheets differ")
-    for name in outputs_wb.sheetnames:
-        if save._cells(outputs_wb[name]) != save._cells(copy[name]):
-            raise save._check_failed(path, f"sheet '{name}' does not read back as written")
 
 
-def _secretarys_sheets(path: Path) -> list[str]:
-    """The names of the sheets that are not the tool's, in order."""
+def _read_back(copy: cells.Workbook, temp: Path, name: str, fallback: list) -> list[tuple]:
+    """A tool sheet's values as `save._cells` gives them, read from the saved file."""
+    sheet = copy.read_cells(name)
+    if sheet is not None and sheet.formulas is not None:
+        return save.comparable_rows(sheet.rows)
+    if not fallback:  # error values or formulas: only openpyxl reads them as they were written
+        fallback.append(load_tool_sheets(temp))
+    return save._cells(fallback[0][name])
+
+
+def _sheet_names(path: Path) -> tuple[list[str], set[str]]:
+    """Every sheet's name in order, and the names of the tool's sheets."""
     with zipfile.ZipFile(path) as z:
         parts = {"_rels/.rels": z.read("_rels/.rels")}
         wb = _xml(z.read(_workbook_part(parts)))
-    tool = set(toolsheets.of_root(wb).values())
-    return [el.get("name") for el in wb.find(f"{_M}sheets") if el.get("name") not in tool]
+    return [el.get("name") for el in wb.find(f"{_M}sheets")], set(toolsheets.of_root(wb).values())
 
 
-def load_tool_sheets(path: str | Path) -> Workbook:
-    """Only the tool's sheets of a workbook, loaded by openpyxl without parsing the secretary's sheets."""
+def load_tool_sheets(path: str | Path, cells: Iterable[str] | None = None) -> Workbook:
+    """Only the tool's sheets of a workbook, loaded by openpyxl without parsing the secretary's sheets.
+
+    openpyxl is given a package without the secretary's sheets, and without the
+    shared strings when no tool sheet uses them (the graft writes its text
+    inline): at a million rows those are almost all of the file.  ``cells``: the
+    roles (schema sheet names) whose cells are wanted; the other tool sheets come
+    without their rows (for an update that replaces them, see `STUB`), all when None."""
     path = Path(path)
     with zipfile.ZipFile(path) as z:
-        parts = {name: z.read(name) for name in z.namelist()}
-    wb_part = _workbook_part(parts)
-    wb = _xml(parts[wb_part])
-    holder = wb.find(f"{_M}sheets")
-    tool = set(toolsheets.of_root(wb).values())
-    for el in list(holder):
-        if el.get("name") not in tool:
-            holder.remove(el)
-    if len(holder) == 0:
-        empty = Workbook()
-        empty.remove(empty.active)
-        return empty
+        parts = _Parts(z)
+        wb_part = _workbook_part(parts)
+        wb = _xml(parts[wb_part])
+        targets = {r.get("Id"): (r.get("Type", ""), _resolve(wb_part, r.get("Target")))
+                   for r in _xml(parts[_rels_name(wb_part)]) if r.get("TargetMode") != "External"}
+        holder = wb.find(f"{_M}sheets")
+        tool = set(toolsheets.of_root(wb).values())
+        sheets = {el.get("name"): targets.get(el.get(_R_ID), ("", None))[1] for el in holder}
+        for el in list(holder):
+            if el.get("name") not in tool:
+                holder.remove(el)
+        if len(holder) == 0:
+            empty = Workbook()
+            empty.remove(empty.active)
+            return empty
+        roles = toolsheets.of_root(wb)
+        _keep_tool_names(wb)
+        theirs = {part for name, part in sheets.items() if name not in tool}
+        wanted = set(roles) if cells is None else set(cells)
+        stubs = {sheets[name]: _without_rows(parts[sheets[name]]) for role, name in roles.items()
+                 if role not in wanted and sheets.get(name) in parts}
+        strings = {part for kind, part in targets.values() if kind.endswith("/sharedStrings")}
+        if any(_SHARED_REF.search(stubs.get(part) or parts[part])
+               for name, part in sheets.items() if name in tool and part in parts):
+            strings = set()  # a tool sheet written by a full save refers to the shared strings
+        buffer = io.BytesIO()
+        with zipfile.ZipFile(buffer, "w", zipfile.ZIP_STORED) as out:
+            for info in z.infolist():
+                if info.filename == wb_part:
+                    out.writestr(info.filename, _bytes(wb))
+                elif info.filename in stubs:
+                    out.writestr(info.filename, stubs[info.filename])
+                elif info.filename in strings:
+                    out.writestr(info.filename, _NO_STRINGS)
+                elif info.filename not in theirs:
+                    zipcopy.copy_member(z, info, out)
+    loaded = load_workbook(buffer, keep_links=False)
+    for role, name in roles.items():
+        if role not in wanted and name in loaded.sheetnames:
+            setattr(loaded[name], STUB, True)
+    return loaded
+
+
+def _without_rows(part: bytes) -> bytes:
+    """A worksheet part without its rows (its tab colour, selection and other settings kept)."""
+    start, end = part.find(b"<sheetData"), part.rfind(b"</sheetData>")
+    if start < 0 or end < start:
+        return part  # no rows, or written in a way this byte search does not know: kept whole
+    return part[:part.index(b">", start) + 1] + part[end:]
+
+
+def _keep_tool_names(wb: etree._Element) -> None:
+    """Of a workbook.xml holding only the tool's sheets: only the tool's markers, the first tab active."""
     defined = wb.find(f"{_M}definedNames")
     if defined is not None:  # the others count sheets by position and name the secretary's sheets
         for d in list(defined):
@@ -135,27 +212,50 @@ def load_tool_sheets(path: str | Path) -> Workbook:
     for view in wb.iter(f"{_M}workbookView"):
         view.set("activeTab", "0")
         view.attrib.pop("firstSheet", None)
-    parts[wb_part] = _bytes(wb)
-    buffer = io.BytesIO()
-    with zipfile.ZipFile(buffer, "w", zipfile.ZIP_STORED) as z:
-        for name, data in parts.items():
-            z.writestr(name, data)
-    return load_workbook(buffer, keep_links=False)
 
 
 def graft_package(original: str | Path, outputs: bytes, dest: str | Path) -> None:
     """As `graft_outputs`, with the tool's sheets given as a saved .xlsx package's bytes."""
     original, dest = Path(original), Path(dest)
     try:
-        with zipfile.ZipFile(original) as z:
-            infos = z.infolist()
-            old = {info.filename: z.read(info) for info in infos}
+        source = zipfile.ZipFile(original)
     except (OSError, zipfile.BadZipFile) as exc:
         raise GraftRefused(f"{original.name} cannot be read as an .xlsx file ({exc}).") from exc
-    with zipfile.ZipFile(io.BytesIO(outputs)) as z:
+    with source, zipfile.ZipFile(io.BytesIO(outputs)) as z:
         new = {name: z.read(name) for name in z.namelist()}
-    parts = _Graft(original.name, old, new).run()
-    _write_zip(dest, infos, old, parts)
+        try:
+            parts = _Graft(original.name, _Parts(source), new).run()
+            _write_zip(dest, source, parts)
+        except (zipfile.BadZipFile, zlib.error, EOFError) as exc:
+            raise GraftRefused(f"{original.name} cannot be read as an .xlsx file ({exc}).") from exc
+
+
+class _Parts(Mapping):
+    """The parts of an open package by name, each inflated only when first asked for.
+
+    Most parts (the secretary's sheets above all) are never inflated: the graft
+    copies them as they are stored (see `zipcopy`)."""
+
+    def __init__(self, archive: zipfile.ZipFile):
+        self.archive = archive
+        self._names = dict.fromkeys(archive.namelist())
+        self._read: dict[str, bytes] = {}
+
+    def __getitem__(self, name: str) -> bytes:
+        if name not in self._names:
+            raise KeyError(name)
+        if name not in self._read:
+            self._read[name] = self.archive.read(name)
+        return self._read[name]
+
+    def __contains__(self, name: object) -> bool:
+        return name in self._names
+
+    def __iter__(self):
+        return iter(self._names)
+
+    def __len__(self) -> int:
+        return len(self._names)
 
 
 # ------------------------------------------------------------------ package helpers
@@ -244,7 +344,9 @@ class _Graft:
         self.new_wb_part = _workbook_part(new)
         self.new_wb = _xml(new[self.new_wb_part])
         self.new_ct = _xml(new["[Content_Types].xml"])
-        self.parts: dict[str, bytes | None] = dict(old)  # None marks a removed part
+        # The parts this graft writes: new or edited bytes, None for a removed part; every other part of
+        # the original is copied as it is stored.
+        self.parts: dict[str, bytes | None] = {}
 
     def _refuse(self, why: str) -> GraftRefused:
         return GraftRefused(f"The tool's sheets cannot be added to {self.label} quickly: {why}.")
@@ -295,12 +397,20 @@ class _Graft:
             if _resolve(self.wb_part, rel.get("Target")) in gone:
                 self.wb_rels.remove(rel)
         for o in list(self.ct):
-            if o.get("PartName", "").lstrip("/") in self.parts and self.parts[o.get("PartName").lstrip("/")] is None:
+            if o.get("PartName") is not None and self.parts.get(o.get("PartName").lstrip("/"), b"") is None:
                 self.ct.remove(o)
         self.parts = {k: v for k, v in self.parts.items() if not (v is None and k not in self.old)}
 
+    def _present(self) -> list[str]:
+        """The names of the parts the grafted package holds so far."""
+        kept = [name for name in self.old if self.parts.get(name, b"") is not None]
+        return kept + [name for name, data in self.parts.items() if data is not None and name not in self.old]
+
+    def _data(self, part: str) -> bytes:
+        return self.parts[part] if part in self.parts else self.old[part]
+
     def _taken(self) -> set[str]:
-        return {name.casefold() for name, data in self.parts.items() if data is not None}
+        return {name.casefold() for name in self._present()}
 
     def _fresh_name(self, part: str) -> str:
         folder, base = posixpath.split(part)
@@ -407,8 +517,9 @@ class _Graft:
     def _table_ids(self) -> tuple[set[int], set[str]]:
         if not hasattr(self, "_tables"):
             ids, names = set(), set()
-            for part, data in self.parts.items():
-                if data and part.startswith("xl/tables/") and part.endswith(".xml"):
+            for part in self._present():
+                data = self._data(part) if part.startswith("xl/tables/") and part.endswith(".xml") else None
+                if data:
                     table = _xml(data)
                     ids.add(int(table.get("id", 0)))
                     names.add((table.get("displayName") or table.get("name") or "").casefold())
@@ -497,7 +608,7 @@ class _Graft:
     def _fix_calc_chain(self, removed_ids: set[str]) -> None:
         """Forget the formulas of the removed sheets (their sheet ids are given to the new ones)."""
         for rel, part in _internal_targets(self.old, self.wb_part):
-            if rel.get("Type") != CALC_CHAIN or part not in self.parts:
+            if rel.get("Type") != CALC_CHAIN or part not in self._present():
                 continue
             chain = _xml(self.old[part])
             sheet = None
@@ -662,15 +773,17 @@ def _key(el: etree._Element) -> bytes:
 # ------------------------------------------------------------------ writing
 
 
-def _write_zip(dest: Path, infos: list[zipfile.ZipInfo], old: dict[str, bytes], parts: dict[str, bytes | None]) -> None:
-    """The original's parts in their order (unchanged bytes unless edited), then the new ones."""
+def _write_zip(dest: Path, source: zipfile.ZipFile, parts: dict[str, bytes | None]) -> None:
+    """The original's parts in their order (as stored, unless edited), then the new ones."""
     with zipfile.ZipFile(dest, "w", zipfile.ZIP_DEFLATED) as z:
-        for info in infos:
-            data = parts.get(info.filename)
-            if data is not None:
+        for info in source.infolist():
+            if info.filename not in parts:
+                zipcopy.copy_member(source, info, z)
+            elif parts[info.filename] is not None:
                 fresh = zipfile.ZipInfo(info.filename, info.date_time)
                 fresh.compress_type, fresh.external_attr = info.compress_type, info.external_attr
-                z.writestr(fresh, data)
+                z.writestr(fresh, parts[info.filename])
+        names = set(source.namelist())
         for name, data in parts.items():
-            if name not in old and data is not None:
+            if name not in names and data is not None:
                 z.writestr(name, data)

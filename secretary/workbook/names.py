@@ -96,19 +96,20 @@ def merge_aliases(players: Sequence[Player]) -> tuple[dict[str, str], list[Probl
     return known, problems
 
 
-def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str
-            ) -> tuple[dict[str, str], Counter, list[Problem]]:
+def resolve(mentions: Iterable[Mention], known: Mapping[str, str], sheet: str,
+            times: Mapping[str, int] | None = None) -> tuple[dict[str, str], Counter, list[Problem]]:
     """Choose one display spelling per name and warn where capitals or spacing differ.
 
     ``known`` (key -> name, from the Players sheet) wins; otherwise the most frequent
     spelling (the first seen on a tie).  Returns key -> display, games-per-display counts
-    and the warnings.
+    and the warnings.  ``times``: how often each mention's spelling is written, when
+    ``mentions`` holds only the first mention of each spelling.
     """
     by_key: dict[str, Counter] = {}
     first: dict[str, Mention] = {}
     for mention in mentions:
         spelling = mention.spelling.strip()  # spaces around a name are invisible: never worth a warning
-        by_key.setdefault(name_key(spelling), Counter())[spelling] += 1
+        by_key.setdefault(name_key(spelling), Counter())[spelling] += 1 if times is None else times[mention.spelling]
         first.setdefault(spelling, mention)
     display: dict[str, str] = {}
     counts: Counter = Counter()

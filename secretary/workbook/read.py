@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import datetime as dt
+import heapq
 import warnings
 from collections import Counter
 from dataclasses import dataclass, field
@@ -17,6 +18,7 @@ from secretary.workbook.cells import SheetCells
 from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.dates import parse_date
 from secretary.workbook.names import MAX_NAME_LENGTH, CloseIndex, Mention, clean, merge_aliases, name_key, resolve
+from secretary.workbook.ordinary import ordinary_rows
 from secretary.workbook.partners import PARTNERS, SEATS, seat_faults
 
 from secretary.workbook.state import read_state, state_from_rows
@@ -137,10 +139,14 @@ class _Sheet:
     def records(self):
         """(row number, {key: value}) for every row below the headers that is not blank."""
         for number in range(self.header_row + 1, len(self.rows) + 1):
-            row = self.rows[number - 1]
-            values = {key: row[i - 1] if i <= len(row) else None for key, i in self.columns.items()}
+            values = self.values(number)
             if not all(_blank(v) for v in values.values()):
                 yield number, values
+
+    def values(self, number: int) -> dict:
+        """{key: value} of one row."""
+        row = self.rows[number - 1]
+        return {key: row[i - 1] if i <= len(row) else None for key, i in self.columns.items()}
 
     def header(self, key: str) -> str:
         return self.headers.get(key, self.spec.column(key).header)
@@ -439,15 +445,28 @@ def _read_results(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> 
     if sheet is None or sheet.missing:
         return []
     rows = []
-    for row, values in sheet.records():
-        void = str(values.get("note") or "").strip().casefold().startswith(schema.VOID_PREFIX)
-        parsed = _results_row(sheet, row, values, settings, reader, void)
+    first = sheet.header_row + 1
+    body = sheet.rows[sheet.header_row:]
+    checked = ordinary_rows(sheet.columns, body, first, settings, _ordinary_row)
+    for row, parsed in enumerate(checked, start=first):
+        if parsed is None:
+            values = sheet.values(row)
+            if all(_blank(v) for v in values.values()):
+                continue
+            void = str(values.get("note") or "").strip().casefold().startswith(schema.VOID_PREFIX)
+            parsed = _results_row(sheet, row, values, settings, reader, void)
         if parsed is not None:
             rows.append(parsed)
     return rows
 
 
+def _ordinary_row(row, date, division, a, b, games_a, games_b, event) -> _Row:
+    return _Row(row, date, division, a, b, games_a, games_b, event, False)
+
+
 def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, reader: _Reader, void: bool):
+    """One row's checks; the rows that pass them all are found faster by `ordinary.ordinary_rows`, so a
+    new check here needs its twin there."""
     # A void row is not rated, so its faults only warn (and an unusable one is left out).
     severity = "warning" if void else "error"
     name = sheet.spec.name
@@ -616,30 +635,23 @@ def _link_names(rows: list[_Row], players: list[Player], fixture_rows: list[tupl
     results_sheet = sheets.get(schema.RESULTS.name)
     known, problems = merge_aliases(players)
     reader.problems.extend(problems)
-    mentions = []
-    if results_sheet is not None:
-        col_a, col_b = results_sheet.header("player_a"), results_sheet.header("player_b")
-        partner_a, partner_b = results_sheet.header("partner_a"), results_sheet.header("partner_b")
-        for r in rows:
-            mentions.append(Mention(r.a, r.row, col_a))
-            mentions.append(Mention(r.b, r.row, col_b))
-            if r.pa:
-                mentions.append(Mention(r.pa, r.row, partner_a))
-                mentions.append(Mention(r.pb, r.row, partner_b))
-    display, counts, problems = resolve(mentions, known, schema.RESULTS.name)
+    mentions, times = _first_mentions(rows, results_sheet)
+    display, counts, problems = resolve(mentions, known, schema.RESULTS.name, times)
     reader.problems.extend(problems)
     divisions = _division_spellings(r.division for r in rows)
+    shown_as = {m.spelling: display[name_key(m.spelling)] for m in mentions}
+    division_of = {d: divisions[name_key(d)] for d in dict.fromkeys(r.division for r in rows)}
     results = []
     for r in rows:
-        a, b = display[name_key(r.a)], display[name_key(r.b)]
-        pa, pb = (display[name_key(r.pa)], display[name_key(r.pb)]) if r.pa else ("", "")
+        a, b = shown_as[r.a], shown_as[r.b]
+        pa, pb = (shown_as[r.pa], shown_as[r.pb]) if r.pa else ("", "")
         if _merged_by_aliases(r, (a, pa, b, pb), results_sheet, reader):
             continue
-        results.append(Result(r.date, a, b, r.games_a, r.games_b, divisions[name_key(r.division)],
+        results.append(Result(r.date, a, b, r.games_a, r.games_b, division_of[r.division],
                               r.event, r.void, r.row, pa, pb))
     first_row = {}
     for mention in mentions:
-        first_row.setdefault(display[name_key(mention.spelling)], mention)
+        first_row.setdefault(shown_as[mention.spelling], mention)
     if players:
         _check_players_sheet(players, known, first_row, divisions, sheets, reader)
     else:
@@ -648,6 +660,24 @@ def _link_names(rows: list[_Row], players: list[Player], fixture_rows: list[tupl
                for p in players]
     fixtures = _link_fixtures(fixture_rows, known, display, sheets.get(schema.FIXTURES.name), reader)
     return tuple(results), tuple(players), fixtures
+
+
+def _first_mentions(rows: list[_Row], sheet: _Sheet | None) -> tuple[list[Mention], Counter]:
+    """The first mention of each spelling of a name (in each row: A, B, then the partners) and how often
+    each is written."""
+    if sheet is None or not rows:
+        return [], Counter()
+    columns = [sheet.header(k) for k in ("player_a", "player_b", "partner_a", "partner_b")]
+    first: dict[str, Mention] = {}
+    times: Counter = Counter()
+    for r in rows:
+        for spelling, column in zip((r.a, r.b, r.pa, r.pb) if r.pa else (r.a, r.b), columns):
+            if spelling not in first:
+                first[spelling] = Mention(spelling, r.row, column)
+    times.update(r.a for r in rows)
+    times.update(r.b for r in rows)
+    times.update(p for r in rows if r.pa for p in (r.pa, r.pb))
+    return list(first.values()), times
 
 
 def _merged_by_aliases(r: _Row, names, sheet: _Sheet, reader: _Reader) -> bool:
@@ -667,8 +697,8 @@ def _merged_by_aliases(r: _Row, names, sheet: _Sheet, reader: _Reader) -> bool:
 
 def _division_spellings(spellings) -> dict[str, str]:
     counts: dict[str, Counter] = {}
-    for spelling in spellings:
-        counts.setdefault(name_key(spelling), Counter())[spelling] += 1
+    for spelling, times in Counter(spellings).items():  # first seen first, so a tie keeps the first seen
+        counts.setdefault(name_key(spelling), Counter())[spelling] += times
     return {key: c.most_common(1)[0][0] for key, c in counts.items()}
 
 
@@ -747,10 +777,10 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
     if sheet is None:
         return
     seen: dict[tuple, int] = {}
+    fold = _Folded()
     for r in results:
-        sides = sorted(((tuple(sorted(name.casefold() for name in side)), games)
-                        for side, games in ((r.side_a, r.games_a), (r.side_b, r.games_b))))
-        key = (r.date, tuple(sides), r.division.casefold(), r.void)
+        one, other = (_side(r.side_a, fold), r.games_a), (_side(r.side_b, fold), r.games_b)
+        key = (r.date, (one, other) if one <= other else (other, one), fold[r.division], r.void)
         if key in seen:
             reader.add("warning", sheet.spec.name, r.row, None, f"{r.label_a} {r.games_a}-{r.games_b} {r.label_b}",
                        f"the same result as row {seen[key]}",
@@ -764,7 +794,8 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
             reader.add("error", sheet.spec.name, r.row, sheet.header("date"), r.date,
                        f"this date is after today ({today.isoformat()})",
                        "Check the date (often the year); a match is entered once it has been played.")
-    dated = sorted((r for r in results if r.date <= today), key=lambda r: r.date, reverse=True)
+    # The newest few, as sorted(..., reverse=True) would order them (heapq.nlargest is documented so).
+    dated = heapq.nlargest(OUTLIER_ROWS + 1, (r for r in results if r.date <= today), key=lambda r: r.date)
     cut = 0
     for i in range(min(OUTLIER_ROWS, len(dated) - 1)):
         if (dated[i].date - dated[i + 1].date).days > 365:
@@ -773,6 +804,19 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
         reader.add("error", sheet.spec.name, r.row, sheet.header("date"), r.date,
                    f"this date is more than a year after every other result (the newest other is "
                    f"{dated[cut].date.isoformat()})", "Check the year.")
+
+
+class _Folded(dict):
+    """text -> text.casefold(), worked out once per distinct text."""
+
+    def __missing__(self, text: str) -> str:
+        self[text] = text.casefold()
+        return self[text]
+
+
+def _side(names: tuple[str, ...], fold: _Folded) -> tuple[str, ...]:
+    """A side's players, capitals folded, in order (so that partners written either way round match)."""
+    return (fold[names[0]],) if len(names) == 1 else tuple(sorted(fold[n] for n in names))
 
 
 def _read_state(wb, values_wb: ValuesBook, tool: dict[str, str], reader: _Reader) -> PublishedState | None:

@@ -378,8 +378,13 @@ def _check_copy(wb: Workbook, temp: Path, target: Path) -> None:
 
 
 def _cells(ws) -> list[tuple]:
-    """A sheet's values, comparable across a save (dates as date-times, floats to 15 digits)."""
-    rows = [tuple(_comparable(v) for v in row) for row in ws.iter_rows(values_only=True)]
+    """A sheet's values, comparable across a save (dates as date-times, floats to 16 digits)."""
+    return comparable_rows(ws.iter_rows(values_only=True))
+
+
+def comparable_rows(values) -> list[tuple]:
+    """Rows of values as `_cells` gives them: comparable, trailing blanks and blank rows dropped."""
+    rows = [tuple(_comparable(v) for v in row) for row in values]
     rows = [row[: _used_length(row)] for row in rows]
     while rows and not rows[-1]:
         rows.pop()

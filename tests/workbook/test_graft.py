@@ -329,3 +329,59 @@ def test_graft_into_a_workbook_saved_by_libreoffice(tmp_path, watch):
     shown, results = _shown_by_libreoffice(dest, tmp_path / "again", [RATINGS_SHEET, "Results"])
     assert [row[1] for row in shown[1:]] == [book[RATINGS_SHEET].cell(r, 2).value for r in range(2, len(shown) + 1)]
     assert results[0][:2] == ["Date", "Division"]
+
+
+def test_tool_sheets_saved_with_shared_strings_load_with_their_text(tmp_path, watch):
+    # A spreadsheet program that saves the workbook moves every text to shared strings: load_tool_sheets
+    # must then keep the shared strings it otherwise leaves out.
+    original = S.secretary_workbook(tmp_path / "league.xlsx")
+    grafted, path = tmp_path / "grafted.xlsx", tmp_path / "saved-elsewhere.xlsx"
+    graft_outputs(original, _outputs(watch), grafted)
+    package, moved = _as_shared_strings(grafted.read_bytes())
+    path.write_bytes(package)
+    assert moved > 20
+    loaded, reference = load_tool_sheets(path), load_workbook(path)
+    assert loaded.sheetnames == [RATINGS_SHEET, HISTORY_SHEET, WATCH_SHEET, STATE_SHEET]
+    for name in loaded.sheetnames:
+        assert _cells(loaded[name]) == _cells(reference[name])
+    assert loaded[RATINGS_SHEET]["B2"].value == "Ada Finch"
+
+
+def test_tool_sheets_loaded_without_rows_must_be_rewritten_before_a_graft(tmp_path, watch):
+    original = S.secretary_workbook(tmp_path / "league.xlsx")
+    first = tmp_path / "first.xlsx"
+    graft_outputs(original, _outputs(watch), first)
+    previous = load_tool_sheets(first, cells=(HISTORY_SHEET,))
+    assert previous.sheetnames == [RATINGS_SHEET, HISTORY_SHEET, WATCH_SHEET, STATE_SHEET]
+    assert previous[RATINGS_SHEET].max_row == 1 and previous[RATINGS_SHEET]["A1"].value is None
+    assert _cells(previous[HISTORY_SHEET]) == _cells(load_tool_sheets(first)[HISTORY_SHEET])
+    with pytest.raises(ValueError, match="not rewritten"):
+        graft_outputs(first, previous, tmp_path / "second.xlsx")
+    graft_outputs(first, _outputs(watch, shift=1.0, date=dt.date(2026, 3, 19), history_from=previous),
+                  tmp_path / "second.xlsx")
+    rows = list(load_workbook(tmp_path / "second.xlsx")[HISTORY_SHEET].iter_rows(values_only=True))
+    assert rows[0] == ("Player", "2026-03-12", "2026-03-19")
+
+
+def test_a_graft_that_does_not_read_back_is_not_saved(tmp_path, watch, monkeypatch):
+    from secretary.errors import FileRefused
+    from secretary.workbook import graft
+
+    original = S.secretary_workbook(tmp_path / "league.xlsx")
+    before = original.read_bytes()
+    real = graft.graft_package
+
+    def garbled(source, package, dest):  # one name of the Ratings sheet changes on its way to the disk
+        real(source, package, dest)
+        parts = _parts(dest)
+        sheet = next(n for n, d in parts.items() if n.startswith("xl/worksheets/") and b"<t>Rank</t>" in d)
+        assert b"Ada Finch" in parts[sheet]
+        parts[sheet] = parts[sheet].replace(b"Ada Finch", b"Ada Fitch", 1)
+        with zipfile.ZipFile(dest, "w") as z:
+            for name, data in parts.items():
+                z.writestr(name, data)
+
+    monkeypatch.setattr(graft, "graft_package", garbled)
+    with pytest.raises(FileRefused, match="does not read back as written"):
+        save_grafted(original, _outputs(watch))
+    assert original.read_bytes() == before

@@ -1,0 +1,43 @@
+"""A list longer than TABLE_ROWS rows prints as several Tables: every row once, in order, across pages,
+with the header on every page, as one Table of them all prints it (the reference, built here directly)."""
+from __future__ import annotations
+
+import re
+
+from reportlab.platypus import SimpleDocTemplate
+
+from secretary.report import layout
+from tests.report.poppler import needs_poppler, pdf_info, pdf_text
+
+HEADERS = ("Rank", "Player", "Rating", "Why it changed")
+WIDTHS = (40, 150, 80, 230)
+
+
+def _rows(n):
+    return [(str(i + 1), f"Player {i + 1:04d}", f"{1500 + i % 97} ± 40",
+             "Own results +3; opponents re-rated -1" + "; and more" * (i % 4)) for i in range(n)]
+
+
+def _print(path, flowable):
+    SimpleDocTemplate(str(path)).build([flowable])
+    return pdf_text(path)
+
+
+@needs_poppler
+def test_a_long_list_prints_every_row_once_in_order(tmp_path, monkeypatch):
+    rows = _rows(3 * layout.TABLE_ROWS + 17)
+    chunked = _print(tmp_path / "chunked.pdf", layout.table(HEADERS, rows, WIDTHS, right=(0, 2)))
+    monkeypatch.setattr(layout, "TABLE_ROWS", 10 ** 9)
+    whole = _print(tmp_path / "whole.pdf", layout.table(HEADERS, rows, WIDTHS, right=(0, 2)))
+    players = re.findall(r"Player (\d{4})", chunked)
+    assert players == [f"{i + 1:04d}" for i in range(len(rows))]
+    assert re.findall(r"Player \d{4}", whole) == re.findall(r"Player \d{4}", chunked)
+    pages = int(pdf_info(tmp_path / "chunked.pdf")["Pages"])
+    # The header heads every page, and shows again once more wherever one Table of TABLE_ROWS rows ends.
+    assert chunked.count("Why it changed") in range(pages, pages + 3 + 1)
+    assert whole.count("Why it changed") == int(pdf_info(tmp_path / "whole.pdf")["Pages"])
+    assert abs(pages - int(pdf_info(tmp_path / "whole.pdf")["Pages"])) <= 3
+
+
+def test_a_short_list_is_one_table():
+    assert isinstance(layout.table(HEADERS, _rows(layout.TABLE_ROWS), WIDTHS), layout.Table)
