@@ -459,7 +459,8 @@ PAST = PAST_NOTE
 
 
 def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row]:
-    """The Fixtures table; fixtures dated before ``latest`` (the newest result) are marked past."""
+    """The Fixtures table, coming fixtures first; those dated before ``latest`` (the newest result) are marked past
+    and listed after them, as on the handicap card."""
     rows = []
     for i, f in enumerate(forecasts):
         fx = f.fixture
@@ -470,7 +471,7 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
         shown = (day(fx.date), fx.label_a, fx.label_b, values[3], percent(f.race_chance), values[5],
                  percent(f.fair_chance), values[7])
         rows.append(Row(str(i), values, shown, ("past",) if past else ("uncertain",) if note else ()))
-    return rows
+    return sorted(rows, key=lambda r: "past" in r.tags)  # stable: date order within each
 
 
 DIVISION_COLUMNS = (
