@@ -204,7 +204,7 @@ def cmd_fixtures(args) -> int:
     for fc in forecasts:
         f = fc.fixture
         note = forecast_note(fc)
-        print(f"  {f.player_a} v {f.player_b}: {f.player_a} {fc.race_chance:.0%} to win a race "
+        print(f"  {f.label_a} v {f.label_b}: {f.label_a} {fc.race_chance:.0%} to win a race "
               f"{fc.race_a}-{fc.race_b}; fair race {fc.fair_race_a}-{fc.fair_race_b}" + (f" ({note})" if note else ""))
     if written:
         print(f"Forecast columns written to the Fixtures sheet of {written}")
@@ -228,6 +228,10 @@ def cmd_evaluate(args) -> int:
     for label, sc in (("per game, predictive", ev.predictive), ("per game, point", ev),
                       ("per race, predictive", ev.predictive_race), ("per race, point", ev.race)):
         print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
+    if ev.cross.count:
+        print(f"  Cross-division games (the two players' home divisions differ): {ev.cross.count:,.0f} of the games.")
+        for label, sc in (("per game, predictive", ev.predictive_cross), ("per game, point", ev.cross)):
+            print(f"    {label:<24} {sc.log_loss:>9.4f} {sc.brier:>7.4f}")
     if ev.doubles is not None:
         print(f"  Doubles alone ({ev.doubles.count:,.0f} games, included above):")
         for label, sc in (("per game, predictive", ev.doubles_predictive), ("per game, point", ev.doubles)):
@@ -251,10 +255,9 @@ def cmd_tune(args) -> int:
 
     t = tune_workbook(args.workbook, apply=args.apply, progress=ProgressBar())
     old, new = t.old_settings, t.settings
-    print(f"Current settings: half-life {old.half_life_days:g} days, skill spread {old.skill_spread:g} points: "
-          f"log-loss {t.old_score:.4f} per game (predictive chances).")
-    print(f"Best found:       half-life {new.half_life_days:g} days, skill spread {new.skill_spread:g} points: "
-          f"log-loss {t.new_score:.4f} per game (predictive chances).")
+    for label, st, score in (("Current settings:", old, t.old_score), ("Best found:      ", new, t.new_score)):
+        print(f"{label} half-life {st.half_life_days:g} days, skill spread {st.skill_spread:g} points, "
+              f"division spread {st.division_spread:g} points: log-loss {score:.4f} per game (predictive chances).")
     if not t.improved:
         print("The current settings are already the best found; nothing to change.")
     elif args.apply:

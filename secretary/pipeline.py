@@ -318,7 +318,8 @@ def _tune_check(book: LeagueBook, fit: LeagueFit, published, progress: Progress,
     if not tune_due(min(dates, default=None), fit.reference_date, check, players=len(fit.names), results=len(dates)):
         return check
     _step(progress, cancel, "Checking whether tuning the settings would help", 0.7)
-    return check_tuning(book.results, book.settings, fit.reference_date, players=book.players, cancel=cancel)
+    return check_tuning(book.results, book.settings, fit.reference_date, players=book.players,
+                        starting_levels=starting_levels(book), cancel=cancel)
 
 
 def _update_log(book: LeagueBook, fit: LeagueFit, breakdown: Breakdown, stamp: str,
@@ -452,18 +453,21 @@ def _history_book(path: str | Path, what: str) -> LeagueBook:
 def evaluate_workbook(path: str | Path, *, cancel: CancelFlag | None = None) -> Evaluation:
     """How well the ratings would have predicted the league's own history, week by week."""
     book = _history_book(path, "the check")
-    return evaluate(book.results, book.settings, players=book.players, cancel=cancel)
+    return evaluate(book.results, book.settings, players=book.players, starting_levels=starting_levels(book),
+                    cancel=cancel)
 
 
 def tune_workbook(path: str | Path, *, apply: bool = False, progress: Progress | None = None,
                   cancel: CancelFlag | None = None) -> Tuning:
-    """Choose half-life and skill spread by walk-forward log-loss; write them only when ``apply``."""
+    """Choose half-life, skill spread and division spread by walk-forward log-loss; write them only when ``apply``."""
     book = _history_book(path, "tuning")
     report = (lambda done, total: progress("Trying settings", done / max(total, 1))) if progress else None
-    tuning = tune(book.results, book.settings, players=book.players, progress=report, cancel=cancel)
+    tuning = tune(book.results, book.settings, players=book.players, starting_levels=starting_levels(book),
+                  progress=report, cancel=cancel)
     if apply and tuning.improved:
         save_settings(path, {"half_life_days": tuning.settings.half_life_days,
-                             "skill_spread": tuning.settings.skill_spread})
+                             "skill_spread": tuning.settings.skill_spread,
+                             "division_spread": tuning.settings.division_spread})
     return tuning
 
 

@@ -88,11 +88,15 @@ def sets_won(score: str) -> tuple[int, int] | None:
     return (won[0], won[1]) if won[0] > won[1] else None
 
 
-@lru_cache(maxsize=1)
-def tennis() -> tuple[Result, ...]:
-    """Men's singles 2019, three tiers as divisions; games won = sets won."""
+@lru_cache(maxsize=2)
+def tennis(by_file: bool = False) -> tuple[Result, ...]:
+    """Men's singles 2019, three tiers as divisions; games won = sets won.
+
+    The tier is the event's level (qualifying rows of top-tier events count as top tier), or with ``by_file``
+    the file a row comes from (qualifying rows then count in the second tier, where those players play).
+    """
     out = []
-    for file in TENNIS_FILES:
+    for file, tier in zip(TENNIS_FILES, ("Top", "Second", "Third")):
         with open(need(TENNIS / file), newline="", encoding="utf-8") as fh:
             for row in csv.DictReader(fh):
                 sets = sets_won(row["score"])
@@ -100,7 +104,8 @@ def tennis() -> tuple[Result, ...]:
                     continue
                 d = row["tourney_date"]
                 out.append(Result(dt.date(int(d[:4]), int(d[4:6]), int(d[6:])), row["winner_name"],
-                                  row["loser_name"], sets[0], sets[1], TENNIS_TIERS[row["tourney_level"]]))
+                                  row["loser_name"], sets[0], sets[1],
+                                  tier if by_file else TENNIS_TIERS[row["tourney_level"]]))
     return tuple(out)
 
 

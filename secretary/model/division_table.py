@@ -31,7 +31,7 @@ class DivisionLevel:
     level : the division level, points above (+) or below (-) the centre
     sd : its ± (one posterior SD), points; None when the levels are fixed (Division spread 0)
     starting_level : the Divisions sheet's starting level, points (0 when not given)
-    players : players counted in it
+    players : players with a rated game counted in it (those on the Ratings sheet)
     cross_games : age-weighted games against other divisions
     note : plain words about how the level was set ("" when nothing to say)
     """
@@ -51,9 +51,8 @@ class DivisionLevel:
 
 def level_sentence(settings: Settings) -> str:
     """What "division level" means, in one plain sentence."""
-    return (f"A division level is how strong a division is as a whole, in points above (+) or below (-) the "
-            f"league's starting rating of {settings.centre:.0f}: games between divisions set it, and each "
-            "player's rating is their division's level plus how far they stand above or below it.")
+    return (f"A division level is how strong a division is as a whole: points above (+) or below (-) the "
+            f"league's starting rating of {settings.centre:.0f}, set by the games between divisions.")
 
 
 def level_table(fit, watch) -> tuple[DivisionLevel, ...]:
@@ -69,7 +68,9 @@ def level_table(fit, watch) -> tuple[DivisionLevel, ...]:
         return ()
     ppl = points_per_logodds(fit.settings.scale)
     cross = {d.division: d.cross_games for d in watch.divisions}
-    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
+    rated = np.ones(len(fit.group), dtype=bool)
+    rated[fit.diagnosis.no_games] = False  # as on the Ratings sheet: a player with no rated game is not counted
+    sizes = np.bincount(fit.group[rated], minlength=len(fit.group_names))
     free = fit.levels is not None
     rows = []
     for g, name in enumerate(fit.group_names):

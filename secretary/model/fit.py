@@ -373,7 +373,8 @@ def fit_map(
     prior_mean : array (n,), prior means ``mu`` in log-odds (of the deviations ``u`` with ``levels``)
     prior_sd : prior SD ``sd`` in log-odds (> 0)
     levels : optional division levels (``tau = levels.sd``; ``tau = 0`` fixes them at their means)
-    start : optional starting point for ``r`` (defaults to ``prior_mean``, plus the starting levels)
+    start : optional starting point for ``r`` (defaults to ``prior_mean``, plus the starting levels); with free
+        ``levels`` it may also hold the levels after the strengths (``n + D`` values: a warm start of both)
     gtol : stop when ``max_k |dF/dx_k| <= gtol * max(1, mean weighted games)``
 
     Raises
@@ -402,7 +403,8 @@ def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: f
     """Safeguarded Newton over ``x = r`` (or ``(r, L)`` with levels): the optimum, steps taken, final gradient."""
     pattern = LaplacianPattern(pairs)
     tol = gtol * max(1.0, float(pairs.games_per_player().mean()))
-    x = r if levels is None else np.concatenate([r, np.asarray(levels.mean, dtype=float)])
+    warm = levels is None or len(r) == pairs.n_players + len(levels.mean)  # a start may hold the levels too
+    x = r if warm else np.concatenate([r, np.asarray(levels.mean, dtype=float)])
 
     def evaluate(y):
         return gradient_and_curvature(pairs, y, mu, prior_sd, levels)

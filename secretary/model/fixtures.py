@@ -137,8 +137,8 @@ def _forecast(fixture: Fixture, fit: LeagueFit, mean: float, var: float, side_va
     settings = fit.settings
     race_a = int(fixture.race_a or settings.usual_race)
     race_b = int(fixture.race_b or settings.usual_race)
-    fair_a, fair_b = fair_race_predictive(mean, var, settings.longest_race, min(settings.shortest_race,
-                                                                                settings.longest_race))
+    fair_a, fair_b = fair_race_predictive(mean, var, settings.longest_race,
+                                          min(settings.shortest_race, settings.longest_race), settings.usual_race)
     games = {name: _index_and_games(fit, name)[1] for name in fixture.players}
     sd = float(np.sqrt(max(var, 0.0)))
     least = max(fixture.players, key=lambda name: side_var[name])  # the first of equals

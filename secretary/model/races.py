@@ -28,6 +28,7 @@ from scipy.special import betainc, expit, ndtr, polygamma, roots_jacobi
 from secretary.model.scale import game_chance
 
 NODES = 48
+FAIR_ENOUGH = 0.01  # races within 1 percentage point of the fairest count as fair (a rule of thumb)
 _X, _W = np.polynomial.hermite.hermgauss(NODES)
 
 
@@ -108,25 +109,36 @@ def _race_grid(shortest: int, longest: int):
     return np.meshgrid(np.arange(shortest, longest + 1), np.arange(shortest, longest + 1), indexing="ij")
 
 
-def _fairest(a, b, chances) -> tuple[int, int]:
-    """The ``(a, b)`` whose chance is closest to one half; among (near-)ties the longest race, then the longer for A."""
+def _fairest(a, b, chances, usual: int | None = None) -> tuple[int, int]:
+    """The ``(a, b)`` whose chance is closest to one half; among (near-)ties the longest race, then the longer for A.
+
+    With ``usual``, every race within ``FAIR_ENOUGH`` of the fairest's closeness to one half counts as fair,
+    and the one nearest the usual race (``|a - usual| + |b - usual|``) is taken, then the longest.  Without it
+    two near-even players (say 51 % per game) would be sent to the shortest race, since every longer even
+    race lets the slightly stronger player's edge grow: a 2-2 for a league of races to 5.
+    """
     gap = np.abs(chances - 0.5).ravel()
     a, b = a.ravel(), b.ravel()
-    ties = np.flatnonzero(gap <= gap.min() + 1e-12)
-    pick = ties[np.lexsort((a[ties], a[ties] + b[ties]))[-1]]
+    ties = np.flatnonzero(gap <= gap.min() + (1e-12 if usual is None else FAIR_ENOUGH))
+    far = np.zeros(len(ties)) if usual is None else np.abs(a[ties] - usual) + np.abs(b[ties] - usual)
+    pick = ties[np.lexsort((a[ties], a[ties] + b[ties], -far))[-1]]
     return int(a[pick]), int(b[pick])
 
 
-def fair_race_for_chance(p: float, longest: int = 9, shortest: int = 1) -> tuple[int, int]:
-    """The race ``(a, b)``, each shortest..longest, whose ``P(A wins)`` is closest to one half; longer races win ties."""
+def fair_race_for_chance(p: float, longest: int = 9, shortest: int = 1, usual: int | None = None) -> tuple[int, int]:
+    """The race ``(a, b)``, each shortest..longest, whose ``P(A wins)`` is closest to one half; longer races win ties.
+
+    With ``usual``, the race nearest the usual race among those within ``FAIR_ENOUGH`` of as fair (``_fairest``).
+    """
     a, b = _race_grid(shortest, longest)
-    return _fairest(a, b, race_chance(p, a, b))
+    return _fairest(a, b, race_chance(p, a, b), usual)
 
 
-def fair_race_predictive(mean: float, var: float, longest: int = 9, shortest: int = 1) -> tuple[int, int]:
+def fair_race_predictive(mean: float, var: float, longest: int = 9, shortest: int = 1,
+                         usual: int | None = None) -> tuple[int, int]:
     """``fair_race_for_chance`` with predictive chances: ``d ~ N(mean, var)`` (log-odds)."""
     a, b = _race_grid(shortest, longest)
-    return _fairest(a, b, predictive_race_chance(mean, var, a, b))
+    return _fairest(a, b, predictive_race_chance(mean, var, a, b), usual)
 
 
 def fair_race(rating_a: float, rating_b: float, *, longest: int = 9, shortest: int = 2,

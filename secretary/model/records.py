@@ -102,13 +102,18 @@ class Fixture(_Sides):
 
 # Defaults chosen by walk-forward evaluation (see README, "How good are the
 # ratings").  They live here only; every other place reads them from Settings.
-# Run: `python tests/bench/choose_defaults.py` (2026-12-02, one pool: no
-# division levels yet), the lowest mean walk-forward predictive log-loss per
-# game over the demo league and the real badminton and tennis sets: it chose
-# half-life 524 days and skill spread 252 points (mean 0.64220; spreads 240 to
-# 265 and half-lives 480 to 620 all score within 0.00005 of it).  Rounded.
-DEFAULT_SKILL_SPREAD = 250.0  # points
-DEFAULT_HALF_LIFE_DAYS = 520.0  # days
+# Run: `python tests/bench/choose_defaults.py --refine 14` (2026-12-02, with
+# division levels), the lowest mean walk-forward predictive log-loss per game
+# over the demo league and the real badminton and tennis sets: half-life 480
+# days, skill spread 175 points, division spread 283 points (mean 0.63784;
+# division spread 200 scored 0.63787, the old 520 / 250 / 100 0.63905).
+# The optimum is flat in the division spread: at 480 / 175, 300 scored 0.63784,
+# 130 0.63794 and 100 0.63803 (tennis the same 0.6413 at all three).  100 is
+# shipped: with a wider prior the watch list's linkage (the share of a level's
+# precision that comes from games rather than from this prior) no longer flags
+# the demo's isolated division (Valley: 0.32 at 100, 0.80 at 300).
+DEFAULT_SKILL_SPREAD = 175.0  # points
+DEFAULT_HALF_LIFE_DAYS = 480.0  # days
 DEFAULT_DIVISION_SPREAD = 100.0  # points: SD of the division levels' prior (0 = one pool)
 
 
@@ -173,7 +178,7 @@ class TuneCheck:
     checked_through : newest result date at the check
     settings : the settings checked; the suggestion stands only while they are unchanged
     gain : walk-forward predictive log-loss per game (nats) that the tuned settings would save
-    half_life_days, skill_spread : what tuning found
+    half_life_days, skill_spread, division_spread : what tuning found (division spread None: not checked)
     """
 
     checked_through: dt.date
@@ -181,6 +186,7 @@ class TuneCheck:
     gain: float
     half_life_days: float
     skill_spread: float
+    division_spread: float | None = None
 
 
 @dataclass(frozen=True)

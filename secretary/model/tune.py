@@ -1,25 +1,28 @@
-"""Choosing the half-life and the skill spread by walk-forward predictive log-loss.
+"""Choosing the half-life, the skill spread and the division spread by walk-forward predictive log-loss.
 
 The score is ``Evaluation.score``: the log-loss per game of the predictive
 chances (averaged over each step's posterior), what the secretary is shown.
 The coarse grid is walked with point chances only (a predictive walk costs a
-factorisation of the Hessian per step: on tennis about 15 s against 2 s); it
-only picks where the local search starts, and every setting the search
-compares, the starting settings included, is scored predictively.
+factorisation of the Hessian per step); it only picks where the local search
+starts, and every setting the search compares, the starting settings
+included, is scored predictively.
 
-A coarse grid over (half-life, skill spread), then a compass search around
-the best point in log space (each axis stepped by a factor, the factor
+A coarse grid over (half-life, skill spread) at the current Division spread;
+in a league with two or more divisions, a scan of Division spreads (0 = one
+pool among them) at the grid's best point; then a compass search around the
+best point in log space (each axis stepped by a factor, the factor
 square-rooted whenever no neighbour improves).  A half-life of 0 (games never
-age) is one of the candidates; the search does not step away from it along
-the half-life axis.  The starting settings are scored too and kept unless
-something scores better, so the answer is never worse than what was given.
+age) and a Division spread of 0 (one pool) are candidates; the search does
+not step away from a 0 along its axis.  The starting settings are scored too
+and kept unless something scores better, so the answer is never worse than
+what was given.
 """
 from __future__ import annotations
 
 import datetime as dt
 import math
 from dataclasses import dataclass
-from typing import Callable, Sequence
+from typing import Callable, Mapping, Sequence
 
 from secretary.errors import Cancelled
 from secretary.model.evaluate import Walk, evaluate, prepare
@@ -27,7 +30,9 @@ from secretary.model.records import Player, Result, Settings, TuneCheck
 
 HALF_LIVES = (0.0, 30.0, 60.0, 120.0, 240.0, 480.0, 960.0)  # days; 0 = no ageing
 SPREADS = (50.0, 75.0, 110.0, 160.0, 240.0, 360.0)  # points
+DIVISION_SPREADS = (0.0, 50.0, 100.0, 200.0, 400.0)  # points; 0 = one pool (scanned only with divisions)
 REFINE_EVALUATIONS = 16  # walks spent on the local search after the grid
+FIELDS = ("half_life_days", "skill_spread", "division_spread")  # the tuned settings, in key order
 
 
 @dataclass(frozen=True)
@@ -36,21 +41,32 @@ class Tuning:
 
     Attributes
     ----------
-    old_settings, settings : the settings given, and the chosen ones (only half-life and spread differ)
+    old_settings, settings : the settings given, and the chosen ones (only the three tuned fields differ)
     old_score, new_score : walk-forward predictive log-loss per game (nats) of each
-    tried : every (half-life days, skill spread points, log-loss) scored, in order
+    tried : every (half-life days, skill spread points, division spread points, log-loss) scored, in order
     """
 
     old_settings: Settings
     settings: Settings
     old_score: float
     new_score: float
-    tried: tuple[tuple[float, float, float], ...]
+    tried: tuple[tuple[float, float, float, float], ...]
 
     @property
     def improved(self) -> bool:
         """True when the chosen settings score strictly better than the old ones."""
         return self.new_score < self.old_score
+
+
+def _walks(data, players, step_days, starting_levels) -> list[Walk]:
+    if isinstance(data, list) and data and all(isinstance(w, Walk) for w in data):
+        return data
+    return [data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days,
+                                                        starting_levels=starting_levels)]
+
+
+def _key(values) -> tuple[float, float, float]:
+    return tuple(float(round(float(v))) for v in values)
 
 
 def tune(
@@ -59,23 +75,27 @@ def tune(
     *,
     players: Sequence[Player] = (),
     step_days: int = 7,
+    starting_levels: Mapping[str, float] | None = None,
     half_lives: Sequence[float] = HALF_LIVES,
     spreads: Sequence[float] = SPREADS,
+    division_spreads: Sequence[float] = DIVISION_SPREADS,
     refine: int = REFINE_EVALUATIONS,
     progress: Callable[[int, int], None] | None = None,
     cancel=None,
 ) -> Tuning:
-    """The half-life (days) and skill spread (points) with the lowest walk-forward predictive log-loss.
+    """The half-life (days), skill spread and division spread (points) with the lowest walk-forward log-loss.
 
     Parameters
     ----------
     data : results, a ``Walk`` from ``evaluate.prepare``, or a list of walks (then the mean of their scores is
         minimised: how the shipped defaults were chosen over several leagues)
     settings : the current settings (scored first; every other field is kept)
-    players : Players-sheet records (starting ratings)
+    players : Players-sheet records (starting ratings, divisions)
     step_days : walk step in days
+    starting_levels : starting level per division, points (the Divisions sheet)
     half_lives, spreads : the coarse grid (half-life 0 = no ageing)
-    refine : most walks spent refining around the grid's best point
+    division_spreads : the Division spreads scanned at the grid's best point (only when a walk has divisions)
+    refine : most walks spent refining around the best point found
     progress : called as ``progress(done, total)`` after every walk (and once at the end)
     cancel : optional flag with ``is_set()``; when set, ``Cancelled`` is raised
 
@@ -84,73 +104,82 @@ def tune(
     Cancelled
         when ``cancel`` is set; nothing is chosen.
     """
-    if isinstance(data, list) and data and all(isinstance(w, Walk) for w in data):
-        walks = data
-    else:
-        walks = [data if isinstance(data, Walk) else prepare(data, players=players, step_days=step_days)]
-    total = 1 + len(half_lives) * len(spreads) + max(0, int(refine))
+    walks = _walks(data, players, step_days, starting_levels)
+    levels = any(len(w.division_names) > 1 for w in walks)
+    scan = tuple(division_spreads) if levels else ()
+    total = 1 + len(half_lives) * len(spreads) + len(scan) + max(0, int(refine))
     walked = [0]
 
-    def mean_score(key: tuple[float, float], predictive: bool) -> float:
+    def mean_score(key, predictive: bool) -> float:
         if cancel is not None and cancel.is_set():
             raise Cancelled("Tuning was cancelled; the settings were not changed.")
-        trial = settings.replace(half_life_days=float(key[0]), skill_spread=float(key[1]))
+        trial = settings.replace(**dict(zip(FIELDS, key)))
         value = sum(evaluate(w, trial, cancel=cancel, predictive=predictive).score for w in walks) / len(walks)
         walked[0] += 1
         if progress is not None:
             progress(min(walked[0], total), total)
         return value
 
-    point: dict[tuple[float, float], float] = {}
-    for h in half_lives:
-        for sp in spreads:
-            key = (round(float(h)), round(float(sp)))
-            if key not in point:
-                point[key] = mean_score(key, False)
-    scores: dict[tuple[float, float], float] = {}
-    tried: list[tuple[float, float, float]] = []
+    current = _key(getattr(settings, f) for f in FIELDS)
+    point: dict[tuple, float] = {}
+    for key in (_key((h, sp, current[2])) for h in half_lives for sp in spreads):
+        if key not in point:
+            point[key] = mean_score(key, False)
+    best = min(point, key=point.get) if point else current
+    for key in (_key((best[0], best[1], t)) for t in scan):
+        if key not in point:
+            point[key] = mean_score(key, False)
+    scores: dict[tuple, float] = {}
+    tried: list[tuple[float, float, float, float]] = []
 
-    def score(half_life: float, spread: float) -> float:
-        key = (round(float(half_life)), round(float(spread)))
+    def score(*values) -> float:
+        key = _key(values)
         if key not in scores:
             scores[key] = mean_score(key, True)
-            tried.append((float(key[0]), float(key[1]), scores[key]))
+            tried.append((*key, scores[key]))
         return scores[key]
 
-    old = score(settings.half_life_days, settings.skill_spread)
-    start = min(point, key=point.get) if point else (round(settings.half_life_days), round(settings.skill_spread))
-    _refine(score, start, walked, walked[0] + max(0, int(refine)), half_lives, spreads)
+    old = score(*current)
+    start = min(point, key=point.get) if point else current
+    factors = (math.sqrt(_ratio([x for x in half_lives if x > 0])), math.sqrt(_ratio(spreads)),
+               math.sqrt(_ratio([x for x in scan if x > 0])) if levels else None)
+    _refine(score, start, walked, walked[0] + max(0, int(refine)), factors)
     if progress is not None:
         progress(total, total)
     key = min(scores, key=scores.get)
     if scores[key] >= old:
         return Tuning(settings, settings, old, old, tuple(tried))
-    chosen = settings.replace(half_life_days=float(key[0]), skill_spread=float(key[1]))
-    return Tuning(settings, chosen, old, scores[key], tuple(tried))
+    return Tuning(settings, settings.replace(**dict(zip(FIELDS, key))), old, scores[key], tuple(tried))
 
 
-def _refine(score, start, walked, budget: int, half_lives, spreads) -> None:
-    """Compass search from ``start`` on the predictive ``score`` until ``walked[0]`` reaches ``budget``."""
+def _refine(score, start, walked, budget: int, factors) -> None:
+    """Compass search from ``start`` on the predictive ``score`` until ``walked[0]`` reaches ``budget``.
+
+    ``factors`` holds each axis's first step factor (None: the axis is not searched); a 0 on an axis
+    ("never ages", "one pool") has no neighbour along it.
+    """
     if walked[0] >= budget:
         return
-    (h, s), best = start, score(*start)
-    # Steps halve the grid's log spacing first (factor = sqrt of the typical neighbour ratio).
-    step_h = math.sqrt(_ratio([x for x in half_lives if x > 0]))
-    step_s = math.sqrt(_ratio(spreads))
-    while walked[0] < budget and (step_h > 1.02 or step_s > 1.02):
+    x, best = list(start), score(*start)
+    steps = list(factors)
+    while walked[0] < budget and any(f is not None and f > 1.02 for f in steps):
         moved = False
-        along_h = ((h * step_h, s), (h / step_h, s)) if h > 0 else ()  # "never ages" has no neighbour
-        for cand in (*along_h, (h, s * step_s), (h, s / step_s)):
-            if walked[0] >= budget:
-                break
-            if (h > 0 and cand[0] < 1) or cand[1] < 1:
+        for axis, f in enumerate(steps):
+            if f is None or x[axis] <= 0:
                 continue
-            value = score(*cand)
-            if value < best:
-                (h, s), best, moved = (round(cand[0]), round(cand[1])), value, True
+            for value in (x[axis] * f, x[axis] / f):
+                if walked[0] >= budget or value < 1:
+                    continue
+                cand = list(x)
+                cand[axis] = round(value)
+                found = score(*cand)
+                if found < best:
+                    x, best, moved = cand, found, True
+                    break
+            if moved:
                 break
         if not moved:
-            step_h, step_s = math.sqrt(step_h), math.sqrt(step_s)
+            steps = [None if f is None else math.sqrt(f) for f in steps]
 
 
 def _ratio(values: Sequence[float]) -> float:
@@ -167,6 +196,7 @@ SEASON_DAYS = 240  # about one league season (September to April) of results sin
 SUGGEST_GAIN = 0.002  # nats per game: the smallest predictive log-loss gain worth a suggestion
 CHECK_HALF_LIVES = (120.0, 480.0, 0.0)  # the check's coarse grid (a quicker tune than `secretary tune`)
 CHECK_SPREADS = (90.0, 150.0, 240.0)
+CHECK_DIVISION_SPREADS = (0.0, 100.0, 300.0)
 CHECK_REFINE = 6
 CHECK_STEP_DAYS = 28  # the check walks four weeks at a time: a quarter of the fits of a weekly walk
 CHECK_MOST_PLAYERS = 1000  # larger leagues are not checked during an update (a check would take minutes)
@@ -186,19 +216,23 @@ def tune_due(first_date: dt.date | None, reference_date: dt.date | None, last: T
 
 
 def check_tuning(data, settings: Settings, reference_date: dt.date, *, players: Sequence[Player] = (),
-                 cancel=None) -> TuneCheck:
-    """A quick tune (a 3 x 3 grid, a short local search, four-week steps) and what it would gain over ``settings``."""
-    found = tune(data, settings, players=players, step_days=CHECK_STEP_DAYS, half_lives=CHECK_HALF_LIVES,
-                 spreads=CHECK_SPREADS, refine=CHECK_REFINE, cancel=cancel)
+                 starting_levels: Mapping[str, float] | None = None, cancel=None) -> TuneCheck:
+    """A quick tune (a 3 x 3 grid, three Division spreads with divisions, a short local search, four-week steps)
+    and what it would gain over ``settings``."""
+    found = tune(data, settings, players=players, step_days=CHECK_STEP_DAYS, starting_levels=starting_levels,
+                 half_lives=CHECK_HALF_LIVES, spreads=CHECK_SPREADS, division_spreads=CHECK_DIVISION_SPREADS,
+                 refine=CHECK_REFINE, cancel=cancel)
     return TuneCheck(reference_date, settings, max(found.old_score - found.new_score, 0.0),
-                     found.settings.half_life_days, found.settings.skill_spread)
+                     found.settings.half_life_days, found.settings.skill_spread, found.settings.division_spread)
 
 
 def tune_advice(check: TuneCheck | None, settings: Settings, workbook: str = "WORKBOOK") -> str:
     """The suggestion to tune, in plain words ('' when there is none, or the settings changed since the check)."""
     if check is None or check.settings != settings or check.gain <= SUGGEST_GAIN:
         return ""
+    named = [f"Half-life {check.half_life_days:g} days", f"Skill spread {check.skill_spread:g} points"]
+    if check.division_spread is not None and check.division_spread != settings.division_spread:
+        named.append(f"Division spread {check.division_spread:g} points")
     return (f"A season of results has come in since the settings were last checked: tuning would make the "
-            f"predictions better (log-loss {check.gain:.3f} per game lower) with Half-life "
-            f"{check.half_life_days:g} days and Skill spread {check.skill_spread:g} points. Run `secretary tune "
-            f"\"{workbook}\" --apply` once, or enter them in League \u25b8 Settings.")
+            f"predictions better (log-loss {check.gain:.3f} per game lower) with {', '.join(named[:-1])} and "
+            f"{named[-1]}. Run `secretary tune \"{workbook}\" --apply` once, or enter them in League \u25b8 Settings.")

@@ -9,6 +9,7 @@ from pathlib import Path
 from lxml import etree
 
 from secretary.errors import FileRefused
+from secretary.workbook import oversized
 
 SUFFIXES = (".xlsx", ".xlsm")
 MB = 1024 * 1024
@@ -79,6 +80,8 @@ def _check_zip(path: Path) -> None:
         _refuse_if_too_large(path, [m for m in members if m.filename not in tool], limits.unpacked, limits, "")
         _refuse_if_too_large(path, [m for m in members if m.filename in tool], limits.tool_unpacked, limits,
                              "the tool's own sheets of ")
+    if any(m.file_size >= oversized.SCAN_FROM for m in members):
+        oversized.refuse_oversized_texts(path, members, sheet_parts(path, members))
 
 
 def _too_large(members, limit: int, limits: Limits) -> bool:
@@ -103,24 +106,42 @@ _REL_ID = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}
 
 
 def _tool_parts(path: Path, members) -> set[str]:
-    """The package parts of the tool's own sheets (found by the tool's markers), or none when the
-    workbook's own description of its sheets is missing, damaged or itself too large to read."""
+    """The package parts of the tool's own sheets (found by the tool's markers)."""
     from secretary.workbook import toolsheets
 
+    found = sheet_parts(path, members)
+    tool = set(toolsheets.find(found.defined, list(found.values())).values())
+    return {part for part, sheet in found.items() if sheet in tool}
+
+
+class SheetParts(dict):
+    """Package part -> sheet name, with the workbook's defined names (name, text) beside."""
+
+    defined: list = []
+
+
+def sheet_parts(path: Path, members) -> SheetParts:
+    """Which part holds which sheet, read from workbook.xml and its rels; empty when they are missing,
+    damaged or themselves too large to read."""
+    found = SheetParts()
     sizes = {m.filename: m.file_size for m in members}
     rels = "xl/_rels/workbook.xml.rels"
     if sizes.get("xl/workbook.xml", _SMALL_PART + 1) > _SMALL_PART or sizes.get(rels, _SMALL_PART + 1) > _SMALL_PART:
-        return set()
+        return found
     try:
         with zipfile.ZipFile(path) as archive:
             root = etree.fromstring(archive.read("xl/workbook.xml"), _PARSER)
             links = etree.fromstring(archive.read(rels), _PARSER)
     except (etree.XMLSyntaxError, KeyError, zipfile.BadZipFile, OSError, ValueError):
-        return set()
-    tool = set(toolsheets.of_root(root).values())
-    ids = {el.get(_REL_ID) for el in root.iter(f"{toolsheets._MAIN}sheet") if el.get("name") in tool}
-    targets = {r.get("Target") or "" for r in links if r.get("Id") in ids}
-    return {t.lstrip("/") if t.startswith("/") else posixpath.normpath(posixpath.join("xl", t)) for t in targets}
+        return found
+    main = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
+    targets = {r.get("Id"): r.get("Target") or "" for r in links}
+    for el in root.iter(f"{main}sheet"):
+        target = targets.get(el.get(_REL_ID), "")
+        part = target.lstrip("/") if target.startswith("/") else posixpath.normpath(posixpath.join("xl", target))
+        found[part] = el.get("name")
+    found.defined = [(d.get("name"), d.text) for d in root.iter(f"{main}definedName") if d.get("localSheetId") is None]
+    return found
 
 
 _STRICT_NAMESPACE = b"http://purl.oclc.org/ooxml/spreadsheetml/main"

@@ -36,6 +36,8 @@ def write_state(wb: Workbook, state: PublishedState) -> None:
         document["tune_check"] = {"checked_through": c.checked_through.isoformat(), "settings": _settings(c.settings),
                                   "gain": float(c.gain), "half_life_days": float(c.half_life_days),
                                   "skill_spread": float(c.skill_spread)}
+        if c.division_spread is not None:
+            document["tune_check"]["division_spread"] = float(c.division_spread)
     text = json.dumps(document, ensure_ascii=True, separators=(",", ":"))
     ws = replace_sheet(wb, STATE_SHEET)
     put(ws.cell(1, 1), _TITLE)
@@ -72,7 +74,8 @@ def _parse_tune_check(doc: object) -> TuneCheck | None:
     """The stored tune check; None when absent or damaged (it is only run again)."""
     try:
         return TuneCheck(dt.date.fromisoformat(doc["checked_through"]), _parse_settings(doc["settings"]),
-                         _finite(doc["gain"]), _finite(doc["half_life_days"]), _finite(doc["skill_spread"]))
+                         _finite(doc["gain"]), _finite(doc["half_life_days"]), _finite(doc["skill_spread"]),
+                         _finite(doc["division_spread"]) if "division_spread" in doc else None)
     except Exception:
         return None
 

@@ -42,7 +42,7 @@ from tests.bench.demo_league import demo_league  # noqa: E402
 SETS = {
     "demo": lambda: demo_league(),
     "badminton": lambda: (realdata.badminton(), ()),
-    "tennis": lambda: (realdata.tennis(), ()),
+    "tennis": lambda: (realdata.tennis(by_file=True), ()),  # tiers = the three files
 }
 
 
@@ -55,7 +55,9 @@ def calibration_gap(bands, share: float = 0.01) -> float:
 def engine_row(walk, settings: Settings, label: str) -> dict:
     start = time.perf_counter()
     ev = evaluate(walk, settings)
-    return dict(method=f"{label}: half-life {settings.half_life_days:g} d, spread {settings.skill_spread:g}",
+    cross = dict(cross=ev.cross.log_loss, predictive_cross=ev.predictive_cross.log_loss) if ev.cross.count else {}
+    return dict(method=f"{label}: half-life {settings.half_life_days:g} d, spread {settings.skill_spread:g}, "
+                       f"division spread {settings.division_spread:g}", **cross,
                 point=ev.log_loss, predictive=ev.predictive.log_loss, race=ev.race.log_loss,
                 predictive_race=ev.predictive_race.log_loss, brier=ev.predictive.brier,
                 gap=calibration_gap(ev.predictive.calibration), race_gap=calibration_gap(ev.predictive_race.calibration),
@@ -68,19 +70,21 @@ def baseline_row(score: baselines.Score) -> dict:
                 matches=score.matches, seconds=score.seconds)
 
 
-def bench(name: str, demo_settings: Settings | None) -> tuple[list[dict], Settings, float]:
+def bench(name: str, demo_settings: Settings | None, with_baselines: bool = True) -> tuple[list[dict], Settings, float]:
     """Every method on one set; also the settings tuned on it and the tuning time."""
     results, players = SETS[name]()
     walk = prepare(results, players=players)
     start = time.perf_counter()
     tuned = tune(walk).settings
     tune_seconds = time.perf_counter() - start
-    rows = [baseline_row(baselines.coin(walk)), engine_row(walk, Settings(), "engine, shipped defaults")]
+    rows = [baseline_row(baselines.coin(walk)), engine_row(walk, Settings(), "engine, shipped defaults"),
+            engine_row(walk, Settings(division_spread=0.0), "engine, shipped defaults but one pool")]
     if demo_settings is not None and name != "demo":
         rows.append(engine_row(walk, demo_settings, "engine, demo-tuned"))
     rows.append(engine_row(walk, tuned, f"engine, tuned here ({tune_seconds:.1f} s)"))
-    rows += [baseline_row(s) for s in (baselines.best_elo(walk), baselines.glicko_2(walk),
-                                       baselines.true_skill(walk), baselines.best_whr(walk))]
+    if with_baselines:
+        rows += [baseline_row(s) for s in (baselines.best_elo(walk), baselines.glicko_2(walk),
+                                           baselines.true_skill(walk), baselines.best_whr(walk))]
     return rows, tuned, tune_seconds
 
 
@@ -89,11 +93,13 @@ def _cell(row: dict, key: str, fmt: str) -> str:
 
 
 HEADER = ("| data set | method | log-loss per game: point | predictive | per race: point | predictive "
-          "| Brier per game | calibration gap: per game | per race | games | races | seconds |")
+          "| Brier per game | cross-division log-loss per game: point | predictive "
+          "| calibration gap: per game | per race | games | races | seconds |")
 
 
 def table_row(name: str, r: dict) -> str:
-    cells = [_cell(r, k, ".4f") for k in ("point", "predictive", "race", "predictive_race", "brier")]
+    cells = [_cell(r, k, ".4f") for k in ("point", "predictive", "race", "predictive_race", "brier", "cross",
+                                          "predictive_cross")]
     cells += [_cell(r, k, ".3f") for k in ("gap", "race_gap")]
     races = _cell(r, "races", ",.0f")
     return f"| {name} | {r['method']} | {' | '.join(cells)} | {r['games']:,.0f} | {races} | {r['seconds']:.2f} |"
@@ -112,13 +118,14 @@ def calibration_lines(name: str, ev) -> list[str]:
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--sets", default="demo,badminton,tennis", help="comma-separated: demo, badminton, tennis")
+    parser.add_argument("--no-baselines", action="store_true", help="the engine's rows only")
     args = parser.parse_args(argv)
     print(HEADER)
     print("|" + "---|" * (HEADER.count("|") - 1))
     demo_settings, notes = None, []
     for name in args.sets.split(","):
         try:
-            rows, tuned, _ = bench(name, demo_settings)
+            rows, tuned, _ = bench(name, demo_settings, not args.no_baselines)
         except pytest.skip.Exception as why:
             print(f"| {name} | skipped: {why} |" + " |" * (HEADER.count("|") - 3))
             continue

@@ -68,3 +68,21 @@ def test_evaluate_and_tune_on_an_empty_league_say_why(tmp_path, capsys, command)
     assert code == 1
     assert "nan" not in text
     assert "at least two" in text
+
+
+def test_the_longest_name_allowed_prints_on_both_pdfs(tmp_path, capsys):
+    """Case 4's trigger itself: a very long name (the longest the checks let through, in one word, which
+    cannot wrap) used to break the PDF layout after the workbook was swapped in."""
+    import datetime as dt
+
+    from tests.report.poppler import MISSING, pdf_text, squeeze
+    from tests.workbook.league_books import D, good_results
+
+    longest = "W" * 100
+    rows = good_results() + [[D + dt.timedelta(days=7), "Premier", longest, "Dev Pike", 5, 1, "", ""]]
+    path = write_book(tmp_path / "league.xlsx", rows, fixtures=[[D.replace(day=28), longest, "Ada Finch", None, None]])
+    code, text = run_cli(capsys, "update", path)
+    assert code == 0 and "printouts failed" not in text, text
+    if not MISSING:
+        for pdf in (pipeline.notice_pdf_path(path), pipeline.handicap_pdf_path(path)):
+            assert longest in squeeze(pdf_text(pdf)), pdf.name

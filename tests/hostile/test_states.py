@@ -15,7 +15,7 @@ from tests.workbook.league_books import D, good_results, write_book
 
 PLAYERS = [["Ada Finch", "Premier", None, ""], ["Bram Oak", "Premier", None, ""],
            ["Cleo Marsh", "Premier", None, ""], ["Dev Pike", "Premier", None, ""],
-           ["Eli Rook", "Premier", 1900, ""], ["Fay Nook", "Premier", None, ""]]
+           ["Eli Rook", "Premier", 1900, ""], ["Fay Nook", "Second", None, ""]]
 
 
 def _players_with_games(path: Path) -> set[str]:
@@ -26,8 +26,25 @@ def _players_with_games(path: Path) -> set[str]:
 
 
 def _ratings(path: Path) -> dict[str, tuple]:
+    """The players' table of the Ratings sheet (down to the first blank row; the divisions table follows)."""
     ws = openpyxl.load_workbook(path, read_only=True)["Ratings"]
-    return {row[1]: row for row in ws.iter_rows(min_row=2, values_only=True)}
+    rows = []
+    for row in ws.iter_rows(min_row=2, values_only=True):
+        if row[1] is None:
+            break
+        rows.append(row)
+    return {row[1]: row for row in rows}
+
+
+def _division_players(path: Path) -> int:
+    """The sum of the divisions table's Players column (0 without the table)."""
+    ws = openpyxl.load_workbook(path, read_only=True)["Ratings"]
+    rows = list(ws.iter_rows(values_only=True))
+    head = next((k for k, row in enumerate(rows) if "Division level" in row), None)
+    if head is None:
+        return 0
+    col = rows[head].index("Players")
+    return sum(row[col] for row in rows[head + 1:] if isinstance(row[col], int))
 
 
 def _no_longer_rated(path: Path) -> set[str]:
@@ -47,6 +64,7 @@ def _check_one_state_each(path: Path, rated_before: set[str]) -> None:
     assert all(row[5] > 0 and row[0] is not None for row in ratings.values())
     gone = _no_longer_rated(path)
     assert gone == rated_before - played and not gone & set(ratings)
+    assert _division_players(path) in (0, len(ratings))  # the divisions table counts the same players
 
 
 @needs_poppler
@@ -63,6 +81,7 @@ def test_a_player_whose_results_were_all_removed_is_no_longer_rated_and_not_rank
     code, out = run("update", league)
     assert code == 0, out
     _check_one_state_each(league, {"Ada Finch", "Bram Oak", "Cleo Marsh", "Dev Pike", "Eli Rook"})
+    assert _division_players(league) == 4  # Premier and Fay Nook's Second: the four rated players
     assert "4 players rated" in out
     note = next(line for line in out.splitlines() if "No rated games yet" in line)
     assert "Fay Nook" in note and "Eli Rook" not in note  # never rated: named as such, once

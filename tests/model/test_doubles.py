@@ -62,12 +62,13 @@ def test_singles_only_league_gives_exactly_todays_ratings():
             seen.setdefault(name, {}).setdefault(division, 0)
             seen[name][division] += 1
     most = {name: max(count, key=count.get) for name, count in seen.items()}  # dicts keep first-met order
-    fit = fit_league(today_results(), Settings(), players=players, home=most)
+    then = Settings(skill_spread=250.0, half_life_days=520.0, division_spread=100.0)  # c188dc8's defaults
+    fit = fit_league(today_results(), then, players=players, home=most)
     assert list(fit.names) == TODAY_NAMES
     assert fit.r.tolist() == TODAY_R
     assert fit.var.tolist() == TODAY_VAR
     assert fit.level.tolist() == TODAY_LEVEL
-    one_pool = fit_league(today_results(), Settings(division_spread=0.0, half_life_days=0))
+    one_pool = fit_league(today_results(), then.replace(division_spread=0.0, half_life_days=0))
     assert one_pool.r.tolist() == TODAY_R_ONE_POOL
     assert one_pool.var.tolist() == TODAY_VAR_ONE_POOL
     assert fit.pairs.doubles is None and fit.doubles_games.sum() == 0.0

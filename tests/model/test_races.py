@@ -76,3 +76,30 @@ def test_stronger_player_gives_games_away():
     assert a > b
     p = game_chance(1700.0, 1500.0)
     assert abs(race_chance(p, a, b) - 0.5) < abs(race_chance(p, 9, 9) - 0.5)
+
+
+def _enumerated_chance(p: float, a: int, b: int) -> float:
+    """P(first to a before the other reaches b), by summing the game sequences (negative binomial counts)."""
+    return sum(comb(a - 1 + k, k) * p**a * (1 - p) ** k for k in range(b))
+
+
+@pytest.mark.parametrize("p", [0.5, 0.503, 0.507, 0.51, 0.515, 0.52, 0.56, 0.6, 0.7, 0.85, 0.44])
+@pytest.mark.parametrize("usual", [3, 5, 7])
+def test_a_fair_race_near_the_usual_race_is_kept_when_it_is_fair_enough(p, usual):
+    from secretary.model.races import FAIR_ENOUGH
+
+    a, b = fair_race_for_chance(p, 9, 2, usual)
+    grid = {(x, y): abs(_enumerated_chance(p, x, y) - 0.5) for x in range(2, 10) for y in range(2, 10)}
+    fairest = min(grid.values())
+    fair = [race for race, gap in grid.items() if gap <= fairest + FAIR_ENOUGH + 1e-12]
+    assert (a, b) in fair  # never more than one percentage point less fair than the fairest race
+    distance = {race: abs(race[0] - usual) + abs(race[1] - usual) for race in fair}
+    assert distance[(a, b)] == min(distance.values())  # and the nearest such race to the usual one
+
+
+def test_near_even_players_are_not_sent_to_the_shortest_race():
+    # 51 % per game: the shortest race 2-2 is the fairest (51.5 %), a race to 5 gives 52.5 %.
+    assert fair_race_for_chance(0.51, 9, 2) == (2, 2)
+    assert fair_race_for_chance(0.51, 9, 2, usual=5) == (5, 5)
+    assert fair_race_for_chance(0.5, 9, 2, usual=5) == (5, 5)
+    assert fair_race_for_chance(0.6, 9, 2, usual=5) != (5, 5)  # a real gap still gets a handicap

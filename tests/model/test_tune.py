@@ -28,7 +28,7 @@ def test_tuning_scores_better_or_equal_and_reports_true_scores(walk):
     assert result.old_score == pytest.approx(evaluate(walk, start).predictive.log_loss, rel=1e-12)
     assert result.new_score == pytest.approx(evaluate(walk, result.settings).predictive.log_loss, rel=1e-12)
     assert result.new_score < result.old_score and result.improved
-    assert result.new_score == min(score for _, _, score in result.tried)
+    assert result.new_score == min(t[-1] for t in result.tried)
     # Only the two tuned fields change.
     assert result.settings.replace(half_life_days=3000.0, skill_spread=900.0) == start
 
