@@ -19,9 +19,15 @@ The story the files tell:
   games that tie the Valley to the rest, so its link is weak but not zero.
 - A knockout Cup each season (Division "Cup", Saturdays) mixes Premier,
   Division One and Division Two too.
+- Every fourth league night is a team night: Premier, Division One and
+  Division Two each add one doubles frame (Event "Team night", Partner A and
+  Partner B filled in) between two pairs of that night's players; a side wins
+  a game with probability sigmoid of the mean of its two strengths minus the
+  other side's.
 - Two Division Two players left after the first season; two newcomers joined
-  Division Two late in the second season without a starting rating (and played
-  each other on their first night); a transfer player joined Division One
+  Division Two late in the second season without a starting rating (their
+  first night was a team night, and they played its doubles frame together,
+  never meeting each other in singles); a transfer player joined Division One
   mid-season with a starting rating in the Players sheet.
 - Wrinkles that should raise warnings only: one result spells a name in lower
   case, one uses a player's other name (listed under "Also known as"), and one
@@ -29,7 +35,7 @@ The story the files tell:
 - The final league night is kept out of league.xlsx, in new-week.csv (same
   columns as the Results sheet).  In it, the weaker newcomer beats the strongest
   Division Two player, and the other newcomer sits the week out: their rating
-  still moves, because an opponent they met was re-rated.
+  still moves, because their doubles partner was re-rated.
 - true-skills.csv holds the strengths the games were simulated from: every game
   is won with probability sigmoid(r_a - r_b), and rating = 1500 + 400 r / ln 10.
 """
@@ -64,6 +70,9 @@ TRUE_SKILLS_COLUMNS = ("Player", "Division", "True strength (log-odds)", "True r
 PREMIER, ONE, TWO, VALLEY = "Premier", "Division One", "Division Two", "Valley"
 OPEN_NIGHT, CUP = "Open night", "Cup"
 LEAGUE_NIGHT = "League night"
+TEAM_NIGHT = "Team night"
+TEAM_NIGHTS = 4  # every fourth league night is a team night, with one doubles frame per Thursday division
+DOUBLES_SEED = 16  # the doubles frames draw from a stream of their own
 VOID_NOTE = f"{schema.VOID_PREFIX} - player taken ill"
 
 # Division: (mean strength, spread within the division, race to), strengths in log-odds.
@@ -266,11 +275,34 @@ def league_night(rng, league: League, season: int, week: int, date: dt.date) -> 
         away = {n for n in names if rng.random() < ABSENT}
         pairs = round_robin(names, week)
         if division == TWO and season == 1 and week == NEWCOMER_WEEK:
-            pairs = newcomers_meet(pairs, *NEWCOMERS[TWO])
-            away -= set(NEWCOMERS[TWO])
+            # The newcomers' first night: they partner each other in the doubles frame instead.
+            pairs = [p for p in newcomers_meet(pairs, *NEWCOMERS[TWO]) if set(p) != set(NEWCOMERS[TWO])]
         for a, b in pairs:
             if a not in away and b not in away:
                 rows.append(match(rng, league, day, division, a, b, LEVELS[division][2], LEAGUE_NIGHT))
+    return rows
+
+
+def is_team_night(season: int, week: int) -> bool:
+    return week % TEAM_NIGHTS == TEAM_NIGHTS - 1 or (season == 1 and week == NEWCOMER_WEEK)
+
+
+def team_frames(rng, league: League, season: int, week: int, night: list[Row]) -> list[Row]:
+    """A team night's doubles frames: one per Thursday division, between two pairs of its players tonight."""
+    if not is_team_night(season, week):
+        return []
+    rows = []
+    for division in (PREMIER, ONE, TWO):
+        tonight = sorted({n for r in night if r.division == division for n in (r.player_a, r.player_b)})
+        date = next(r.date for r in night if r.division == division)
+        if division == TWO and season == 1 and week == NEWCOMER_WEEK:
+            a, a2 = NEWCOMERS[TWO]
+            b, b2 = (str(n) for n in rng.choice(tonight, 2, replace=False))
+        else:
+            a, a2, b, b2 = (str(n) for n in rng.choice(tonight, 4, replace=False))
+        s = league.strength
+        games_a, games_b = play_race(rng, (s[a] + s[a2]) / 2, (s[b] + s[b2]) / 2, LEVELS[division][2])
+        rows.append(Row(date, division, a, b, games_a, games_b, TEAM_NIGHT, partner_a=a2, partner_b=b2))
     return rows
 
 
@@ -321,7 +353,8 @@ def final_night(rng, league: League, date: dt.date, history: list[Row]) -> list[
     underdog, absent = sorted(NEWCOMERS[TWO], key=league.strength.get)
     favourite = max(division_two, key=league.strength.get)
     # The other newcomer sits this week out: they have played only a handful of
-    # matches, one of them against the underdog, so the underdog's re-rating moves them.
+    # matches, one of them a doubles frame as the underdog's partner, so the underdog's
+    # re-rating moves them (down: the pair's result becomes more the underdog's doing).
     rest = [n for n in division_two if n not in (underdog, favourite, absent)]
     rest = [rest[i] for i in rng.permutation(len(rest))][: len(rest) // 2 * 2]
     race = LEVELS[TWO][2]
@@ -366,6 +399,7 @@ def add_wrinkles(rows: list[Row]) -> list[Row]:
 def build_league(seed: int = SEED) -> League:
     """Simulate the whole league from the seed."""
     rng = np.random.default_rng(seed)
+    doubles_rng = np.random.default_rng(seed + DOUBLES_SEED)
     league = make_players(rng)
     rows: list[Row] = []
     for season, start in enumerate(SEASON_STARTS):
@@ -376,7 +410,8 @@ def build_league(seed: int = SEED) -> League:
             if season == 1 and week == WEEKS - 1:
                 league.new_week = final_night(rng, league, date, rows)
                 continue
-            rows += league_night(rng, league, season, week, date)
+            night = league_night(rng, league, season, week, date)
+            rows += night + team_frames(doubles_rng, league, season, week, night)
             if week == OPEN_NIGHT_WEEK:
                 rows += open_night(rng, league, season, saturday)
             if week in CUP_WEEKS:

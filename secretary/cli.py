@@ -207,7 +207,7 @@ def cmd_fixtures(args) -> int:
     for fc in forecasts:
         f = fc.fixture
         note = forecast_note(fc)
-        print(f"  {f.player_a} v {f.player_b}: {f.player_a} {fc.race_chance:.0%} to win a race "
+        print(f"  {f.label_a} v {f.label_b}: {f.label_a} {fc.race_chance:.0%} to win a race "
               f"{fc.race_a}-{fc.race_b}; fair race {fc.fair_race_a}-{fc.fair_race_b}" + (f" ({note})" if note else ""))
     if written:
         print(f"Forecast columns written to the Fixtures sheet of {written}")

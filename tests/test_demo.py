@@ -57,6 +57,7 @@ def league(sheets):
     results = [dict(zip(RESULTS_HEADER, row)) for row in sheets["Results"][1:]]
     for r in results:
         r["a"], r["b"] = canon[r["Player A"].casefold()], canon[r["Player B"].casefold()]
+        r["pa"], r["pb"] = (canon[r[k].casefold()] if r[k] else "" for k in ("Partner A", "Partner B"))
     new_week = read_csv(DEMO / "new-week.csv")
     for r in new_week:
         r["a"], r["b"] = canon[r["Player A"].casefold()], canon[r["Player B"].casefold()]
@@ -132,7 +133,19 @@ def test_races_are_complete_and_one_result_is_void(league):
         a, b = int(r["Games A"]), int(r["Games B"])
         if r not in voids:
             assert max(a, b) == race[r["Division"]] and min(a, b) < race[r["Division"]], r
-    assert {r["Event"] for r in league["results"]} == {"League night", "Open night", "Cup"}
+    assert {r["Event"] for r in league["results"]} == {"League night", "Team night", "Open night", "Cup"}
+
+
+def test_team_nights_add_one_doubles_frame_per_thursday_division(league):
+    doubles = [r for r in league["results"] if r["pa"]]
+    assert doubles and all(r["pb"] and r["Event"] == "Team night" for r in doubles)
+    assert {r["Event"] for r in league["results"] if not r["pa"]} == {"League night", "Open night", "Cup"}
+    home = league["home"]
+    for r in doubles:
+        seats = (r["a"], r["pa"], r["b"], r["pb"])
+        assert len(set(seats)) == 4 and {home[n] for n in seats} == {r["Division"]} != {ISOLATED}
+    nights = Counter(r["Date"] for r in doubles)
+    assert set(nights.values()) == {3}  # Premier, Division One and Division Two each play one
 
 
 def test_divisions_differ_in_level(league):
@@ -216,11 +229,14 @@ def test_new_week_follows_the_workbook_and_tells_its_story(league, sheets):
     upsets = [(w, l) for w, l in upsets if true[w] + 200 < true[l]]
     assert len(upsets) == 1 and league["home"][upsets[0][0]] != "Premier"
     winner = upsets[0][0]
-    # Someone who sits the week out has few results, one of them against the upset winner.
+    # Someone who sits the week out has few results, one of them a doubles frame as the upset winner's
+    # partner, and never met her otherwise: only her re-rating as a partner can move them.
     played = {n for r in league["new_week"] for n in (r["a"], r["b"])}
-    count = Counter(n for r in league["results"] for n in (r["a"], r["b"]))
+    count = Counter(n for r in league["results"] for n in (r["a"], r["b"], r["pa"], r["pb"]) if n)
+    partners = {x for r in league["results"] for x, y in ((r["a"], r["pa"]), (r["pa"], r["a"]), (r["b"], r["pb"]),
+                                                         (r["pb"], r["b"])) if y == winner}
     met = {r["b"] if r["a"] == winner else r["a"] for r in league["results"] if winner in (r["a"], r["b"])}
-    assert any(n not in played and count[n] <= 8 for n in met)
+    assert any(n not in played and count[n] <= 8 and n not in met for n in partners)
 
 
 def test_true_ratings_use_the_display_scale():
@@ -268,3 +284,19 @@ def test_the_watch_list_tells_the_isolated_divisions_story():
     assert wl.pools == ()
     assert wl.suggestions and all(ISOLATED in (m.division_a, m.division_b) for m in wl.suggestions)
     assert all(m.target == ISOLATED and m.sd_after < m.sd_before for m in wl.suggestions)
+
+
+def test_the_demo_walk_through_shows_a_player_moved_by_a_re_rated_partner(tmp_path, capsys):
+    # README walkthrough: the newcomer who sits the last week out moves because his doubles partner,
+    # the upset winner, is re-rated.
+    from openpyxl import load_workbook
+
+    from secretary.cli import main
+
+    assert main(["demo", str(tmp_path)]) == 0
+    capsys.readouterr()
+    rows = list(load_workbook(tmp_path / "league.xlsx")["Why it changed"].iter_rows(values_only=True))
+    why = {row[0]: dict(zip(rows[0], row)) for row in rows[1:] if row[0]}
+    absent, winner = "Xander Polglase", "Yvette Marwood"
+    assert why[absent]["Own results"] == 0 and why[absent]["Opponents re-rated"] < 0 < why[winner]["Own results"]
+    assert f"Your doubles partner {winner} did better elsewhere" in why[absent]["Why"]

@@ -101,3 +101,12 @@ def test_a_doubles_fixture_gets_a_chance_and_a_fair_race(updated):
     fc = forecast(Fixture(None, "Ann Ash", "Cal Cole", None, None, 0, "Bea Bond", "Eve Egan"), fit)
     assert values["Chance A"] == pytest.approx(fc.race_chance, abs=1e-12)
     assert (values["Fair race A"], values["Fair race B"]) == (fc.fair_race_a, fc.fair_race_b)
+
+
+def test_the_handicap_card_names_both_players_of_each_side(updated):
+    if shutil.which("pdftotext") is None:
+        pytest.skip("poppler's pdftotext is not installed")
+    pdf = updated.with_name(f"{updated.stem} - handicap card.pdf")
+    text = " ".join(subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout.split())
+    assert "Ann Ash & Bea Bond races to" in text and "Cal Cole & Eve Egan races to" in text
+    assert "v Cal Cole" in text and "& Eve Egan" in text

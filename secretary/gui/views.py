@@ -459,18 +459,19 @@ PAST = PAST_NOTE
 
 
 def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row]:
-    """The Fixtures table; fixtures dated before ``latest`` (the newest result) are marked past."""
+    """The Fixtures table, coming fixtures first; those dated before ``latest`` (the newest result) are marked past
+    and listed after them, as on the handicap card."""
     rows = []
     for i, f in enumerate(forecasts):
         fx = f.fixture
         past = is_past(fx.date, latest)
         note = fixture_note(f, latest)
-        values = (fx.date, fx.player_a, fx.player_b, f"{f.race_a}-{f.race_b}", f.race_chance,
+        values = (fx.date, fx.label_a, fx.label_b, f"{f.race_a}-{f.race_b}", f.race_chance,
                   f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, note)
-        shown = (day(fx.date), fx.player_a, fx.player_b, values[3], percent(f.race_chance), values[5],
+        shown = (day(fx.date), fx.label_a, fx.label_b, values[3], percent(f.race_chance), values[5],
                  percent(f.fair_chance), values[7])
         rows.append(Row(str(i), values, shown, ("past",) if past else ("uncertain",) if note else ()))
-    return rows
+    return sorted(rows, key=lambda r: "past" in r.tags)  # stable: date order within each
 
 
 DIVISION_COLUMNS = (

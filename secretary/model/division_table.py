@@ -51,9 +51,8 @@ class DivisionLevel:
 
 def level_sentence(settings: Settings) -> str:
     """What "division level" means, in one plain sentence."""
-    return (f"A division level is how strong a division is as a whole, in points above (+) or below (-) the "
-            f"league's starting rating of {settings.centre:.0f}: games between divisions set it, and each "
-            "player's rating is their division's level plus how far they stand above or below it.")
+    return (f"A division level is how strong a division is as a whole: points above (+) or below (-) the "
+            f"league's starting rating of {settings.centre:.0f}, set by the games between divisions.")
 
 
 def level_table(fit, watch) -> tuple[DivisionLevel, ...]:

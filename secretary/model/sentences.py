@@ -202,6 +202,7 @@ def plural(n: int, word: str, many: str | None = None) -> str:
 _NAMED = (("You have not played", "{name} has not played"), ("You did not play", "{name} did not play"),
           ("You won", "{name} won"), ("Players you met", "Players they met"),
           ("Players you have met", "Players they have met"), ("moves you back", "moves them back"),
+          ("for you:", "for them:"),
           ("Your", "Their"), ("your", "their"))
 
 

@@ -23,14 +23,14 @@ TABLE_START = 80  # points: a date's heading is kept with its table's header and
 
 
 def fair_race_text(fc: FixtureForecast) -> str:
-    """``Ann races to 5, Bob races to 3``."""
-    a, b = fc.fixture.player_a, fc.fixture.player_b
+    """``Ann races to 5, Bob races to 3`` (a doubles side as ``Ann & Cy``)."""
+    a, b = fc.fixture.label_a, fc.fixture.label_b
     return f"{a} races to {fc.fair_race_a}, {b} races to {fc.fair_race_b}"
 
 
 def chance_text(fc: FixtureForecast, settings: Settings) -> str:
     """``Races to 5 (the usual race): Ann wins 71%`` or ``Ann to 5, Bob to 4: Ann wins 16%``."""
-    a, b = fc.fixture.player_a, fc.fixture.player_b
+    a, b = fc.fixture.label_a, fc.fixture.label_b
     if fc.race_a != fc.race_b:
         race = f"{a} to {fc.race_a}, {b} to {fc.race_b}"
     elif fc.fixture.race_a is None and fc.race_a == settings.usual_race:
@@ -41,12 +41,15 @@ def chance_text(fc: FixtureForecast, settings: Settings) -> str:
 
 
 def _match_cell(fc: FixtureForecast, ratings: dict[str, PlayerRating]) -> list:
-    """The two players, one per line, each with their rating when known."""
+    """The two sides, one per line, each player with their rating when known (a doubles side: two)."""
     lines = []
-    for lead, name in (("", fc.fixture.player_a), ("v ", fc.fixture.player_b)):
-        p = ratings.get(name)
-        known = rating_text(p) if p is not None else NOT_RATED
-        lines.append(layout.rich([(lead + name, True), (f"  {known}" if ratings else "", False)], "cell"))
+    for lead, side in (("", fc.fixture.side_a), ("v ", fc.fixture.side_b)):
+        parts = []
+        for k, name in enumerate(side):
+            p = ratings.get(name)
+            known = rating_text(p) if p is not None else NOT_RATED
+            parts += [((lead if k == 0 else " & ") + name, True), (f"  {known}" if ratings else "", False)]
+        lines.append(layout.rich(parts, "cell"))
     return lines
 
 

@@ -91,11 +91,11 @@ def set_up_table(ws: Worksheet, paper: str, landscape: bool, wrapped: dict[str, 
 
 def align_tall_rows(ws: Worksheet, first_row: int = 2) -> None:
     """In every row taller than one line, the cells that do not wrap sit at the top beside the wrapped ones."""
-    for row in range(first_row, ws.max_row + 1):
-        height = ws.row_dimensions[row].height
-        if height is None or height <= LINE_POINTS:
+    for row in ws.iter_rows(min_row=first_row, max_col=ws.max_column):  # one pass: ws[r] recounts columns
+        dims = ws.row_dimensions.get(row[0].row)
+        if dims is None or dims.height is None or dims.height <= LINE_POINTS:
             continue
-        for cell in ws[row]:
+        for cell in row:
             if cell.value is not None and not cell.alignment.wrap_text:
                 cell.alignment = TOP
 

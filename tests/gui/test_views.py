@@ -219,3 +219,18 @@ def test_problem_rows_and_the_cell_to_fix(tmp_path):
     assert views.cell_reference(Problem("error", "Rating history", 4, "B", "", "x", "y")) == "'Rating history'!B4"
     assert views.problems_summary(book.problems).startswith("1 error to fix")
     assert views.problems_summary(()).startswith("No problems")
+
+
+def test_fixture_rows_list_coming_fixtures_first_and_mark_the_past_ones():
+    from tests.invented_league import forecasts, two_updates
+
+    fcs = forecasts(two_updates()[1].results)
+    latest = max(fc.fixture.date for fc in fcs)  # as if results had come in up to the last fixture day
+    rows = views.fixture_rows(fcs, latest)
+    past = [r for r in rows if "past" in r.tags]
+    assert len(past) == sum(1 for fc in fcs if fc.fixture.date < latest) > 0
+    assert [("past" in r.tags) for r in rows] == sorted("past" in r.tags for r in rows)  # coming first
+    assert all(r.shown[-1].startswith(views.PAST) for r in past)
+    assert not any(views.PAST in r.shown[-1] for r in rows if r not in past)
+    assert [r.values[0] for r in rows if r not in past] == sorted(r.values[0] for r in rows if r not in past)
+    assert all("past" not in r.tags for r in views.fixture_rows(fcs))  # no newest result: nothing is past

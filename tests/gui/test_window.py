@@ -171,6 +171,8 @@ def test_print_menu_offers_the_board_and_the_handicap_card_and_says_where_they_a
     latest = app.updated.latest_result
     past = [v for v in app.fixtures.table.shown_values() if views.PAST in v[-1]]
     assert len(past) == sum(1 for f in app.updated.forecasts if f.fixture.date and f.fixture.date < latest)
+    marks = [views.PAST in v[-1] for v in app.fixtures.table.shown_values()]
+    assert marks == sorted(marks)  # coming fixtures first, any past ones after them (as on the card)
 
 
 def test_cancel_leaves_the_workbook_byte_for_byte_untouched(app, demo_copy):

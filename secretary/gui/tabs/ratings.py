@@ -20,6 +20,7 @@ LEVELS_SHARE = 0.4  # the divisions table's share of the height at most, when fi
 class RatingsTab:
     def __init__(self, parent, scheduler):
         self.frame = ttk.Frame(parent, padding=8)
+        self.scheduler = scheduler
         bar = ttk.Frame(self.frame)
         bar.pack(fill="x", pady=(0, 6))
         ttk.Label(bar, text="Find a player:").pack(side="left")
@@ -133,7 +134,9 @@ class RatingsTab:
             self.levels.tree.configure(height=min(len(rows), LEVEL_LINES))
             if not shown:
                 self.stack.add(self.levels_frame, weight=1)
-            self.stack.after_idle(self._place_levels)
+            # Through the window's scheduler, never the widget's own after(): closing cancels every timer
+            # from the root, and a timer registered on a child would then break the child's destroy.
+            self.scheduler.later(0, self._place_levels)
         elif shown:
             self.stack.forget(self.levels_frame)
 
