@@ -35,6 +35,15 @@ def _results_with(row_index: int, column: str, value) -> Callable[[Path], Path]:
     return build
 
 
+def _doubles_row(partner_a, partner_b) -> Callable[[Path], Path]:
+    """Good results and a doubles row (sheet row 6: Ada Finch and ``partner_a`` v Cleo Marsh and ``partner_b``)."""
+    def build(path: Path) -> Path:
+        rows = [row + [None, None] for row in good_results()]
+        rows.append([D, "Premier", "Ada Finch", "Cleo Marsh", 3, 1, "", "", partner_a, partner_b])
+        return write_book(path, rows, results_headers=RESULTS_HEADERS + ("Partner A", "Partner B"))
+    return build
+
+
 def _extra_result(*row) -> Callable[[Path], Path]:
     def build(path: Path) -> Path:
         return write_book(path, good_results() + [list(row)])
@@ -107,6 +116,12 @@ BAD_WORKBOOKS: tuple[BadWorkbook, ...] = (
                 ("Results", 6, "Games B"), says="both players won 0"),
     BadWorkbook("self-play", _results_with(1, "Player B", "Cleo Marsh"), ("Results", 3, "Player B"), says="themself"),
     BadWorkbook("self-play-case", _results_with(1, "Player B", " cleo  MARSH"), ("Results", 3, "Player B")),
+    BadWorkbook("doubles-one-partner", _doubles_row("Bram Oak", None), ("Results", 6, "Partner B"),
+                says="needs two players on each side"),
+    BadWorkbook("doubles-twice-on-a-side", _doubles_row("ADA FINCH", "Dev Pike"), ("Results", 6, "Partner A"),
+                says="written twice on side A"),
+    BadWorkbook("doubles-both-sides", _doubles_row("Bram Oak", "Ada Finch"), ("Results", 6, "Partner B"),
+                says="on both sides"),
     BadWorkbook("blank-player", _results_with(3, "Player A", "  "), ("Results", 5, "Player A"), says="blank"),
     BadWorkbook("blank-division", _results_with(0, "Division", None), ("Results", 2, "Division"), says="division"),
     BadWorkbook("unreadable-date", _results_with(2, "Date", "next Tuesday"), ("Results", 4, "Date"), says="unreadable"),
