@@ -204,7 +204,8 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     if book.has_errors:
         raise WorkbookProblems(book.problems)
     published = _stored_state(path, book)
-    if not force and out is None and _nothing_new(book, published):
+    inputs = inputs_digest(book)  # once: a digest of every row
+    if not force and out is None and _nothing_new(book, published, inputs):
         progress("Done", 1.0)
         return _outcome(path, _published_from(book, published), unchanged=True, reason=(
             f"Nothing new since the last update ({published.updated_at}): the same result rows, settings "
@@ -250,7 +251,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
         rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
         previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check,
-        inputs=inputs_digest(book)))
+        inputs=inputs))
 
     clash = toolsheets.clash_note(toolsheets.of_workbook(wb))
     written = backup = pdf = card = None
@@ -379,10 +380,11 @@ def inputs_digest(book: LeagueBook) -> str:
     return digest.hexdigest()
 
 
-def _nothing_new(book: LeagueBook, published: PublishedState | None) -> bool:
-    """The last update read exactly this and its sheets are still there: an update would change nothing."""
+def _nothing_new(book: LeagueBook, published: PublishedState | None, inputs: str) -> bool:
+    """The last update read exactly this (``inputs``: its `inputs_digest`) and its sheets are still there:
+    an update would change nothing."""
     return (published is not None and bool(published.inputs) and schema.RATINGS_SHEET in book.tool_sheets
-            and published.inputs == inputs_digest(book))
+            and published.inputs == inputs)
 
 
 def last_update(path: str | Path) -> UpdateOutcome:
