@@ -204,7 +204,8 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
     if book.has_errors:
         raise WorkbookProblems(book.problems)
     published = _stored_state(path, book)
-    if not force and out is None and _nothing_new(book, published):
+    inputs = inputs_digest(book)  # once: a digest of every row
+    if not force and out is None and _nothing_new(book, published, inputs):
         progress("Done", 1.0)
         return _outcome(path, _published_from(book, published), unchanged=True, reason=(
             f"Nothing new since the last update ({published.updated_at}): the same result rows, settings "
@@ -250,7 +251,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
         rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
         previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check,
-        inputs=inputs_digest(book)))
+        inputs=inputs))
 
     clash = toolsheets.clash_note(toolsheets.of_workbook(wb))
     written = backup = pdf = card = None
@@ -379,10 +380,11 @@ def inputs_digest(book: LeagueBook) -> str:
     return digest.hexdigest()
 
 
-def _nothing_new(book: LeagueBook, published: PublishedState | None) -> bool:
-    """The last update read exactly this and its sheets are still there: an update would change nothing."""
+def _nothing_new(book: LeagueBook, published: PublishedState | None, inputs: str) -> bool:
+    """The last update read exactly this (``inputs``: its `inputs_digest`) and its sheets are still there:
+    an update would change nothing."""
     return (published is not None and bool(published.inputs) and schema.RATINGS_SHEET in book.tool_sheets
-            and published.inputs == inputs_digest(book))
+            and published.inputs == inputs)
 
 
 def last_update(path: str | Path) -> UpdateOutcome:
@@ -404,12 +406,17 @@ def _outcome(path: Path, pub: Published, *, reason: str, unchanged: bool = False
             a for a in (tune_advice(pub.book.state.tune_check, pub.book.settings, path.name),) if a))
 
 
-def make_notice(path: str | Path, out: str | Path | None = None) -> Path:
-    """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy)."""
+def make_notice(path: str | Path, out: str | Path | None = None, notes: list | None = None) -> Path:
+    """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy);
+    ``notes`` gets the names it could not print, in words, when there are any."""
     pub = _published(path, "notice board")
     watch = watch_list(pub.fit, pub.book.results)
-    return write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
-                            pub.book.settings, watch, level_table(pub.fit, watch))
+    written = write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
+                               pub.book.settings, watch, level_table(pub.fit, watch))
+    note = unprinted_note(pub.ratings)
+    if notes is not None and note:
+        notes.append(note)
+    return written
 
 
 def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None]:

@@ -162,15 +162,37 @@ def table(headers: Sequence[str], rows: Sequence[Sequence[object]], widths: Sequ
             return value  # a flowable made by the caller
         style = {(True, True): "boldright", (True, False): "cellbold",
                  (False, True): "right", (False, False): "cell"}[(header, col in right)]
+        if not header and _one_line(value, styles()[style], widths[col]):
+            return value  # drawn by the table in the cell style (see _striped): a Paragraph costs far more
         return para(value, style)
 
     head = [cell(h, c, True) for c, h in enumerate(headers)]
     body = [[cell(v, c) for c, v in enumerate(row)] for row in rows]
     if len(body) <= TABLE_ROWS:
-        return _striped(head, body, widths, 0, last=True)
+        return _striped(head, body, widths, 0, last=True, right=right)
     starts = range(0, len(body), TABLE_ROWS)
-    return _Tables([_striped(head, body[k:k + TABLE_ROWS], widths, k, last=k + TABLE_ROWS >= len(body))
-                    for k in starts])
+    return _Tables([_striped(head, body[k:k + TABLE_ROWS], widths, k, last=k + TABLE_ROWS >= len(body),
+                             right=right) for k in starts])
+
+
+_PLAIN: dict[str, set[str]] = {}  # per font: the letters known to need no other font and no shaping
+
+
+def _one_line(text: str, style: ParagraphStyle, width: float) -> bool:
+    """The text prints as a Paragraph of ``style`` would, on one line of a cell ``width`` wide, from its
+    one font: then the table can draw it as plain text."""
+    font = style.fontName
+    known = _PLAIN.setdefault(font, set())
+    letters = set(text)
+    if not letters <= known:
+        if not all(scripts.font_for(ch, font) == font and ch not in "\n\t" for ch in letters - known):
+            return False
+        known |= letters
+    return (text == " ".join(text.split()) and bool(text)
+            and pdfmetrics.stringWidth(text, font, style.fontSize) <= width - 2 * _CELL_PADDING)
+
+
+_CELL_PADDING = 6  # points: a Table cell's left and right padding (reportlab's default)
 
 
 # reportlab splits a Table at a page's end by building a new Table of every row left, so one table of
@@ -179,14 +201,20 @@ def table(headers: Sequence[str], rows: Sequence[Sequence[object]], widths: Sequ
 TABLE_ROWS = 400
 
 
-def _striped(head: list, body: list, widths: Sequence[float], first: int, last: bool) -> Table:
-    """The Table of rows ``first``, ``first + 1``, ... of a striped table (``last``: its final rows)."""
+def _striped(head: list, body: list, widths: Sequence[float], first: int, last: bool,
+             right: Sequence[int] = ()) -> Table:
+    """The Table of rows ``first``, ``first + 1``, ... of a striped table (``last``: its final rows);
+    its plain-text cells are drawn in the "cell" style, right-aligned in the ``right`` columns."""
     t = Table([head, *body], colWidths=list(widths), repeatRows=1)
+    cell = styles()["cell"]
     commands = [
         ("BACKGROUND", (0, 0), (-1, 0), HEADER_FILL),
         ("LINEBELOW", (0, 0), (-1, 0), 0.6, RULE),
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
         ("TOPPADDING", (0, 0), (-1, -1), 2.5), ("BOTTOMPADDING", (0, 0), (-1, -1), 2.5),
+        ("FONT", (0, 1), (-1, -1), cell.fontName, cell.fontSize, cell.leading),
+        ("TEXTCOLOR", (0, 1), (-1, -1), cell.textColor),
+        *(("ALIGN", (c, 1), (c, -1), "RIGHT") for c in right),
     ]
     if last:
         commands.append(("LINEBELOW", (0, -1), (-1, -1), 0.6, RULE))

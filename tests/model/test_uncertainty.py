@@ -62,7 +62,7 @@ def test_probed_variance_within_measured_accuracy_on_3500_players(matches, busy,
     err = sd_errors(uncertainty.inverse_diagonal(H, division), exact)
     assert np.median(np.abs(err)) <= median
     assert np.abs(err).max() <= worst
-    assert abs(err.mean()) <= 0.002  # no systematic bias either way
+    assert abs(err.mean()) <= 0.001  # no systematic bias either way (measured at most 0.07 %)
     plain = sd_errors(uncertainty.approximate_variance(H, division), exact)
     assert np.median(np.abs(err)) < np.median(np.abs(plain))
 
@@ -76,10 +76,10 @@ def test_probed_variance_on_a_sparse_20000_player_league_against_exact_solves():
     exact = np.array([conjugate_gradient(lambda v: H @ v, np.eye(1, 20_000, k).ravel(), inv_diag, 1e-10,
                                          200_000)[k] for k in sample])
     err = sd_errors(var[sample], exact)
-    # Measured (100 sampled players): median 0.17 %, worst 1.2 %, mean +0.03 %.
-    assert np.median(np.abs(err)) <= 0.005
-    assert np.abs(err).max() <= 0.02
-    assert abs(err.mean()) <= 0.004
+    # Measured (these 30 players): median 0.17 %, worst 0.70 %, mean +0.07 % (100 players: 0.17 %, 1.2 %).
+    assert np.median(np.abs(err)) <= 0.0025
+    assert np.abs(err).max() <= 0.01
+    assert abs(err.mean()) <= 0.0015
 
 
 @pytest.mark.realdata
@@ -93,6 +93,7 @@ def test_probed_variance_on_real_tennis_results_with_tiers_as_divisions():
     H = LaplacianPattern(fit.pairs).matrix(pair_curvature(fit.pairs, fit.r), fit.prior_sd)
     exact = uncertainty.exact_variance(H)
     err = sd_errors(uncertainty.probed_variance(H, fit.group), exact)
-    assert np.median(np.abs(err)) <= 0.01
-    assert np.abs(err).max() <= 0.03
-    assert abs(err.mean()) <= 0.002
+    # Measured: median 0.07 %, worst 1.8 %, mean -0.01 %.
+    assert np.median(np.abs(err)) <= 0.0015
+    assert np.abs(err).max() <= 0.025
+    assert abs(err.mean()) <= 0.0005

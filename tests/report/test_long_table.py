@@ -41,3 +41,28 @@ def test_a_long_list_prints_every_row_once_in_order(tmp_path, monkeypatch):
 
 def test_a_short_list_is_one_table():
     assert isinstance(layout.table(HEADERS, _rows(layout.TABLE_ROWS), WIDTHS), layout.Table)
+
+
+@needs_poppler
+def test_plain_text_cells_print_exactly_as_paragraphs(tmp_path, monkeypatch):
+    # Short one-line cells are drawn by the table itself; the reference is the same table with every cell a
+    # Paragraph, rendered by poppler: the pages must be the same, pixel for pixel.
+    import subprocess
+
+    from PIL import Image, ImageChops
+
+    rows = [(str(i + 1), name, f"{1500 + 7 * i} ± {40 + i}", "Own results; a longer "
+             "sentence that wraps onto a second line of its cell, as the notice board's do") for i, name in
+            enumerate(["Ada Finch", "Zoë Ōtake", "Bram  Oak", "Émile Ærø", "Dai", "A very long name indeed, longer "
+                       "than its column"])]
+    plain = layout.table(HEADERS, rows, WIDTHS, right=(0, 2))
+    assert sum(isinstance(v, str) for row in plain._cellvalues[1:] for v in row) >= 14  # most cells are plain
+    pages = {}
+    for label in ("plain", "paragraphs"):
+        if label == "paragraphs":
+            monkeypatch.setattr(layout, "_one_line", lambda *args: False)  # every cell a Paragraph
+        path = tmp_path / f"{label}.pdf"
+        SimpleDocTemplate(str(path)).build([layout.table(HEADERS, rows, WIDTHS, right=(0, 2))])
+        subprocess.run(["pdftoppm", "-r", "150", "-png", "-singlefile", str(path), str(tmp_path / label)], check=True)
+        pages[label] = Image.open(tmp_path / f"{label}.png").convert("RGB")
+    assert ImageChops.difference(pages["plain"], pages["paragraphs"]).getbbox() is None

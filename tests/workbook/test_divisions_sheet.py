@@ -20,7 +20,7 @@ import openpyxl
 import pytest
 
 from secretary.cli import main
-from secretary.model.records import Division
+from secretary.model.records import Division, Settings
 from secretary.workbook.read import read_workbook
 from tests.workbook.league_books import D, write_book
 
@@ -36,8 +36,8 @@ def tiered_results(cross: int = 0) -> list[list]:
         for division, players in (("Top", TOP), ("Bottom", BOTTOM)):
             for k, (a, b) in enumerate(itertools.combinations(players, 2)):
                 rows.append([day, division, a, b, 5, (k + week) % 5, "", ""])
-    for k in range(cross):
-        rows.append([D + dt.timedelta(days=21), "Cup", TOP[k % 4], BOTTOM[k % 4], 5, 2, "", ""])
+    for k in range(cross):  # on different days, so that their ages differ
+        rows.append([D + dt.timedelta(days=1 + 5 * k), "Cup", TOP[k % 4], BOTTOM[k % 4], 5, 2, "", ""])
     return rows
 
 
@@ -189,10 +189,11 @@ def test_games_against_other_divisions_are_the_age_weighted_games_between_them(t
     table = levels_table(path)
     newest = max(r[0] for r in rows)
     top = set(TOP)
-    # Each game weighs 0.5 ** (age / half-life), half-life 520 days (the default), age from the newest result.
-    weighted = sum((r[4] + r[5]) * 0.5 ** ((newest - r[0]).days / 520) for r in rows
+    # Each game weighs 0.5 ** (age / half-life) (the default half-life), age from the newest result.
+    half_life = Settings().half_life_days
+    weighted = sum((r[4] + r[5]) * 0.5 ** ((newest - r[0]).days / half_life) for r in rows
                    if (r[2] in top) != (r[3] in top))
-    assert weighted > 0
+    assert 0 < weighted < 8 * 7  # some games are older than the newest result, so they weigh less
     assert table["Top"][2] == pytest.approx(weighted, rel=1e-12)
     assert table["Bottom"][2] == pytest.approx(weighted, rel=1e-12)
     assert table["Top"][4] == "started at +100 (Divisions sheet)"
