@@ -228,3 +228,26 @@ def test_a_division_not_given_by_the_players_sheet_is_marked_as_taken_from_the_l
     assert "division from latest result" in by_name["Hal Crane"][note]
     assert not any("division from latest result" in (r[note] or "") for n, r in by_name.items() if n != "Hal Crane")
     assert "most recent result" in " ".join(str(v) for r in sheet for v in r if v)  # the rule, named
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not on PATH")
+def test_libreoffice_shows_the_divisions_table_as_written(tmp_path):
+    import csv
+
+    from tests.workbook.test_libreoffice import CSV_EVERY_SHEET, _convert
+
+    path = write_book(tmp_path / "league.xlsx", tiered_results(), players=_players(),
+                      divisions=[["Top", 150, ""], ["Bottom", -150, ""]])
+    assert main(["update", str(path)]) == 0
+    _convert(path, tmp_path / "csv", CSV_EVERY_SHEET, tmp_path / "profile")
+    with (tmp_path / "csv" / "league-Ratings.csv").open(encoding="utf-8") as f:
+        shown = list(csv.reader(f))
+    start = next(k for k, row in enumerate(shown) if row[2:4] == ["Division", "Division level"])
+    assert shown[start - 3][2] == "Division levels" and "A division level is" in shown[start - 2][2]
+    rows = {row[2]: row for row in shown[start + 1:start + 3]}
+    for name, level in (("Top", 150), ("Bottom", -150)):
+        assert float(rows[name][3]) == pytest.approx(level, abs=0.01)
+        assert float(rows[name][4]) == pytest.approx(100, abs=1e-6) and rows[name][6] == "4"
+    players = [row for row in shown[1:] if row[0].isdigit()]
+    assert len(players) == 8 and not any(row[1] for row in shown[start - 3:])  # no Player below the players
