@@ -187,8 +187,11 @@ def cmd_demo(args) -> int:
 def cmd_notice(args) -> int:
     from secretary.pipeline import make_notice
 
-    path = make_notice(args.workbook, args.out)
+    notes: list[str] = []
+    path = make_notice(args.workbook, args.out, notes)
     print(f"Notice board of the last update written to: {path}")
+    for note in notes:
+        print(f"  Note: {note}")
     return EXIT_DONE
 
 

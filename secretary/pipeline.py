@@ -406,12 +406,17 @@ def _outcome(path: Path, pub: Published, *, reason: str, unchanged: bool = False
             a for a in (tune_advice(pub.book.state.tune_check, pub.book.settings, path.name),) if a))
 
 
-def make_notice(path: str | Path, out: str | Path | None = None) -> Path:
-    """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy)."""
+def make_notice(path: str | Path, out: str | Path | None = None, notes: list | None = None) -> Path:
+    """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy);
+    ``notes`` gets the names it could not print, in words, when there are any."""
     pub = _published(path, "notice board")
     watch = watch_list(pub.fit, pub.book.results)
-    return write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
-                            pub.book.settings, watch, level_table(pub.fit, watch))
+    written = write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
+                               pub.book.settings, watch, level_table(pub.fit, watch))
+    note = unprinted_note(pub.ratings)
+    if notes is not None and note:
+        notes.append(note)
+    return written
 
 
 def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None]:

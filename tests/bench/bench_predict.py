@@ -70,10 +70,14 @@ def baseline_row(score: baselines.Score) -> dict:
                 matches=score.matches, seconds=score.seconds)
 
 
-def bench(name: str, demo_settings: Settings | None, with_baselines: bool = True) -> tuple[list[dict], Settings, float]:
+def bench(name: str, demo_settings: Settings | None, with_baselines: bool = True,
+          engine: bool = True) -> tuple[list[dict], Settings, float]:
     """Every method on one set; also the settings tuned on it and the tuning time."""
     results, players = SETS[name]()
     walk = prepare(results, players=players)
+    if not engine:
+        return [baseline_row(s) for s in (baselines.coin(walk), baselines.best_elo(walk), baselines.glicko_2(walk),
+                                          baselines.true_skill(walk), baselines.best_whr(walk))], Settings(), 0.0
     start = time.perf_counter()
     tuned = tune(walk).settings
     tune_seconds = time.perf_counter() - start
@@ -119,13 +123,14 @@ def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--sets", default="demo,badminton,tennis", help="comma-separated: demo, badminton, tennis")
     parser.add_argument("--no-baselines", action="store_true", help="the engine's rows only")
+    parser.add_argument("--baselines-only", action="store_true", help="the baselines' rows only")
     args = parser.parse_args(argv)
     print(HEADER)
     print("|" + "---|" * (HEADER.count("|") - 1))
     demo_settings, notes = None, []
     for name in args.sets.split(","):
         try:
-            rows, tuned, _ = bench(name, demo_settings, not args.no_baselines)
+            rows, tuned, _ = bench(name, demo_settings, not args.no_baselines, not args.baselines_only)
         except pytest.skip.Exception as why:
             print(f"| {name} | skipped: {why} |" + " |" * (HEADER.count("|") - 3))
             continue
@@ -133,7 +138,8 @@ def main(argv=None) -> int:
             demo_settings = tuned
         for r in rows:
             print(table_row(name, r), flush=True)
-        notes += calibration_lines(name, rows[1]["evaluation"])
+        if not args.baselines_only:
+            notes += calibration_lines(name, rows[1]["evaluation"])
     print("\ncalibration gap = largest |predicted - happened| over the bands holding at least 1 % of the "
           "predictions (predictive chances)")
     print("\n".join(notes))
