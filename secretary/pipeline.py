@@ -419,21 +419,24 @@ def make_notice(path: str | Path, out: str | Path | None = None, notes: list | N
     return written
 
 
-def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None]:
-    """Fill the Fixtures sheet's forecast columns and print the handicap card, without a full update."""
+def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None, dt.date | None]:
+    """Fill the Fixtures sheet's forecast columns and print the handicap card, without a full update.
+
+    The last item is the newest result's date: fixtures dated before it are past."""
     pub = _published(path, "fixtures")
     forecasts = forecast_fixtures(pub.book.fixtures, pub.fit)
+    latest = pub.fit.reference_date
     if not forecasts:
-        return forecasts, None, None
+        return forecasts, None, None, latest
     path = Path(path)
     written = None
     if not fidelity.unsupported_content(path):
         wb = save.load_for_update(path)
-        write_fixture_columns(wb, forecasts, pub.book.settings, latest=pub.fit.reference_date)
+        write_fixture_columns(wb, forecasts, pub.book.settings, latest=latest)
         written = save.save_workbook(wb, path).path
     card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings,
-                              latest=pub.fit.reference_date)
-    return forecasts, written, card
+                              latest=latest)
+    return forecasts, written, card, latest
 
 
 def _checked_book(path: str | Path) -> LeagueBook:
