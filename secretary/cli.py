@@ -187,23 +187,30 @@ def cmd_demo(args) -> int:
 def cmd_notice(args) -> int:
     from secretary.pipeline import make_notice
 
-    path = make_notice(args.workbook, args.out)
+    notes: list[str] = []
+    path = make_notice(args.workbook, args.out, notes)
     print(f"Notice board of the last update written to: {path}")
+    for note in notes:
+        print(f"  Note: {note}")
     return EXIT_DONE
 
 
 def cmd_fixtures(args) -> int:
     from secretary.pipeline import run_fixtures
 
-    forecasts, written, card = run_fixtures(args.workbook)
+    forecasts, written, card, latest = run_fixtures(args.workbook)
     if not forecasts:
         print("The Fixtures sheet lists no coming matches; nothing to forecast.")
         return EXIT_DONE
-    from secretary.model.notice import forecast_note
+    from secretary.model.notice import fixture_note, is_past, long_date
 
+    past = sum(1 for fc in forecasts if is_past(fc.fixture.date, latest))
+    if past:
+        print(f"Dated before the latest results ({long_date(latest)}), so marked past below: "
+              f"{past} of the {len(forecasts)} fixtures.")
     for fc in forecasts:
         f = fc.fixture
-        note = forecast_note(fc)
+        note = fixture_note(fc, latest)
         print(f"  {f.label_a} v {f.label_b}: {f.label_a} {fc.race_chance:.0%} to win a race "
               f"{fc.race_a}-{fc.race_b}; fair race {fc.fair_race_a}-{fc.fair_race_b}" + (f" ({note})" if note else ""))
     if written:

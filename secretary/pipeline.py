@@ -406,29 +406,37 @@ def _outcome(path: Path, pub: Published, *, reason: str, unchanged: bool = False
             a for a in (tune_advice(pub.book.state.tune_check, pub.book.settings, path.name),) if a))
 
 
-def make_notice(path: str | Path, out: str | Path | None = None) -> Path:
-    """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy)."""
+def make_notice(path: str | Path, out: str | Path | None = None, notes: list | None = None) -> Path:
+    """The PDF notice board of the last update, again (e.g. after it was lost or to print another copy);
+    ``notes`` gets the names it could not print, in words, when there are any."""
     pub = _published(path, "notice board")
     watch = watch_list(pub.fit, pub.book.results)
-    return write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
-                            pub.book.settings, watch, level_table(pub.fit, watch))
+    written = write_notice_pdf(Path(out) if out else notice_pdf_path(path), pub.breakdown, pub.ratings,
+                               pub.book.settings, watch, level_table(pub.fit, watch))
+    note = unprinted_note(pub.ratings)
+    if notes is not None and note:
+        notes.append(note)
+    return written
 
 
-def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None]:
-    """Fill the Fixtures sheet's forecast columns and print the handicap card, without a full update."""
+def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None, dt.date | None]:
+    """Fill the Fixtures sheet's forecast columns and print the handicap card, without a full update.
+
+    The last item is the newest result's date: fixtures dated before it are past."""
     pub = _published(path, "fixtures")
     forecasts = forecast_fixtures(pub.book.fixtures, pub.fit)
+    latest = pub.fit.reference_date
     if not forecasts:
-        return forecasts, None, None
+        return forecasts, None, None, latest
     path = Path(path)
     written = None
     if not fidelity.unsupported_content(path):
         wb = save.load_for_update(path)
-        write_fixture_columns(wb, forecasts, pub.book.settings, latest=pub.fit.reference_date)
+        write_fixture_columns(wb, forecasts, pub.book.settings, latest=latest)
         written = save.save_workbook(wb, path).path
     card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings,
-                              latest=pub.fit.reference_date)
-    return forecasts, written, card
+                              latest=latest)
+    return forecasts, written, card, latest
 
 
 def _checked_book(path: str | Path) -> LeagueBook:

@@ -164,3 +164,32 @@ def test_an_unexpected_error_is_logged_not_shown(monkeypatch, tmp_path, capsys):
     assert "Something went wrong" in err and "Traceback" not in err
     log = tmp_path / "home" / "secretary.log"
     assert "RuntimeError: injected" in log.read_text()
+
+
+def test_fixtures_marks_the_fixtures_dated_before_the_latest_results(demo_copy):
+    """`secretary fixtures` on the real command line: a fixture dated before the newest result is past,
+    with the same words as the handicap card, the Fixtures sheet and the window."""
+    import datetime as dt
+
+    from secretary.model.notice import PAST_NOTE
+
+    wb = openpyxl.load_workbook(demo_copy)
+    results = list(wb["Results"].iter_rows(min_row=2, values_only=True))
+    latest = max(r[0] for r in results if isinstance(r[0], dt.datetime))
+    fixtures = wb["Fixtures"]
+    moved = []
+    for row in (2, 3):  # two fixtures moved to the week before the newest result
+        fixtures.cell(row, 1).value = latest - dt.timedelta(days=7)
+        moved.append(f"{fixtures.cell(row, 2).value} v {fixtures.cell(row, 3).value}:")
+    coming = sum(1 for r in fixtures.iter_rows(min_row=4, values_only=True) if r[1])
+    wb.save(demo_copy)
+    command = [sys.executable, "-m", "secretary.cli"]
+    assert subprocess.run(command + ["update", str(demo_copy)], capture_output=True).returncode == 0
+    done = subprocess.run(command + ["fixtures", str(demo_copy)], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    lines = [ln.strip() for ln in done.stdout.splitlines() if " v " in ln and "fair race" in ln]
+    assert len(lines) == coming + 2
+    past = [ln for ln in lines if f"({PAST_NOTE}" in ln]
+    assert sorted(ln.split(":")[0] + ":" for ln in past) == sorted(moved)
+    assert f"marked past below: 2 of the {coming + 2} fixtures" in done.stdout
+    assert f"{latest.day} {latest:%B %Y}" in done.stdout

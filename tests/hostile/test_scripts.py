@@ -69,6 +69,8 @@ def test_names_in_scripts_that_need_shaping_are_named_in_a_warning_not_garbled(t
     assert squeeze(GREEK) in squeeze(board)
     names = {row[1] for row in openpyxl.load_workbook(league)["Ratings"].iter_rows(min_row=2, values_only=True)}
     assert {ARABIC, DEVANAGARI} <= names
+    code, out = run("notice", league)  # printing the notice board again says so too
+    assert code == 0 and ARABIC in _warning(out) and DEVANAGARI in _warning(out), out
 
 
 def test_no_warning_when_every_name_prints(tmp_path, run):

@@ -20,7 +20,7 @@ import openpyxl
 import pytest
 
 from secretary.cli import main
-from secretary.model.records import Division
+from secretary.model.records import Division, Settings
 from secretary.workbook.read import read_workbook
 from tests.workbook.league_books import D, write_book
 
@@ -36,8 +36,8 @@ def tiered_results(cross: int = 0) -> list[list]:
         for division, players in (("Top", TOP), ("Bottom", BOTTOM)):
             for k, (a, b) in enumerate(itertools.combinations(players, 2)):
                 rows.append([day, division, a, b, 5, (k + week) % 5, "", ""])
-    for k in range(cross):
-        rows.append([D + dt.timedelta(days=21), "Cup", TOP[k % 4], BOTTOM[k % 4], 5, 2, "", ""])
+    for k in range(cross):  # on different days, so that their ages differ
+        rows.append([D + dt.timedelta(days=1 + 5 * k), "Cup", TOP[k % 4], BOTTOM[k % 4], 5, 2, "", ""])
     return rows
 
 
@@ -189,10 +189,11 @@ def test_games_against_other_divisions_are_the_age_weighted_games_between_them(t
     table = levels_table(path)
     newest = max(r[0] for r in rows)
     top = set(TOP)
-    # Each game weighs 0.5 ** (age / half-life), half-life 520 days (the default), age from the newest result.
-    weighted = sum((r[4] + r[5]) * 0.5 ** ((newest - r[0]).days / 520) for r in rows
+    # Each game weighs 0.5 ** (age / half-life) (the default half-life), age from the newest result.
+    half_life = Settings().half_life_days
+    weighted = sum((r[4] + r[5]) * 0.5 ** ((newest - r[0]).days / half_life) for r in rows
                    if (r[2] in top) != (r[3] in top))
-    assert weighted > 0
+    assert 0 < weighted < 8 * 7  # some games are older than the newest result, so they weigh less
     assert table["Top"][2] == pytest.approx(weighted, rel=1e-12)
     assert table["Bottom"][2] == pytest.approx(weighted, rel=1e-12)
     assert table["Top"][4] == "started at +100 (Divisions sheet)"
@@ -227,3 +228,26 @@ def test_a_division_not_given_by_the_players_sheet_is_marked_as_taken_from_the_l
     assert "division from latest result" in by_name["Hal Crane"][note]
     assert not any("division from latest result" in (r[note] or "") for n, r in by_name.items() if n != "Hal Crane")
     assert "most recent result" in " ".join(str(v) for r in sheet for v in r if v)  # the rule, named
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(shutil.which("soffice") is None, reason="LibreOffice (soffice) is not on PATH")
+def test_libreoffice_shows_the_divisions_table_as_written(tmp_path):
+    import csv
+
+    from tests.workbook.test_libreoffice import CSV_EVERY_SHEET, _convert
+
+    path = write_book(tmp_path / "league.xlsx", tiered_results(), players=_players(),
+                      divisions=[["Top", 150, ""], ["Bottom", -150, ""]])
+    assert main(["update", str(path)]) == 0
+    _convert(path, tmp_path / "csv", CSV_EVERY_SHEET, tmp_path / "profile")
+    with (tmp_path / "csv" / "league-Ratings.csv").open(encoding="utf-8") as f:
+        shown = list(csv.reader(f))
+    start = next(k for k, row in enumerate(shown) if row[2:4] == ["Division", "Division level"])
+    assert shown[start - 3][2] == "Division levels" and "A division level is" in shown[start - 2][2]
+    rows = {row[2]: row for row in shown[start + 1:start + 3]}
+    for name, level in (("Top", 150), ("Bottom", -150)):
+        assert float(rows[name][3]) == pytest.approx(level, abs=0.01)
+        assert float(rows[name][4]) == pytest.approx(100, abs=1e-6) and rows[name][6] == "4"
+    players = [row for row in shown[1:] if row[0].isdigit()]
+    assert len(players) == 8 and not any(row[1] for row in shown[start - 3:])  # no Player below the players
