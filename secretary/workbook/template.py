@@ -11,6 +11,7 @@ from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.worksheet.datavalidation import DataValidation
 
 from secretary.errors import FileRefused
+from secretary.model.records import Settings
 from secretary.workbook import schema
 
 PACKAGED_TEMPLATE = Path(__file__).resolve().parents[1] / "data" / "league-template.xlsx"
@@ -79,6 +80,7 @@ def build_template() -> Workbook:
     for spec in schema.INPUT_SHEETS:
         _input_sheet(wb, spec)
     _results_checks(wb[schema.RESULTS.name])
+    _divisions_checks(wb[schema.DIVISIONS.name])
     _settings_rows(wb[schema.SETTINGS.name])
     return wb
 
@@ -119,6 +121,19 @@ def _results_checks(ws) -> None:
     ws.add_data_validation(date)
     for row in range(2, 201):  # show typed dates as dates on the first rows
         ws.cell(row, _number(schema.RESULTS, "date")).number_format = "yyyy-mm-dd"
+
+
+def _divisions_checks(ws) -> None:
+    """A warning (Scale may differ from 400) when a starting level is beyond what the reader accepts at Scale 400."""
+    bound = schema.LEVEL_SCALES * Settings().scale
+    level = DataValidation(
+        type="decimal", operator="between", formula1=f"{-bound:.0f}", formula2=f"{bound:.0f}", allow_blank=True,
+        showErrorMessage=True, errorStyle="warning", errorTitle="Starting level",
+        error=f"Type the division's level in points above (+) or below (-) the Centre, for example 150 or -150 "
+              f"(from -{bound:.0f} to {bound:.0f} at Scale 400), not a rating like 1650.")
+    column = _letter(schema.DIVISIONS, "starting")
+    level.add(f"{column}2:{column}{VALIDATED_ROWS + 1}")
+    ws.add_data_validation(level)
 
 
 def _settings_rows(ws) -> None:

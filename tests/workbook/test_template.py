@@ -50,6 +50,7 @@ def test_template_layout():
     checks = content["Results"]["validations"]
     assert ("whole", "greaterThanOrEqual", "0", "E2:E20001 F2:F20001", "stop") in checks
     assert ("date", "greaterThan", "DATE(1990,1,1)", "A2:A20001", "warning") in checks
+    assert content["Divisions"]["validations"] == [("decimal", "between", "-1200", "B2:B20001", "warning")]
     words = " ".join(str(row[0]) for row in content["Instructions"]["values"] if row[0])
     for phrase in ("estimates", "±", "committee", "data-protection", "void"):
         assert phrase in words
