@@ -110,3 +110,20 @@ def test_the_handicap_card_names_both_players_of_each_side(updated):
     text = " ".join(subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout.split())
     assert "Ann Ash & Bea Bond races to" in text and "Cal Cole & Eve Egan races to" in text
     assert "v Cal Cole" in text and "& Eve Egan" in text
+
+
+def test_a_league_of_doubles_only_updates_and_explains(tmp_path):
+    # No singles at all: every per-player sum over the (empty) singles pairs must still be a float sum.
+    rows = [[WEEK1, "Premier", "Ann Ash", "Cal Cole", 3, 1, "Team night", "", "Bea Bond", "Dot Dale"],
+            [WEEK1, "Premier", "Ann Ash", "Bea Bond", 2, 3, "Team night", "", "Cal Cole", "Dot Dale"]]
+    path = write_book(tmp_path / "league.xlsx", rows, results_headers=HEADERS)
+    assert main(["update", str(path)]) == 0
+    wb = openpyxl.load_workbook(path)
+    wb["Results"].append([WEEK2, "Premier", "Bea Bond", "Ann Ash", 3, 0, "Team night", "", "Cal Cole", "Dot Dale"])
+    wb.save(path)
+    assert main(["update", str(path)]) == 0
+    header, rows = table(openpyxl.load_workbook(path)["Why it changed"])
+    for row in rows:
+        values = dict(zip(header, row))
+        assert sum(values[k] for k in ("Own results", "Opponents re-rated", "Group shift", "Corrections")) == values["Change"]
+    assert {dict(zip(header, r))["Player"] for r in rows} == {"Ann Ash", "Bea Bond", "Cal Cole", "Dot Dale"}

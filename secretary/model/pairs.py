@@ -73,11 +73,15 @@ class Pairs:
         (the same for both when ``on_j`` is None).
         """
         n = self.n_players
+        if not len(self.i):  # (bincount with no weights at all counts in integers)
+            return np.zeros(n)
         return np.bincount(self.i, on_i, n) + np.bincount(self.j, on_i if on_j is None else on_j, n)
 
     def per_player_difference(self, v) -> np.ndarray:
         """``X^T v``: per player, ``v`` summed over the pairs where they are side i minus where side j."""
         n = self.n_players
+        if not len(self.i):
+            return np.zeros(n)
         return np.bincount(self.i, v, n) - np.bincount(self.j, v, n)
 
     def games_per_player(self) -> np.ndarray:
