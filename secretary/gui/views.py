@@ -493,8 +493,9 @@ HELD_COLUMNS = (
            "starting assumption holds them (held by the prior).", 16),
     Column("division", "Division", "The division they are counted in.", 12),
     Column("rating", "Rating", "Their rating now, in points.", 6, True),
-    Column("games", "Games", "Games played (older ones counting less).", 6, True),
-    Column("won", "Won", "Games won (older ones counting less).", 6, True),
+    Column("games", "Weighted games", "Games played, old ones counting less (see Half-life in Settings): the "
+           "Weighted games column of the Watch list sheet.", 7, True),
+    Column("won", "Weighted wins", "Games won, old ones counting less, as in Weighted games.", 7, True),
     Column("expected", "Expected at their rating", "Games their rating says they should have won.", 7, True),
     Column("held", "Points held back", "How much further their results alone would move them.", 8, True),
     Column("todo", "What to do", "What would settle their rating.", 40, stretch=True),

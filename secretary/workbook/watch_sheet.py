@@ -29,7 +29,7 @@ DIVISION_HEADERS = (
     "Needs attention", TODO,
 )
 HELD_HEADERS = (
-    "Player", "Division", "Rating", "Games", "Won", "Expected at their rating", "Points held back",
+    "Player", "Division", "Rating", "Weighted games", "Weighted wins", "Expected at their rating", "Points held back",
     "How surprising (z)", DIVISION_LINKED, "Needs attention", TODO,
 )
 MATCH_HEADERS = (
@@ -40,7 +40,7 @@ FORMATS = {
     "Games among themselves": GAMES_FORMAT, "± of their level": SD_FORMAT,
     "Average rating": RATING_FORMAT, "Against the rest": SIGNED_FORMAT, "± of its level": SD_FORMAT,
     LINKED: SHARE_FORMAT, "Games against other divisions": GAMES_FORMAT,
-    "Rating": RATING_FORMAT, "Games": GAMES_FORMAT, "Won": GAMES_FORMAT,
+    "Rating": RATING_FORMAT, "Weighted games": GAMES_FORMAT, "Weighted wins": GAMES_FORMAT,
     "Expected at their rating": GAMES_FORMAT, "Points held back": RATING_FORMAT,
     "How surprising (z)": Z_FORMAT, DIVISION_LINKED: SHARE_FORMAT,
     "Rating A": RATING_FORMAT, "Rating B": RATING_FORMAT, "A's chance per game": SHARE_FORMAT,

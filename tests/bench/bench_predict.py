@@ -70,8 +70,12 @@ def baseline_row(score: baselines.Score) -> dict:
                 matches=score.matches, seconds=score.seconds)
 
 
+QUICK_TUNE = dict(half_lives=(240.0, 480.0, 960.0), spreads=(120.0, 175.0, 250.0),
+                  division_spreads=(0.0, 100.0, 300.0), refine=6)  # --quick-tune: a 3 x 3 grid, 6 walks of search
+
+
 def bench(name: str, demo_settings: Settings | None, with_baselines: bool = True,
-          engine: bool = True) -> tuple[list[dict], Settings, float]:
+          engine: bool = True, quick: bool = False) -> tuple[list[dict], Settings, float]:
     """Every method on one set; also the settings tuned on it and the tuning time."""
     results, players = SETS[name]()
     walk = prepare(results, players=players)
@@ -79,7 +83,7 @@ def bench(name: str, demo_settings: Settings | None, with_baselines: bool = True
         return [baseline_row(s) for s in (baselines.coin(walk), baselines.best_elo(walk), baselines.glicko_2(walk),
                                           baselines.true_skill(walk), baselines.best_whr(walk))], Settings(), 0.0
     start = time.perf_counter()
-    tuned = tune(walk).settings
+    tuned = tune(walk, **(QUICK_TUNE if quick else {})).settings
     tune_seconds = time.perf_counter() - start
     rows = [baseline_row(baselines.coin(walk)), engine_row(walk, Settings(), "engine, shipped defaults"),
             engine_row(walk, Settings(division_spread=0.0), "engine, shipped defaults but one pool")]
@@ -124,13 +128,14 @@ def main(argv=None) -> int:
     parser.add_argument("--sets", default="demo,badminton,tennis", help="comma-separated: demo, badminton, tennis")
     parser.add_argument("--no-baselines", action="store_true", help="the engine's rows only")
     parser.add_argument("--baselines-only", action="store_true", help="the baselines' rows only")
+    parser.add_argument("--quick-tune", action="store_true", help="tune each set on a small grid (QUICK_TUNE)")
     args = parser.parse_args(argv)
     print(HEADER)
     print("|" + "---|" * (HEADER.count("|") - 1))
     demo_settings, notes = None, []
     for name in args.sets.split(","):
         try:
-            rows, tuned, _ = bench(name, demo_settings, not args.no_baselines, not args.baselines_only)
+            rows, tuned, _ = bench(name, demo_settings, not args.no_baselines, not args.baselines_only, args.quick_tune)
         except pytest.skip.Exception as why:
             print(f"| {name} | skipped: {why} |" + " |" * (HEADER.count("|") - 3))
             continue
