@@ -14,7 +14,8 @@ from secretary.model.sentences import plural
 HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
 LEVEL_LINES = 5  # rows of the divisions table at most (it scrolls)
 LEAGUE_WEIGHT = 4  # the league table's share of the height against the divisions table's 1, when resized
-LEVELS_SHARE = 0.4  # the divisions table's share of the height at most, when first shown
+LEVELS_SHARE = 0.55  # the divisions table's share of the height at most, when first shown (4 rows at 1024x600)
+SASH = 4  # pixels between the league table and the divisions table, until measured
 
 
 class RatingsTab:
@@ -130,8 +131,9 @@ class RatingsTab:
         rows = views.level_rows(levels)
         self.levels.show(rows)
         shown = str(self.levels_frame) in map(str, self.stack.panes())
-        if rows:
-            self.levels.tree.configure(height=min(len(rows), LEVEL_LINES))
+        if rows:  # a column empty in every row (often Note) is left out, so the rest fit a netbook's width
+            self.levels.tree.configure(height=min(len(rows), LEVEL_LINES),
+                                       displaycolumns=views.filled_columns(views.LEVEL_COLUMNS, rows))
             if not shown:
                 self.stack.add(self.levels_frame, weight=1)
             # Through the window's scheduler, never the widget's own after(): closing cancels every timer
@@ -144,7 +146,9 @@ class RatingsTab:
         """The divisions table as tall as its rows need, but never more than LEVELS_SHARE of the height."""
         height = self.stack.winfo_height()
         if height > 1 and len(self.stack.panes()) > 1:
-            wanted = self.levels_frame.winfo_reqheight()
+            self.levels_frame.update_idletasks()  # its height for the rows it has now
+            sash = self.levels_frame.winfo_y() - self.stack.sashpos(0) if self.levels_frame.winfo_ismapped() else 0
+            wanted = self.levels_frame.winfo_reqheight() + max(sash, SASH)
             self.stack.sashpos(0, int(max(height - wanted, height * (1 - LEVELS_SHARE))))
 
     def clear(self) -> None:
