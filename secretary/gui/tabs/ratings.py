@@ -65,6 +65,7 @@ class RatingsTab:
         side = ttk.Frame(panes, padding=(10, 0, 0, 0))
         panes.add(side, weight=1)
         self.panes = panes
+        self.side_kept = False
         panes.bind("<Configure>", self._place_sash, add="+")
         self.name = ttk.Label(side, text="Update the ratings to see them here.", font="SecretaryBig",
                               wraplength=300, justify="left")
@@ -109,8 +110,11 @@ class RatingsTab:
     def _place_sash(self, event) -> None:
         """Once, when first shown: the player panel gets about a third of the width."""
         if event.width > 100:
-            self.panes.sashpos(0, max(event.width - self.side_width, event.width * 2 // 3 - 40))
+            self._side_sash(event.width)
             self.panes.unbind("<Configure>")
+
+    def _side_sash(self, width: int) -> None:
+        self.panes.sashpos(0, max(width - self.side_width, width * 2 // 3 - 40))
 
     def show(self, updated) -> None:
         self.ratings = {p.name: p for p in updated.ratings}
@@ -150,6 +154,9 @@ class RatingsTab:
             sash = self.levels_frame.winfo_y() - self.stack.sashpos(0) if self.levels_frame.winfo_ismapped() else 0
             wanted = self.levels_frame.winfo_reqheight() + max(sash, SASH)
             self.stack.sashpos(0, int(max(height - wanted, height * (1 - LEVELS_SHARE))))
+            if not self.side_kept:  # the table's own width moved the player panel's sash: put it back, once
+                self._side_sash(self.panes.winfo_width())
+                self.side_kept = True
 
     def clear(self) -> None:
         self.show_levels(())
