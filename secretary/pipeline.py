@@ -251,7 +251,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
         rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
         previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check,
-        inputs=inputs))
+        inputs=inputs, starting_levels=starting_levels(book)))
 
     clash = toolsheets.clash_note(toolsheets.of_workbook(wb))
     written = backup = pdf = card = None
@@ -366,7 +366,9 @@ def _published(path: str | Path, what: str) -> Published:
 
 def _published_from(book: LeagueBook, stored: PublishedState) -> Published:
     book = replace(book, state=stored)
-    fit = fit_league(book.results, book.settings, players=book.players, starting_levels=starting_levels(book))
+    # The levels that update used, so that the rebuild is what it published even if the sheet was edited since.
+    levels = stored.starting_levels if stored.starting_levels is not None else starting_levels(book)
+    fit = fit_league(book.results, book.settings, players=book.players, starting_levels=levels)
     breakdown = explain_changes(book.results, book.state.previous, book.settings, book.players, current=fit)
     return Published(book, fit, _published_ratings(fit, breakdown), breakdown)
 

@@ -202,6 +202,7 @@ class PublishedState:
     previous: "PublishedState | None" = None  # the update before, so its breakdown can be rebuilt
     tune_check: TuneCheck | None = None  # the last check of whether tuning would pay off
     inputs: str = ""  # digest of everything the update read (rows, settings, players, ...) and the tool's version
+    starting_levels: Mapping[str, float] | None = None  # the Divisions sheet's levels it used (None: not kept)
 
 
 def _digest(*parts: object) -> str:

@@ -24,6 +24,7 @@ from pathlib import Path
 from lxml import etree
 from openpyxl import load_workbook
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.writer.excel import ExcelWriter
 
 from secretary.errors import FileRefused
 from secretary.workbook import save
@@ -64,7 +65,8 @@ def graft_outputs(original: str | Path, outputs_wb: Workbook, dest: str | Path) 
     if stubs:
         raise ValueError(f"tool sheets loaded without their rows were not rewritten: {stubs}")
     buffer = io.BytesIO()
-    outputs_wb.save(buffer)
+    with zipfile.ZipFile(buffer, "w", zipfile.ZIP_STORED, allowZip64=True) as archive:
+        ExcelWriter(outputs_wb, archive).save()  # as Workbook.save, but not deflated: the graft reads it at once
     graft_package(original, buffer.getvalue(), dest)
 
 

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import datetime as dt
 from itertools import count
+from operator import itemgetter
 from typing import Callable, Mapping, Sequence
 
 from secretary.workbook import schema
@@ -33,15 +34,18 @@ _DATES = frozenset({dt.datetime, dt.date, str, type(None)})
 def ordinary_rows(columns: Mapping[str, int], body: Sequence[Sequence], first_row: int,
                   settings, make: Callable) -> list:
     """For each row of ``body`` (sheet row ``first_row`` first): ``make(row, date, division, a, b,
-    games_a, games_b, event)`` when the row passes every check, else None."""
+    games_a, games_b, event, False)`` (not void) when the row passes every check, else None."""
     if not set(columns) <= KEYS:
         return [None] * len(body)
     longest, order = settings.longest_race, settings.date_order
+    width = min(map(len, body), default=0)  # calamine's rows are all as wide as the sheet
 
     def column(key):
         index = columns.get(key)
         if index is None:
             return [None] * len(body)
+        if index <= width:
+            return list(map(itemgetter(index - 1), body))
         return [row[index - 1] if index <= len(row) else None for row in body]
 
     dates = _checked(column("date"), lambda v: parse_date(v, order)[0], _DATES)
@@ -61,7 +65,7 @@ def ordinary_rows(columns: Mapping[str, int], body: Sequence[Sequence], first_ro
                 or gb is None or not rated or ga == gb == 0 or not single):
             out.append(None)
         else:
-            out.append(make(number, date, division, a, b, ga, gb, event))
+            out.append(make(number, date, division, a, b, ga, gb, event, False))
     return out
 
 

@@ -7,7 +7,7 @@ import warnings
 from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Mapping
+from typing import Mapping, NamedTuple
 
 import openpyxl
 
@@ -424,9 +424,8 @@ def _link_divisions(divisions: list[Division], results, players, sheet: _Sheet |
 # ------------------------------------------------------------------ Results
 
 
-@dataclass(frozen=True)
-class _Row:
-    """A Results row that passed the cell checks, names still as written."""
+class _Row(NamedTuple):
+    """A Results row that passed the cell checks, names still as written (a tuple: a million are made)."""
 
     row: int
     date: dt.date
@@ -447,7 +446,7 @@ def _read_results(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> 
     rows = []
     first = sheet.header_row + 1
     body = sheet.rows[sheet.header_row:]
-    checked = ordinary_rows(sheet.columns, body, first, settings, _ordinary_row)
+    checked = ordinary_rows(sheet.columns, body, first, settings, _Row)
     for row, parsed in enumerate(checked, start=first):
         if parsed is None:
             values = sheet.values(row)
@@ -458,10 +457,6 @@ def _read_results(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> 
         if parsed is not None:
             rows.append(parsed)
     return rows
-
-
-def _ordinary_row(row, date, division, a, b, games_a, games_b, event) -> _Row:
-    return _Row(row, date, division, a, b, games_a, games_b, event, False)
 
 
 def _results_row(sheet: _Sheet, row: int, values: dict, settings: Settings, reader: _Reader, void: bool):
@@ -645,7 +640,8 @@ def _link_names(rows: list[_Row], players: list[Player], fixture_rows: list[tupl
     for r in rows:
         a, b = shown_as[r.a], shown_as[r.b]
         pa, pb = (shown_as[r.pa], shown_as[r.pb]) if r.pa else ("", "")
-        if _merged_by_aliases(r, (a, pa, b, pb), results_sheet, reader):
+        repeated = a == b if not pa else len({a, pa, b, pb}) < 4  # only then can "Also known as" have merged two
+        if repeated and _merged_by_aliases(r, (a, pa, b, pb), results_sheet, reader):
             continue
         results.append(Result(r.date, a, b, r.games_a, r.games_b, division_of[r.division],
                               r.event, r.void, r.row, pa, pb))
@@ -779,7 +775,10 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
     seen: dict[tuple, int] = {}
     fold = _Folded()
     for r in results:
-        one, other = (_side(r.side_a, fold), r.games_a), (_side(r.side_b, fold), r.games_b)
+        if r.partner_a and r.partner_b:
+            one, other = (_side(r.side_a, fold), r.games_a), (_side(r.side_b, fold), r.games_b)
+        else:  # singles, as _side gives them, without asking the record for its sides
+            one, other = ((fold[r.player_a],), r.games_a), ((fold[r.player_b],), r.games_b)
         key = (r.date, (one, other) if one <= other else (other, one), fold[r.division], r.void)
         if key in seen:
             reader.add("warning", sheet.spec.name, r.row, None, f"{r.label_a} {r.games_a}-{r.games_b} {r.label_b}",

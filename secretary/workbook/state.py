@@ -58,6 +58,8 @@ def _document(state: PublishedState) -> dict:
         "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
         "rows": [[identity, fp] for identity, fp in state.rows],
         "inputs": state.inputs,
+        **({} if state.starting_levels is None else
+           {"starting_levels": {name: float(level) for name, level in state.starting_levels.items()}}),
     }
 
 
@@ -124,7 +126,15 @@ def _parse(doc: dict) -> PublishedState | None:
         settings=settings,
         tune_check=_parse_tune_check(doc.get("tune_check")),
         inputs=str(doc.get("inputs", "")),
+        starting_levels=_levels(doc.get("starting_levels")),
     )
+
+
+def _levels(doc: object) -> dict[str, float] | None:
+    """The starting levels an update used; None when the record predates them or is not a table."""
+    if not isinstance(doc, dict):
+        return None
+    return {str(name): _finite(level) for name, level in doc.items()}
 
 
 def _finite(value: object) -> float:

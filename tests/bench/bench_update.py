@@ -3,7 +3,7 @@
 Run by hand (not part of the test command):
 
     python tests/bench/bench_update.py [--sizes 2000 20000 100000] [--repeat 3] [--conditions idle busy]
-    python tests/bench/bench_update.py --sizes 1000000 --repeat 1      # a federation's archive
+    python tests/bench/bench_update.py --sizes 1000000 --repeat 1 --no-bare   # a federation's archive
 
 For each generated league workbook (tests/bench/make_league.py) it times, as
 the median of --repeat runs on fresh copies, each in its own process (so that
@@ -81,8 +81,8 @@ def in_child(*args: str) -> dict:
     return answer
 
 
-def measure(source: Path, folder: Path, repeat: int) -> tuple[dict, dict]:
-    bare = [in_child("bare", str(source), str(folder / "bare.xlsx")) for _ in range(repeat)]
+def measure(source: Path, folder: Path, repeat: int, bare: bool = True) -> tuple[list, list]:
+    bare = [in_child("bare", str(source), str(folder / "bare.xlsx")) for _ in range(repeat if bare else 0)]
     runs = []
     for _ in range(repeat):
         work = folder / "league.xlsx"
@@ -95,6 +95,8 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--sizes", type=int, nargs="+", default=[2_000, 20_000, 100_000])
     parser.add_argument("--repeat", type=int, default=3)
+    parser.add_argument("--no-bare", action="store_true",
+                        help="leave out the bare load+save (at a million rows it takes many minutes and GB)")
     busy.add_argument(parser)
     args = parser.parse_args()
     print(f"{'condition':>14} {'rows':>9} {'players':>8} | {'bare load+save':>14} {'update':>8} {'ratio':>6} "
@@ -110,8 +112,8 @@ def main():
             sources[rows] = (source, players)
         for condition in busy.conditions(args.conditions):
             for rows, (source, players) in sources.items():
-                bare, runs = measure(source, tmp, args.repeat)
-                floor = statistics.median(b["seconds"] for b in bare)
+                bare, runs = measure(source, tmp, args.repeat, bare=not args.no_bare)
+                floor = statistics.median(b["seconds"] for b in bare) if bare else float("nan")
                 update = statistics.median(r["seconds"] for r in runs)
                 peak = max(r["peak_mb"] for r in runs)
                 stages = [statistics.median(r["stages"].get(name, 0.0) for r in runs) for name in STAGES]

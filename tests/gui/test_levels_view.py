@@ -26,3 +26,25 @@ def test_the_table_is_hidden_for_a_league_of_one_division(app, tmp_path):
     updated(opened(app, write_book(tmp_path / "league.xlsx")))
     assert app.updated.levels == ()
     assert str(app.ratings.levels_frame) not in map(str, app.ratings.stack.panes())
+
+
+def test_level_rows_show_signed_levels_blank_pm_when_fixed_and_mark_an_unlinked_division():
+    from secretary.gui import views
+    from secretary.model.division_table import DivisionLevel
+
+    rows = views.level_rows([DivisionLevel("Top", 152.4, 31.2, 150.0, 8, 40.0, "started at +150 (Divisions sheet)"),
+                             DivisionLevel("Valley", -0.4, 99.6, 0.0, 6, 0.0, "no games"),
+                             DivisionLevel("", 0.0, None, 0.0, 2, 3.0, "fixed")])
+    assert [r.shown[:5] for r in rows] == [("Top", "+152", "31", "8", "40"), ("Valley", "0", "100", "6", "0"),
+                                           ("(no division)", "0", "", "2", "3")]
+    assert [r.tags for r in rows] == [(), ("flagged",), ()]  # no games against other divisions: marked
+
+
+def test_a_bad_divisions_row_is_shown_with_the_cell_to_fix(tmp_path):
+    from secretary.gui import views
+    from secretary.workbook.read import read_workbook
+    from tests.workbook.league_books import write_book
+
+    book = read_workbook(write_book(tmp_path / "league.xlsx", divisions=[["Premier", 100, ""], ["premier", 1, ""]]))
+    [problem] = book.problems
+    assert views.fix_line(problem, book.layouts) == "Fix cell Divisions!A3: Keep one of the two rows."

@@ -251,3 +251,20 @@ def test_libreoffice_shows_the_divisions_table_as_written(tmp_path):
         assert float(rows[name][4]) == pytest.approx(100, abs=1e-6) and rows[name][6] == "4"
     players = [row for row in shown[1:] if row[0].isdigit()]
     assert len(players) == 8 and not any(row[1] for row in shown[start - 3:])  # no Player below the players
+
+
+def test_the_last_update_is_rebuilt_with_the_levels_it_used_after_the_sheet_is_edited(tmp_path, capsys):
+    from secretary.pipeline import last_update
+
+    path = write_book(tmp_path / "league.xlsx", tiered_results(), players=_players(),
+                      divisions=[["Top", 150, ""], ["Bottom", -150, ""]])
+    assert main(["update", str(path)]) == 0
+    published = division_averages(path)
+    wb = openpyxl.load_workbook(path)
+    wb["Divisions"]["B2"] = 250  # edited, not yet updated
+    wb.save(path)
+    shown = {d.division: d.level for d in last_update(path).levels}
+    assert shown == pytest.approx({"Top": 150.0, "Bottom": -150.0}, abs=0.01)  # what was published
+    assert published == pytest.approx({"Top": 1650.0, "Bottom": 1350.0}, abs=0.01)
+    assert main(["update", str(path)]) == 0  # the update itself reads the sheet as it is now
+    assert {d.division: round(d.level) for d in last_update(path).levels} == {"Top": 250, "Bottom": -150}
