@@ -211,7 +211,7 @@ RATING_COLUMNS = (
 
 
 LEVEL_COLUMNS = (
-    Column("division", "Division", "The division.", 14),
+    Column("division", "Division", "The division.", 11),
     Column("level", "Division level", "How strong the division is as a whole, in points above (+) or below (-) "
            "the starting rating (Centre); a player's rating is their division's level plus how far they stand "
            "from it (the division's level, a random effect fitted with the players).", 8, True),
@@ -234,6 +234,11 @@ def level_rows(levels: Sequence) -> list[Row]:
         shown = (d.label, signed(d.level), points(d.sd), str(d.players), f"{d.cross_games:.0f}", d.note)
         rows.append(Row(d.label, values, shown, () if d.cross_games or d.sd is None else ("flagged",)))
     return rows
+
+
+def filled_columns(columns: Sequence[Column], rows: Sequence[Row]) -> list[str]:
+    """The keys of the columns with something shown in at least one row (an empty one takes room for nothing)."""
+    return [c.key for i, c in enumerate(columns) if any(r.shown[i] not in ("", None) for r in rows)]
 
 
 def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:

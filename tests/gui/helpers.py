@@ -4,11 +4,14 @@ from __future__ import annotations
 import os
 import time
 import tkinter as tk
+from tkinter import ttk
 from pathlib import Path
 
 REPO = Path(__file__).resolve().parents[2]
 ARTIFACTS = REPO / "test-artifacts"
 DEMO = REPO / "secretary" / "data" / "demo-league.xlsx"
+TASKBAR = 48  # pixels a laptop's taskbar may take at the bottom of the screen
+CHECKED = (ttk.Label, ttk.Button, ttk.Checkbutton, tk.Label, tk.Button)
 
 
 def wait_until(root: tk.Misc, predicate, timeout: float = 60.0, errors: list | None = None) -> None:
@@ -87,8 +90,6 @@ def screenshot(root: tk.Misc, name: str) -> Path:
     return path
 
 
-
-
 def finished(worker, timeout: float = 10.0) -> list:
     """Poll a worker as the window does until its job's result or failure arrives; returns every message."""
     seen = []
@@ -100,3 +101,73 @@ def finished(worker, timeout: float = 10.0) -> list:
             return seen
         time.sleep(0.01)
     raise AssertionError("the job did not finish")
+
+
+def mapped_widgets(widget):
+    for child in widget.winfo_children():
+        if child.winfo_ismapped():
+            yield child
+            yield from mapped_widgets(child)
+
+
+def clipped(root) -> list[str]:
+    """Every shown label, button and check box narrower or lower than its text needs (a wrapped text asks for
+    its wrap length across and for all its lines down)."""
+    root.update()
+    return [f"{w.winfo_class()} {w.cget('text')!r}: {w.winfo_width()}x{w.winfo_height()} < "
+            f"{w.winfo_reqwidth()}x{w.winfo_reqheight()}"
+            for w in mapped_widgets(root)
+            if isinstance(w, CHECKED) and (w.winfo_width() + 1 < w.winfo_reqwidth()
+                                           or w.winfo_height() + 1 < w.winfo_reqheight())]
+
+
+def tabs_fit(notebook: ttk.Notebook) -> bool:
+    """Whether every tab's label is on the notebook's tab row (the last one ends inside its width)."""
+    notebook.update()
+    y = 10
+    seen = {}
+    for x in range(0, notebook.winfo_width(), 2):
+        try:
+            seen[int(notebook.index(f"@{x},{y}"))] = x
+        except tk.TclError:
+            continue
+    last = notebook.index("end") - 1
+    return set(seen) == set(range(last + 1)) and seen[last] < notebook.winfo_width() - 2
+
+
+def on_screen(widget, screen) -> bool:
+    """The widget's whole box is on the screen, above the taskbar."""
+    widget.update()
+    return (widget.winfo_rootx() >= 0 and widget.winfo_rootx() + widget.winfo_width() <= screen[0]
+            and widget.winfo_rooty() + widget.winfo_height() <= screen[1] - TASKBAR)
+
+
+CELL_PADDING = 8  # pixels a Treeview cell keeps around its text (measured under Xvfb: 4 each side)
+
+
+def table_clipped(table) -> list[str]:
+    """Each heading or cell of a shown table (widgets.Table) cut short: a column narrower than its heading
+    (in the heading font, with its padding) or its widest value (in the body font); a column ending right of
+    the table's visible width; rows that are not all in sight (the table's height in rows, and its box)."""
+    from tkinter import font as tkfont
+
+    tree = table.tree
+    tree.update()
+    body, bold = tkfont.nametofont("TkDefaultFont"), tkfont.nametofont("SecretaryBold")
+    cut, right = [], 0
+    shown = tree["displaycolumns"]
+    for key in tree["columns"] if tuple(shown) in (("#all",), ()) else shown:
+        width = int(tree.column(key, "width"))
+        right += width
+        heading = tree.heading(key, "text")
+        values = [str(tree.set(item, key)) for item in tree.get_children()]
+        need = max([bold.measure(heading)] + [body.measure(v) for v in values]) + CELL_PADDING
+        if width < need:
+            cut.append(f"column {heading!r}: {width} < {need} pixels")
+    if right > tree.winfo_width() + 1:
+        cut.append(f"the columns take {right} pixels, {tree.winfo_width()} shown")
+    rows = len(tree.get_children())
+    if int(tree.cget("height")) < rows or tree.winfo_height() + 1 < tree.winfo_reqheight():
+        cut.append(f"{rows} rows, {tree.cget('height')} in sight, {tree.winfo_height()} < "
+                   f"{tree.winfo_reqheight()} pixels high")
+    return cut

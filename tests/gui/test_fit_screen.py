@@ -8,18 +8,15 @@ from __future__ import annotations
 import shutil
 import threading
 import tkinter as tk
-from tkinter import ttk
 
 import pytest
 
 from secretary.gui import views
 from secretary.workbook import schema
 from tests.gui.conftest import LAPTOP_SCREENS
-from tests.gui.helpers import RecordingDialogs, screenshot, settle
+from tests.gui.helpers import TASKBAR, RecordingDialogs, clipped, on_screen, screenshot, settle, tabs_fit
 
-TASKBAR = 48  # pixels a laptop's taskbar may take at the bottom of the screen
 TITLE_BAR = 32
-CHECKED = (ttk.Label, ttk.Button, ttk.Checkbutton, tk.Label, tk.Button)
 
 
 SCREENS = LAPTOP_SCREENS
@@ -33,38 +30,6 @@ def demo_league(tmp_path_factory):
     folder = tmp_path_factory.mktemp("demo") / "demo"
     run_demo(folder)
     return folder
-
-
-def mapped_widgets(widget):
-    for child in widget.winfo_children():
-        if child.winfo_ismapped():
-            yield child
-            yield from mapped_widgets(child)
-
-
-def clipped(root) -> list[str]:
-    """Every shown label, button and check box narrower or lower than its text needs (a wrapped text asks for
-    its wrap length across and for all its lines down)."""
-    root.update()
-    return [f"{w.winfo_class()} {w.cget('text')!r}: {w.winfo_width()}x{w.winfo_height()} < "
-            f"{w.winfo_reqwidth()}x{w.winfo_reqheight()}"
-            for w in mapped_widgets(root)
-            if isinstance(w, CHECKED) and (w.winfo_width() + 1 < w.winfo_reqwidth()
-                                           or w.winfo_height() + 1 < w.winfo_reqheight())]
-
-
-def tabs_fit(notebook: ttk.Notebook) -> bool:
-    """Whether every tab's label is on the notebook's tab row (the last one ends inside its width)."""
-    notebook.update()
-    y = 10
-    seen = {}
-    for x in range(0, notebook.winfo_width(), 2):
-        try:
-            seen[int(notebook.index(f"@{x},{y}"))] = x
-        except tk.TclError:
-            continue
-    last = notebook.index("end") - 1
-    return set(seen) == set(range(last + 1)) and seen[last] < notebook.winfo_width() - 2
 
 
 @pytest.mark.parametrize("screen", SCREENS)
@@ -118,13 +83,6 @@ def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo
 
 
 LONG_FOLDER = "/home/a-secretary/Documents/League secretary demo/Harbourside and District Pool League/2026 spring"
-
-
-def on_screen(widget, screen) -> bool:
-    """The widget's whole box is on the screen, above the taskbar."""
-    widget.update()
-    return (widget.winfo_rootx() >= 0 and widget.winfo_rootx() + widget.winfo_width() <= screen[0]
-            and widget.winfo_rooty() + widget.winfo_height() <= screen[1] - TASKBAR)
 
 
 @pytest.mark.parametrize("screen", SCREENS)

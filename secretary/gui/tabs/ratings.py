@@ -14,7 +14,8 @@ from secretary.model.sentences import plural
 HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
 LEVEL_LINES = 5  # rows of the divisions table at most (it scrolls)
 LEAGUE_WEIGHT = 4  # the league table's share of the height against the divisions table's 1, when resized
-LEVELS_SHARE = 0.4  # the divisions table's share of the height at most, when first shown
+LEVELS_SHARE = 0.55  # the divisions table's share of the height at most, when first shown (4 rows at 1024x600)
+SASH = 4  # pixels between the league table and the divisions table, until measured
 
 
 class RatingsTab:
@@ -64,6 +65,7 @@ class RatingsTab:
         side = ttk.Frame(panes, padding=(10, 0, 0, 0))
         panes.add(side, weight=1)
         self.panes = panes
+        self.side_kept = False
         panes.bind("<Configure>", self._place_sash, add="+")
         self.name = ttk.Label(side, text="Update the ratings to see them here.", font="SecretaryBig",
                               wraplength=300, justify="left")
@@ -108,8 +110,11 @@ class RatingsTab:
     def _place_sash(self, event) -> None:
         """Once, when first shown: the player panel gets about a third of the width."""
         if event.width > 100:
-            self.panes.sashpos(0, max(event.width - self.side_width, event.width * 2 // 3 - 40))
+            self._side_sash(event.width)
             self.panes.unbind("<Configure>")
+
+    def _side_sash(self, width: int) -> None:
+        self.panes.sashpos(0, max(width - self.side_width, width * 2 // 3 - 40))
 
     def show(self, updated) -> None:
         self.ratings = {p.name: p for p in updated.ratings}
@@ -130,8 +135,9 @@ class RatingsTab:
         rows = views.level_rows(levels)
         self.levels.show(rows)
         shown = str(self.levels_frame) in map(str, self.stack.panes())
-        if rows:
-            self.levels.tree.configure(height=min(len(rows), LEVEL_LINES))
+        if rows:  # a column empty in every row (often Note) is left out, so the rest fit a netbook's width
+            self.levels.tree.configure(height=min(len(rows), LEVEL_LINES),
+                                       displaycolumns=views.filled_columns(views.LEVEL_COLUMNS, rows))
             if not shown:
                 self.stack.add(self.levels_frame, weight=1)
             # Through the window's scheduler, never the widget's own after(): closing cancels every timer
@@ -144,8 +150,13 @@ class RatingsTab:
         """The divisions table as tall as its rows need, but never more than LEVELS_SHARE of the height."""
         height = self.stack.winfo_height()
         if height > 1 and len(self.stack.panes()) > 1:
-            wanted = self.levels_frame.winfo_reqheight()
+            self.levels_frame.update_idletasks()  # its height for the rows it has now
+            sash = self.levels_frame.winfo_y() - self.stack.sashpos(0) if self.levels_frame.winfo_ismapped() else 0
+            wanted = self.levels_frame.winfo_reqheight() + max(sash, SASH)
             self.stack.sashpos(0, int(max(height - wanted, height * (1 - LEVELS_SHARE))))
+            if not self.side_kept:  # the table's own width moved the player panel's sash: put it back, once
+                self._side_sash(self.panes.winfo_width())
+                self.side_kept = True
 
     def clear(self) -> None:
         self.show_levels(())
