@@ -14,7 +14,7 @@ import pytest
 from secretary.gui import views
 from secretary.workbook import schema
 from tests.gui.conftest import LAPTOP_SCREENS
-from tests.gui.helpers import TASKBAR, RecordingDialogs, clipped, on_screen, screenshot, settle, tabs_fit
+from tests.gui.helpers import TASKBAR, RecordingDialogs, clipped, on_screen, screenshot, settle, table_clipped, tabs_fit
 
 TITLE_BAR = 32
 
@@ -55,6 +55,8 @@ def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo
             app.notebook.select(tab.frame)
             settle(app)
             problems += [f"{name}: {c}" for c in clipped(root)]
+            if tab is app.ratings:  # the divisions table in full: every column and row in sight
+                problems += [f"ratings, divisions table: {c}" for c in table_clipped(app.ratings.levels)]
             if tab is app.ratings:  # the chosen player's change: several lines in sight, the rest a scroll away
                 canvas = app.ratings.change_canvas
                 drawn = canvas.bbox("all")
