@@ -243,8 +243,7 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
     divisions = _read_divisions(sheets.get(schema.DIVISIONS.name), settings, reader)
     rows = _read_results(sheets.get(schema.RESULTS.name), settings, reader)
     fixtures = _read_fixtures(sheets.get(schema.FIXTURES.name), settings, reader)
-    for partnered in (sheets.get(schema.RESULTS.name), sheets.get(schema.FIXTURES.name)):
-        _note_blank_partners(partnered, reader)
+    _note_blank_partners(sheets.get(schema.FIXTURES.name), reader)  # the Results' in _read_results
     formula_cells = _check_formulas(path, wb, sheets, reader)
     results, players, fixtures = _link_names(rows, players, fixtures, sheets, reader)
     divisions = _link_divisions(divisions, results, players, sheets.get(schema.DIVISIONS.name), reader)
@@ -458,6 +457,7 @@ def _read_results(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> 
             parsed = _results_row(sheet, row, values, settings, reader, void)
         if parsed is not None:
             rows.append(parsed)
+    _note_blank_partners(sheet, reader)
     sheet.rows = sheet.rows[:sheet.header_row]  # the cells are records now: freed (a million rows: ~0.5 GB)
     return rows
 

@@ -108,3 +108,25 @@ def test_a_cell_the_search_cannot_place_leaves_the_formulas_to_openpyxl(tmp_path
     values.close()
     book = read_workbook(odd)
     assert [(p.row, p.column) for p in book.errors] == [(6, "Partner A"), (6, "Partner B")]
+
+
+def test_a_partner_formula_with_its_saved_value_is_read_as_the_name(tmp_path):
+    """As a spreadsheet program saves it (value beside the formula): a doubles row, no error."""
+    path = _book(tmp_path / "league.xlsx",
+                 [LATER, "Premier", "Ada Finch", "Cleo Marsh", 3, 1, "", "", '="Bram Oak"', "Dev Pike"])
+    saved = tmp_path / "saved.xlsx"
+    import zipfile
+    with zipfile.ZipFile(path) as src, zipfile.ZipFile(saved, "w", zipfile.ZIP_DEFLATED) as dst:
+        for item in src.infolist():
+            data = src.read(item.filename)
+            if item.filename == "xl/worksheets/sheet1.xml":
+                old = b'<c r="I6"><f>"Bram Oak"</f><v></v></c>'
+                assert old in data
+                data = data.replace(old, b'<c r="I6" t="str"><f>"Bram Oak"</f><v>Bram Oak</v></c>')
+            dst.writestr(item, data)
+    values = ValuesBook(saved)
+    assert (6, 9) in values.read_cells("Results").formulas
+    values.close()
+    book = read_workbook(saved)
+    assert book.errors == ()
+    assert (book.results[-1].partner_a, book.results[-1].partner_b) == ("Bram Oak", "Dev Pike")
