@@ -210,7 +210,7 @@ def _digest(*parts: object) -> str:
     return hashlib.blake2b(text.encode("utf-8"), digest_size=8).hexdigest()
 
 
-@lru_cache(maxsize=1 << 20)  # the update and its breakdown both need every row's digests (a million rows)
+@lru_cache(maxsize=1 << 18)  # the update and its breakdown both need every row's digests
 def identity(result: Result) -> str:
     """Which match a row is (date and the two players), whatever its score says."""
     if result.is_doubles:  # the two sides, whatever the order of partners or sides
@@ -220,7 +220,7 @@ def identity(result: Result) -> str:
     return _digest(result.date.isoformat(), a, b)
 
 
-@lru_cache(maxsize=1 << 20)
+@lru_cache(maxsize=1 << 18)
 def fingerprint(result: Result) -> str:
     """Everything about a row that the rating uses; changes when the row is edited."""
     partners = (result.partner_a.casefold(), result.partner_b.casefold()) if result.is_doubles else ()

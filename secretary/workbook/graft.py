@@ -67,7 +67,9 @@ def graft_outputs(original: str | Path, outputs_wb: Workbook, dest: str | Path) 
     buffer = io.BytesIO()
     with zipfile.ZipFile(buffer, "w", zipfile.ZIP_STORED, allowZip64=True) as archive:
         ExcelWriter(outputs_wb, archive).save()  # as Workbook.save, but not deflated: the graft reads it at once
-    graft_package(original, buffer.getvalue(), dest)
+    new = _package_parts(buffer)
+    del buffer  # only one copy of the tool's sheets in memory (a million rows' state is ~100 MB)
+    _graft_parts(Path(original), new, Path(dest))
 
 
 def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10,
@@ -218,13 +220,21 @@ def _keep_tool_names(wb: etree._Element) -> None:
 
 def graft_package(original: str | Path, outputs: bytes, dest: str | Path) -> None:
     """As `graft_outputs`, with the tool's sheets given as a saved .xlsx package's bytes."""
-    original, dest = Path(original), Path(dest)
+    _graft_parts(Path(original), _package_parts(io.BytesIO(outputs)), Path(dest))
+
+
+def _package_parts(package: io.BytesIO) -> dict[str, bytes]:
+    with zipfile.ZipFile(package) as z:
+        return {name: z.read(name) for name in z.namelist()}
+
+
+def _graft_parts(original: Path, new: dict[str, bytes], dest: Path) -> None:
+    """The graft of the tool's sheets given as the parts of their package."""
     try:
         source = zipfile.ZipFile(original)
     except (OSError, zipfile.BadZipFile) as exc:
         raise GraftRefused(f"{original.name} cannot be read as an .xlsx file ({exc}).") from exc
-    with source, zipfile.ZipFile(io.BytesIO(outputs)) as z:
-        new = {name: z.read(name) for name in z.namelist()}
+    with source:
         try:
             parts = _Graft(original.name, _Parts(source), new).run()
             _write_zip(dest, source, parts)

@@ -369,10 +369,10 @@ def test_a_graft_that_does_not_read_back_is_not_saved(tmp_path, watch, monkeypat
 
     original = S.secretary_workbook(tmp_path / "league.xlsx")
     before = original.read_bytes()
-    real = graft.graft_package
+    real = graft._graft_parts
 
-    def garbled(source, package, dest):  # one name of the Ratings sheet changes on its way to the disk
-        real(source, package, dest)
+    def garbled(source, parts, dest):  # one name of the Ratings sheet changes on its way to the disk
+        real(source, parts, dest)
         parts = _parts(dest)
         sheet = next(n for n, d in parts.items() if n.startswith("xl/worksheets/") and b"<t>Rank</t>" in d)
         assert b"Ada Finch" in parts[sheet]
@@ -381,7 +381,7 @@ def test_a_graft_that_does_not_read_back_is_not_saved(tmp_path, watch, monkeypat
             for name, data in parts.items():
                 z.writestr(name, data)
 
-    monkeypatch.setattr(graft, "graft_package", garbled)
+    monkeypatch.setattr(graft, "_graft_parts", garbled)
     with pytest.raises(FileRefused, match="does not read back as written"):
         save_grafted(original, _outputs(watch))
     assert original.read_bytes() == before
