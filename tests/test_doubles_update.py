@@ -90,6 +90,19 @@ def test_notice_board_lists_the_weeks_doubles_on_the_sheet_and_the_pdf(updated):
     assert wanted in text
 
 
+def test_the_wall_page_lists_the_weeks_doubles(updated):
+    """Page one, the page for the wall, names the week's doubles results (week 2's one doubles row)."""
+    if shutil.which("pdftotext") is None:
+        pytest.skip("poppler's pdftotext is not installed")
+    [row] = [r for r in WEEK2_ROWS if r[8]]
+    wanted = f"Doubles this week: {row[2]} & {row[8]} {row[4]}-{row[5]} {row[3]} & {row[9]}."
+    pdf = updated.with_name(f"{updated.stem} - notice board.pdf")
+    page_one = subprocess.run(["pdftotext", "-f", "1", "-l", "1", str(pdf), "-"], capture_output=True, text=True,
+                              check=True).stdout
+    assert wanted in " ".join(page_one.split())
+    assert "Biggest movers this week" in page_one  # the movers still fit beside it
+
+
 def test_a_doubles_fixture_gets_a_chance_and_a_fair_race(updated):
     header, rows = table(openpyxl.load_workbook(updated)["Fixtures"])
     values = dict(zip(header, rows[0]))

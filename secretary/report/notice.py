@@ -160,6 +160,8 @@ def wall_page(notice: Notice, watch, width: float, height: float) -> list:
                 if movers:
                     story.append(layout.para(block.division, "wallnote"))
                     story += [layout.para(f"\u2022 {_mover(line)}", "wall") for line in movers]
+        if notice.doubles:  # the week's doubles results ("Doubles this week: ...")
+            story.append(layout.para(notice.doubles, "wallnote"))
         if notice.levels:
             story += [layout.para(LEVELS_HEADING, "wallhead"), layout.para(notice.levels_line(), "wall"),
                       layout.para(notice.level_sentence, "wallnote")]
