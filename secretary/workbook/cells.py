@@ -50,11 +50,22 @@ class Workbook:
         self.path = path
         self._book = python_calamine.CalamineWorkbook.from_path(str(path))
         self.sheetnames: list[str] = list(self._book.sheet_names)
-        self._markers = _sheet_markers(path)
+        self._members = _members_of(path)
+        self._markers: dict[str, tuple[bool, bool]] = {}  # searched when a sheet is first read
+
+    def _marked(self, title: str) -> tuple[bool, bool]:
+        """(holds a formula, holds an error value) of one sheet, by a byte search of its XML."""
+        if title not in self._markers:
+            member = self._members.get(title)
+            if member is None:
+                return True, True
+            with zipfile.ZipFile(self.path) as archive:
+                self._markers[title] = _search(archive, member)
+        return self._markers[title]
 
     def read_cells(self, title: str) -> SheetCells | None:
         """The sheet's values; None when only openpyxl can read it faithfully (error cells, or unreadable)."""
-        formula, error = self._markers.get(title, (True, True))
+        formula, error = self._marked(title)
         if error:
             return None
         try:
@@ -86,13 +97,9 @@ def _cell(value):
     return value
 
 
-def _sheet_markers(path: Path) -> dict[str, tuple[bool, bool]]:
-    """Sheet title -> (holds a formula, holds an error value), by a byte search of each sheet's XML."""
-    markers = {}
+def _members_of(path: Path) -> dict[str, str]:
     with zipfile.ZipFile(path) as archive:
-        for title, member in _sheet_members(archive).items():
-            markers[title] = _search(archive, member)
-    return markers
+        return _sheet_members(archive)
 
 
 def _sheet_members(archive: zipfile.ZipFile) -> dict[str, str]:
