@@ -7,8 +7,9 @@ sheet's XML is first searched for a formula or an error cell (a byte search,
 no parsing):
 
 - neither: calamine's values are complete and the sheet has no formula cells;
-- formulas only: calamine's values are right; which blank cells hold a
-  formula is left for openpyxl to find (``formulas`` is None);
+- formulas only: calamine's values are right; the same search notes each
+  formula's cell from the ``<c r="..">`` tag just before it (``formulas``),
+  or, when a tag cannot be placed, leaves that to openpyxl (``formulas`` is None);
 - error cells: the whole sheet is left to openpyxl (``read_cells`` gives None).
 
 Values come back as openpyxl gives them: blanks as None, whole numbers as
@@ -28,8 +29,10 @@ import python_calamine
 
 _FORMULA = re.compile(rb"<(?:\w+:)?f[\s>/]")
 _ERROR = re.compile(rb"""\st\s*=\s*["']e["']""")
+_CELL_OPEN = re.compile(rb"<(?:\w+:)?c\s([^<>]*)>\s*$")  # the cell tag right before a formula
+_REF = re.compile(rb"""(?:^|\s)r\s*=\s*["']([A-Z]{1,3})([0-9]+)["']""")
 _CHUNK = 1 << 22  # bytes of sheet XML searched at once
-_OVERLAP = 64  # bytes kept between chunks so that no marker is cut in two
+_OVERLAP = 512  # bytes kept between chunks so that no marker is cut in two
 _MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
 _RELS = "{http://schemas.openxmlformats.org/package/2006/relationships}"
 _REL_ID = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}id"
@@ -51,21 +54,21 @@ class Workbook:
         self._book = python_calamine.CalamineWorkbook.from_path(str(path))
         self.sheetnames: list[str] = list(self._book.sheet_names)
         self._members = _members_of(path)
-        self._markers: dict[str, tuple[bool, bool]] = {}  # searched when a sheet is first read
+        self._markers: dict[str, tuple[set[tuple[int, int]] | None, bool]] = {}  # searched when first read
 
-    def _marked(self, title: str) -> tuple[bool, bool]:
-        """(holds a formula, holds an error value) of one sheet, by a byte search of its XML."""
+    def _marked(self, title: str) -> tuple[set[tuple[int, int]] | None, bool]:
+        """(its formula cells or None if not placed, holds an error value) of one sheet, by a byte search."""
         if title not in self._markers:
             member = self._members.get(title)
             if member is None:
-                return True, True
+                return None, True
             with zipfile.ZipFile(self.path) as archive:
                 self._markers[title] = _search(archive, member)
         return self._markers[title]
 
     def read_cells(self, title: str) -> SheetCells | None:
         """The sheet's values; None when only openpyxl can read it faithfully (error cells, or unreadable)."""
-        formula, error = self._marked(title)
+        formulas, error = self._marked(title)
         if error:
             return None
         try:
@@ -74,7 +77,7 @@ class Workbook:
             return None
         for number, row in enumerate(table):  # in place: each raw row is freed as soon as it is converted
             table[number] = tuple(map(_cell, row))
-        return SheetCells(table, None if formula else set())
+        return SheetCells(table, formulas)
 
     def rows(self, title: str) -> list[tuple]:
         """Every row of a sheet (blanks as None), for small sheets such as the tool's own."""
@@ -98,6 +101,7 @@ def _cell(value):
 
 
 def _members_of(path: Path) -> dict[str, str]:
+    """Sheet title -> its part in the package."""
     with zipfile.ZipFile(path) as archive:
         return _sheet_members(archive)
 
@@ -118,20 +122,40 @@ def _sheet_members(archive: zipfile.ZipFile) -> dict[str, str]:
     return members
 
 
-def _search(archive: zipfile.ZipFile, member: str) -> tuple[bool, bool]:
-    formula = error = False
+def _search(archive: zipfile.ZipFile, member: str) -> tuple[set[tuple[int, int]] | None, bool]:
+    formulas: set[tuple[int, int]] | None = set()
+    error = False
     try:
         with archive.open(member) as source:
             tail = b""
-            while not (formula and error):
+            while not error:  # an error value leaves the whole sheet to openpyxl
                 chunk = source.read(_CHUNK)
                 if not chunk:
                     break
                 text = tail + chunk
-                # The plain "in" tests skip the regular expression on almost every chunk.
-                formula = formula or ((b"<f" in text or b":f" in text) and _FORMULA.search(text) is not None)
+                # The plain "in" tests skip the regular expressions on almost every chunk.
+                if formulas is not None and (b"<f" in text or b":f" in text):
+                    formulas = _formula_cells(text, len(tail), formulas)
                 error = error or ((b'"e"' in text or b"'e'" in text) and _ERROR.search(text) is not None)
                 tail = text[-_OVERLAP:]
     except KeyError:
-        return True, True  # a sheet whose part is missing: leave it to openpyxl
-    return formula, error
+        return None, True  # a sheet whose part is missing: leave it to openpyxl
+    return formulas, error
+
+
+def _formula_cells(text: bytes, seen: int, found: set[tuple[int, int]]) -> set[tuple[int, int]] | None:
+    """``found`` with the (row, column) of every formula in ``text`` not ending in its first ``seen`` bytes
+    (the previous chunk's tail); None when one cannot be placed."""
+    for match in _FORMULA.finditer(text):
+        start = match.start()
+        if match.end() <= seen:
+            continue  # found in the previous chunk
+        tag = _CELL_OPEN.search(text, max(0, start - _OVERLAP + 8), start)
+        ref = _REF.search(tag.group(1)) if tag else None
+        if ref is None:
+            return None  # a cell without a reference, or a tag too long to see
+        column = 0
+        for letter in ref.group(1):
+            column = column * 26 + letter - 64
+        found.add((int(ref.group(2)), column))
+    return found

@@ -243,6 +243,7 @@ def _read(path: Path, values_wb, wb) -> LeagueBook:
     divisions = _read_divisions(sheets.get(schema.DIVISIONS.name), settings, reader)
     rows = _read_results(sheets.get(schema.RESULTS.name), settings, reader)
     fixtures = _read_fixtures(sheets.get(schema.FIXTURES.name), settings, reader)
+    _note_blank_partners(sheets.get(schema.FIXTURES.name), reader)  # the Results' in _read_results
     formula_cells = _check_formulas(path, wb, sheets, reader)
     results, players, fixtures = _link_names(rows, players, fixtures, sheets, reader)
     divisions = _link_divisions(divisions, results, players, sheets.get(schema.DIVISIONS.name), reader)
@@ -456,6 +457,7 @@ def _read_results(sheet: _Sheet | None, settings: Settings, reader: _Reader) -> 
             parsed = _results_row(sheet, row, values, settings, reader, void)
         if parsed is not None:
             rows.append(parsed)
+    _note_blank_partners(sheet, reader)
     sheet.rows = sheet.rows[:sheet.header_row]  # the cells are records now: freed (a million rows: ~0.5 GB)
     return rows
 
@@ -568,6 +570,25 @@ def _read_fixtures(sheet: _Sheet | None, settings: Settings, reader: _Reader) ->
 
 
 # ----------------------------------------------------- formulas without values
+
+
+def _note_blank_partners(sheet: _Sheet | None, reader: _Reader) -> None:
+    """Blank Partner A/B cells that may hold a formula: a blank partner makes a row singles, so an unsaved
+    formula there would misread it.  Only the cells the sheet's byte search found formulas in, when it
+    placed them all (calamine read it); else every blank partner cell of a row that is not blank."""
+    if sheet is None or sheet.missing:
+        return
+    keys = {sheet.columns[k]: k for k in PARTNERS if k in sheet.columns}
+    if not keys:
+        return
+    if sheet.formulas is not None:
+        cells = sorted((r, c) for r, c in sheet.formulas if c in keys and r > sheet.header_row)
+    else:
+        cells = [(r, c) for r, _ in sheet.records() for c in keys]
+    for row, col in cells:
+        value = sheet.rows[row - 1][col - 1] if row <= len(sheet.rows) and col <= len(sheet.rows[row - 1]) else None
+        if _blank(value) and (sheet.title, row, col) not in reader.blank_cells:
+            reader.note_blank(sheet, row, keys[col], None)
 
 
 def _check_formulas(path: Path, wb, sheets: dict[str, _Sheet], reader: _Reader) -> tuple[tuple[str, int, int], ...]:

@@ -91,12 +91,13 @@ def user_home(tmp_path, monkeypatch):
     return home
 
 
-@pytest.fixture
-def app(display, tk_errors):
-    """The real main window with recorded dialogs; closed, with its worker finished, afterwards."""
+@contextlib.contextmanager
+def main_window(tk_errors, screen_name: str | None = None):
+    """The real main window (on ``screen_name``, or DISPLAY's first screen) with recorded dialogs; closed,
+    with its worker finished, afterwards."""
     from secretary.gui.app import App
 
-    root = tk.Tk()
+    root = tk.Tk(screenName=screen_name)
     window = App(root, dialogs=RecordingDialogs())
     window.errors = tk_errors
     root.update()
@@ -106,6 +107,13 @@ def app(display, tk_errors):
     if not window.closed:
         window.close()
     assert not [t for t in threading.enumerate() if t.name.startswith("secretary-")], "a worker thread was left"
+
+
+@pytest.fixture
+def app(display, tk_errors):
+    """The real main window with recorded dialogs."""
+    with main_window(tk_errors) as window:
+        yield window
 
 
 @pytest.fixture

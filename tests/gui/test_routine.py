@@ -6,14 +6,12 @@ from __future__ import annotations
 
 import shutil
 import subprocess
-import threading
-import tkinter as tk
 
 import pytest
 
 from secretary.gui import views
-from tests.gui.conftest import LAPTOP_SCREENS
-from tests.gui.helpers import (DEMO, TASKBAR, RecordingDialogs, clipped, on_screen, screenshot, settle,
+from tests.gui.conftest import LAPTOP_SCREENS, main_window
+from tests.gui.helpers import (DEMO, TASKBAR, clipped, on_screen, screenshot, settle,
                                table_clipped, tabs_fit)
 
 NETBOOK = (1024, 600)
@@ -35,18 +33,8 @@ def week_to_rate(tmp_path):
 
 @pytest.fixture
 def netbook(display, tk_errors):
-    from secretary.gui.app import App
-
-    root = tk.Tk(screenName=f"{display}.{SCREEN}")
-    app = App(root, dialogs=RecordingDialogs())
-    app.errors = tk_errors
-    root.update()
-    yield app
-    app.worker.cancel.set()
-    app.worker.join(300)
-    if not app.closed:
-        app.close()
-    assert not [t for t in threading.enumerate() if t.name.startswith("secretary-")]
+    with main_window(tk_errors, f"{display}.{SCREEN}") as app:
+        yield app
 
 
 def menu_item(app, menu: str, label: str) -> None:

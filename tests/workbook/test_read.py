@@ -164,8 +164,12 @@ def test_fast_reader_matches_openpyxl_on_openpyxl_and_libreoffice_files(tmp_path
         assert fast is not None
         assert _trimmed(fast.rows) == _trimmed(reference), path.name
         assert [type(v) for v in _trimmed(fast.rows)[0]] == [type(v) for v in _trimmed(reference)[0]], path.name
-        # openpyxl's file keeps "=1+1" unsaved; LibreOffice saves its value: the formula is known to be there.
-        assert fast.formulas is None
+        # openpyxl's file keeps "=1+1" unsaved; LibreOffice saves its value (and writes TRUE as a formula):
+        # the formula cells are known, the same as openpyxl's (formulas kept) list them.
+        formulas_wb = openpyxl.load_workbook(path)
+        assert fast.formulas == {(c.row, c.column) for row in formulas_wb.active.iter_rows()
+                                 for c in row if c.data_type == "f"}, path.name
+        assert (3, 1) in fast.formulas
     plain = write_book(tmp_path / "plain.xlsx")
     values = ValuesBook(plain)
     assert values.read_cells("Results").formulas == set()  # no formula anywhere in the sheet
