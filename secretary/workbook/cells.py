@@ -53,11 +53,22 @@ class Workbook:
         self.path = path
         self._book = python_calamine.CalamineWorkbook.from_path(str(path))
         self.sheetnames: list[str] = list(self._book.sheet_names)
-        self._markers = _sheet_markers(path)
+        self._members = _members_of(path)
+        self._markers: dict[str, tuple[set[tuple[int, int]] | None, bool]] = {}  # searched when first read
+
+    def _marked(self, title: str) -> tuple[set[tuple[int, int]] | None, bool]:
+        """(its formula cells or None if not placed, holds an error value) of one sheet, by a byte search."""
+        if title not in self._markers:
+            member = self._members.get(title)
+            if member is None:
+                return None, True
+            with zipfile.ZipFile(self.path) as archive:
+                self._markers[title] = _search(archive, member)
+        return self._markers[title]
 
     def read_cells(self, title: str) -> SheetCells | None:
         """The sheet's values; None when only openpyxl can read it faithfully (error cells, or unreadable)."""
-        formulas, error = self._markers.get(title, (None, True))
+        formulas, error = self._marked(title)
         if error:
             return None
         try:
@@ -89,13 +100,10 @@ def _cell(value):
     return value
 
 
-def _sheet_markers(path: Path) -> dict[str, tuple[set[tuple[int, int]] | None, bool]]:
-    """Sheet title -> (its formula cells or None if not placed, holds an error value), by a byte search."""
-    markers = {}
+def _members_of(path: Path) -> dict[str, str]:
+    """Sheet title -> its part in the package."""
     with zipfile.ZipFile(path) as archive:
-        for title, member in _sheet_members(archive).items():
-            markers[title] = _search(archive, member)
-    return markers
+        return _sheet_members(archive)
 
 
 def _sheet_members(archive: zipfile.ZipFile) -> dict[str, str]:

@@ -128,7 +128,7 @@ def _check_graft(path: Path, outputs_wb: Workbook, temp: Path) -> None:
 def _read_back(copy: cells.Workbook, temp: Path, name: str, fallback: list) -> list[tuple]:
     """A tool sheet's values as `save._cells` gives them, read from the saved file."""
     sheet = copy.read_cells(name)
-    if sheet is not None and sheet.formulas is not None:
+    if sheet is not None and sheet.formulas == set():  # no formula: calamine's values are all there is
         return save.comparable_rows(sheet.rows)
     if not fallback:  # error values or formulas: only openpyxl reads them as they were written
         fallback.append(load_tool_sheets(temp))
