@@ -7,6 +7,7 @@ the details are in the log file named on screen).
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import time
 from pathlib import Path
@@ -17,6 +18,7 @@ from secretary.model.sentences import plural
 from secretary.threads import limit_native_threads
 
 EXIT_DONE, EXIT_PROBLEMS, EXIT_USAGE, EXIT_BUG = 0, 1, 2, 3
+EXIT_BROKEN_PIPE = 141  # 128 + SIGPIPE, what a shell reports for a program whose output was closed
 
 DESCRIPTION = """\
 Weekly player ratings for a cue-sports league, from its own Excel workbook.
@@ -198,7 +200,8 @@ def cmd_notice(args) -> int:
 def cmd_fixtures(args) -> int:
     from secretary.pipeline import run_fixtures
 
-    forecasts, written, card, latest = run_fixtures(args.workbook)
+    notes: list[str] = []
+    forecasts, written, card, latest = run_fixtures(args.workbook, notes)
     if not forecasts:
         print("The Fixtures sheet lists no coming matches; nothing to forecast.")
         return EXIT_DONE
@@ -218,6 +221,8 @@ def cmd_fixtures(args) -> int:
     else:
         print("The workbook holds content this tool cannot save unchanged, so the Fixtures sheet was not written.")
     print(f"Handicap card (PDF): {card}")
+    for note in notes:
+        print(f"  Note: {note}")
     return EXIT_DONE
 
 
@@ -343,7 +348,9 @@ def main(argv=None) -> int:
         return open_window(None)
     before = _file_mark(getattr(args, "workbook", None))
     try:
-        return args.run(args)
+        code = args.run(args)
+        sys.stdout.flush()  # here, so that a reader who went away is met below rather than at exit
+        return code
     except WorkbookProblems as err:
         print(err)
         _print_problems(err.problems)
@@ -351,6 +358,9 @@ def main(argv=None) -> int:
     except SecretaryError as err:
         print(err, file=sys.stderr)
         return EXIT_PROBLEMS
+    except BrokenPipeError:  # whoever read the output stopped early (`| head`): end quietly, as Unix tools do
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())  # so the exit's own flush cannot fail
+        return EXIT_BROKEN_PIPE
     except KeyboardInterrupt:
         changed = before is not None and _file_mark(args.workbook) != before
         print("Stopped; " + ("the workbook had already been saved." if changed else "the workbook was not changed."),

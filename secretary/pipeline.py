@@ -30,6 +30,7 @@ from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fin
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
 from secretary.report.layout import fonts
+from secretary.model.sentences import plural
 from secretary.report.scripts import unprintable
 from secretary.report.notice import write_notice_pdf
 from secretary.workbook import fidelity, graft, save, schema, state, toolsheets
@@ -284,7 +285,7 @@ def unprinted_note(ratings, forecasts=()) -> str | None:
     if not missing:
         return None
     shown = ", ".join(missing[:10]) + (f" and {len(missing) - 10} more" if len(missing) > 10 else "")
-    return (f"The printouts could not show {len(missing)} name(s) in their own script, so letters there print "
+    return (f"The printouts could not show {plural(len(missing), 'name')} in their own script, so letters there print "
             f"as '?': {shown}. Either no font on this computer has their letters (installing one that does, "
             "such as a Noto font for that script, fixes it) or the script needs text shaping (Arabic, Hebrew, "
             "the Indic scripts, Thai ...), which the PDF maker here does not do. The workbook shows them in full.")
@@ -422,10 +423,12 @@ def make_notice(path: str | Path, out: str | Path | None = None, notes: list | N
     return written
 
 
-def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None, dt.date | None]:
+def run_fixtures(path: str | Path, notes: list | None = None
+                 ) -> tuple[tuple[FixtureForecast, ...], Path | None, Path | None, dt.date | None]:
     """Fill the Fixtures sheet's forecast columns and print the handicap card, without a full update.
 
-    The last item is the newest result's date: fixtures dated before it are past."""
+    The last item is the newest result's date: fixtures dated before it are past. ``notes`` gets the
+    names the card could not print, in words, when there are any."""
     pub = _published(path, "fixtures")
     forecasts = forecast_fixtures(pub.book.fixtures, pub.fit)
     latest = pub.fit.reference_date
@@ -439,6 +442,9 @@ def run_fixtures(path: str | Path) -> tuple[tuple[FixtureForecast, ...], Path | 
         written = save.save_workbook(wb, path).path
     card = write_handicap_pdf(handicap_pdf_path(path), forecasts, pub.book.settings, ratings=pub.ratings,
                               latest=latest)
+    note = unprinted_note((), forecasts)
+    if notes is not None and note:
+        notes.append(note)
     return forecasts, written, card, latest
 
 

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import hashlib
 import shutil
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -193,3 +194,18 @@ def test_fixtures_marks_the_fixtures_dated_before_the_latest_results(demo_copy):
     assert sorted(ln.split(":")[0] + ":" for ln in past) == sorted(moved)
     assert f"marked past below: 2 of the {coming + 2} fixtures" in done.stdout
     assert f"{latest.day} {latest:%B %Y}" in done.stdout
+
+
+def test_output_closed_early_ends_quietly_not_as_a_bug(demo_copy):
+    """`secretary fixtures ... | head -0`: the reader closes the pipe before reading. The command ends as
+    Unix tools do (128 + SIGPIPE, nothing on stderr), never with "Something went wrong inside secretary"
+    or Python's "Exception ignored ... BrokenPipeError" at exit."""
+    command = [sys.executable, "-m", "secretary.cli"]
+    assert subprocess.run(command + ["update", str(demo_copy)], capture_output=True).returncode == 0
+    read, write = os.pipe()
+    child = subprocess.Popen(command + ["fixtures", str(demo_copy)], stdout=write, stderr=subprocess.PIPE)
+    os.close(write)
+    os.close(read)  # the reader goes away at once
+    stderr = child.communicate(timeout=300)[1].decode()
+    assert child.returncode == 141, (child.returncode, stderr)
+    assert "Something went wrong" not in stderr and "Traceback" not in stderr, stderr

@@ -71,6 +71,9 @@ def test_names_in_scripts_that_need_shaping_are_named_in_a_warning_not_garbled(t
     assert {ARABIC, DEVANAGARI} <= names
     code, out = run("notice", league)  # printing the notice board again says so too
     assert code == 0 and ARABIC in _warning(out) and DEVANAGARI in _warning(out), out
+    code, out = run("fixtures", league)  # the handicap card: only the fixture's own players are on it
+    assert code == 0 and ARABIC in _warning(out) and DEVANAGARI not in _warning(out), out
+    assert "1 name in" in _warning(out)
 
 
 def test_no_warning_when_every_name_prints(tmp_path, run):
