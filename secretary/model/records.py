@@ -9,7 +9,6 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 from dataclasses import dataclass, field
-from functools import lru_cache
 from typing import Mapping
 
 
@@ -210,9 +209,28 @@ def _digest(*parts: object) -> str:
     return hashlib.blake2b(text.encode("utf-8"), digest_size=8).hexdigest()
 
 
-@lru_cache(maxsize=1 << 18)  # the update and its breakdown both need every row's digests
+def _kept(result: Result, name: str, make) -> str:
+    """A row's digest, worked out once and kept on the record itself (the update, its breakdown and the
+    state all ask for every row's digests; a cache keyed by the record would hash it on every look-up
+    and, bounded, forget a million rows).  Not a field: equality, hashing and printing ignore it."""
+    kept = result.__dict__.get(name)
+    if kept is None:
+        kept = make(result)
+        object.__setattr__(result, name, kept)
+    return kept
+
+
 def identity(result: Result) -> str:
     """Which match a row is (date and the two players), whatever its score says."""
+    return _kept(result, "_identity", _identity)
+
+
+def fingerprint(result: Result) -> str:
+    """Everything about a row that the rating uses; changes when the row is edited."""
+    return _kept(result, "_fingerprint", _fingerprint)
+
+
+def _identity(result: Result) -> str:
     if result.is_doubles:  # the two sides, whatever the order of partners or sides
         sides = sorted("+".join(sorted(name.casefold() for name in side)) for side in (result.side_a, result.side_b))
         return _digest(result.date.isoformat(), *sides)
@@ -220,9 +238,7 @@ def identity(result: Result) -> str:
     return _digest(result.date.isoformat(), a, b)
 
 
-@lru_cache(maxsize=1 << 18)
-def fingerprint(result: Result) -> str:
-    """Everything about a row that the rating uses; changes when the row is edited."""
+def _fingerprint(result: Result) -> str:
     partners = (result.partner_a.casefold(), result.partner_b.casefold()) if result.is_doubles else ()
     return _digest(
         result.date.isoformat(),
