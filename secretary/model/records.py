@@ -63,6 +63,12 @@ class Result(_Sides):
     partner_a: str = ""  # side A's second player in a doubles match ("" = singles)
     partner_b: str = ""  # side B's second player
 
+    def __post_init__(self):
+        # Room for the row's digests (see `identity`), made with every record so that all records keep
+        # sharing one layout of attributes (added later, each record would grow by some 800 bytes).
+        object.__setattr__(self, "_identity", None)
+        object.__setattr__(self, "_fingerprint", None)
+
 
 @dataclass(frozen=True)
 class Player:
