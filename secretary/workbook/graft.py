@@ -44,6 +44,9 @@ _LEGACY = ("legacyDrawing", "legacyDrawingHF", "oleObjects", "controls")
 _STYLE_ORDER = ("numFmts", "fonts", "fills", "borders", "cellStyleXfs", "cellXfs", "cellStyles",
                 "dxfs", "tableStyles", "colors", "extLst")
 _FIRST_CUSTOM_FORMAT = 164
+# zlib's fastest level for the parts the graft writes: the tool's record of a million rows (80 MB of
+# hexadecimal digests) deflates in 1.8 s instead of 7.8 s at the default level 6, and 4 % larger.
+LEVEL = 1
 _PARSER = etree.XMLParser(resolve_entities=False, no_network=True, huge_tree=True, remove_blank_text=False)
 
 
@@ -794,8 +797,8 @@ def _write_zip(dest: Path, source: zipfile.ZipFile, parts: dict[str, bytes | Non
             elif parts[info.filename] is not None:
                 fresh = zipfile.ZipInfo(info.filename, info.date_time)
                 fresh.compress_type, fresh.external_attr = info.compress_type, info.external_attr
-                z.writestr(fresh, parts[info.filename])
+                z.writestr(fresh, parts[info.filename], compresslevel=LEVEL)
         names = set(source.namelist())
         for name, data in parts.items():
             if name not in names and data is not None:
-                z.writestr(name, data)
+                z.writestr(name, data, compresslevel=LEVEL)
