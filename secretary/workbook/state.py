@@ -60,7 +60,7 @@ def _document(state: PublishedState, like: tuple[tuple[str, str], ...] | None = 
         "reference_date": state.reference_date.isoformat(),
         "settings": _settings(state.settings),
         "ratings": {name: [float(r), float(state.sds[name])] for name, r in state.ratings.items()},
-        **({"rows": [[identity, fp] for identity, fp in state.rows]} if like is None else
+        **({"rows": state.rows} if like is None else  # pairs: JSON writes a tuple as a list
            {"row_runs": row_runs(state.rows, like)}),
         "inputs": state.inputs,
         **({} if state.starting_levels is None else
