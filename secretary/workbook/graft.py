@@ -28,7 +28,7 @@ from openpyxl.writer.excel import ExcelWriter
 
 from secretary.errors import FileRefused
 from secretary.workbook import save
-from secretary.workbook import cells, toolsheets, zipcopy
+from secretary.workbook import cells, guard, toolsheets, zipcopy
 
 MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 REL_NS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -85,11 +85,14 @@ def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10,
     save._remove_stale_temps(path)
     temp = save._new_temp(path)
     try:
+        # The parts copied as stored passed the reader's checks, when the file is the one it read (``expect``
+        # is checked before the swap); else every part is checked again.
+        checked = guard.member_keys(path) if expect is not None else frozenset()
         try:
             graft_outputs(path, outputs_wb, temp)
         except OSError as exc:
             raise save._plain_os_error(exc, path) from exc
-        _check_graft(path, outputs_wb, temp)
+        _check_graft(path, outputs_wb, temp, checked)
         save._copy_mode(path, temp)
         save.refuse_if_changed(path, expect)
         backup = save._backup(path)
@@ -101,12 +104,12 @@ def save_grafted(path: str | Path, outputs_wb: Workbook, *, keep: int = 10,
     return save.SaveOutcome(path, backup, False, f"Saved {path.name}.")
 
 
-def _check_graft(path: Path, outputs_wb: Workbook, temp: Path) -> None:
+def _check_graft(path: Path, outputs_wb: Workbook, temp: Path, checked: frozenset = frozenset()) -> None:
     """Read the new file back: the secretary's sheets all there, the tool's sheets cell for cell.
 
     The tool's sheets are read back by calamine (see `cells`), a reader independent of the openpyxl
     that wrote them; a tool sheet calamine cannot read faithfully is read by openpyxl instead."""
-    save.check_opens_again(temp, path)
+    save.check_opens_again(temp, path, checked)
     try:
         before, tool_before = _sheet_names(path)
         names, tool = _sheet_names(temp)

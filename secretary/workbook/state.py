@@ -13,6 +13,7 @@ import datetime as dt
 import json
 import math
 from dataclasses import fields
+from itertools import chain
 from typing import Sequence
 
 from openpyxl.workbook.workbook import Workbook
@@ -120,7 +121,7 @@ def _parse(doc: dict, like: tuple[tuple[str, str], ...] | None = None) -> Publis
         ratings[str(name)], sds[str(name)] = _finite(rating), _finite(sd)
     settings = _parse_settings(doc.get("settings", {}))
     if "rows" in doc or like is None:
-        rows = tuple((str(identity), str(fp)) for identity, fp in doc["rows"])
+        rows = _pairs(doc["rows"])
     else:
         rows = rows_from_runs(doc["row_runs"], like)
     previous = doc.get("previous")
@@ -136,6 +137,14 @@ def _parse(doc: dict, like: tuple[tuple[str, str], ...] | None = None) -> Publis
         inputs=str(doc.get("inputs", "")),
         starting_levels=_levels(doc.get("starting_levels")),
     )
+
+
+def _pairs(stored: list) -> tuple[tuple[str, str], ...]:
+    """The stored rows as (identity, fingerprint) pairs of text: a million of them read as whole lists."""
+    rows = tuple(map(tuple, stored))
+    if set(map(len, rows)) <= {2} and set(map(type, chain.from_iterable(rows))) <= {str}:
+        return rows
+    return tuple((str(identity), str(fp)) for identity, fp in stored)  # anything else, as it always read
 
 
 def row_runs(rows: Sequence[tuple[str, str]], like: Sequence[tuple[str, str]]) -> list[list]:

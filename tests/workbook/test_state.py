@@ -168,3 +168,12 @@ def test_a_damaged_run_is_a_damaged_state(tmp_path):
     for damaged in ('"row_runs":[[0,51]]', '"row_runs":[[-1,40]]', '"row_runs":[[0,true]]', '"row_runs":[[0,"x"]]'):
         ws["B3"].value = text.replace('"row_runs":[[0,40]]', damaged)
         assert ws["B3"].value != text and read_state(wb) is None
+
+
+def test_rows_not_all_text_read_as_text_as_before(tmp_path):
+    state = _state(n_rows=3)
+    wb = _round_trip(state, tmp_path)
+    ws = wb[STATE_SHEET]
+    first = json.dumps(list(state.rows[0]), separators=(",", ":"))
+    ws["B3"].value = ws["B3"].value.replace(first, f'["{state.rows[0][0]}",12345]')
+    assert read_state(wb).rows == ((state.rows[0][0], "12345"), *state.rows[1:])
