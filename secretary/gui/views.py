@@ -189,6 +189,15 @@ def day(d: dt.date | None) -> str:
     return "" if d is None else d.strftime("%d %b %Y")
 
 
+def player_detail(p, doubles: bool) -> str:
+    """The line under a player's name in the Ratings panel; ``doubles``: the league has doubles, so say how many
+    of the weighted games were doubles (the Ratings sheet's Doubles games, rounded as Weighted games is)."""
+    new = "new this update; " if p.is_new or p.change is None else ""
+    of_them = f" ({p.doubles_games:.0f} doubles)" if doubles else ""
+    return (f"{p.division or 'no division'}: rating {p.rating:.0f} \u00b1 {p.sd:.0f} (likely {band(p.rating, p.sd)}); "
+            f"{new}{p.games:.0f} weighted games{of_them}, last played {day(p.last_played)}.")
+
+
 def stamp_day(stamp: str | None) -> str:
     """The day of an update's timestamp ("2026-04-16 10:30:00" -> "16 Apr 2026"); the text itself if odd."""
     try:

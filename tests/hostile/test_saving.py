@@ -12,7 +12,7 @@ from lxml import etree
 from secretary import pipeline
 from secretary.report import layout
 from tests.hostile.conftest import next_week, run_cli
-from tests.workbook.league_books import write_book
+from tests.workbook.league_books import rewrite_part, write_book
 
 MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
 
@@ -27,14 +27,8 @@ def _calc_on_load(path: Path) -> str | None:
 def test_every_save_asks_for_recalculation_on_open(tmp_path, capsys, fixtures):
     made = write_book(tmp_path / "made.xlsx",
                       fixtures=[[None, "Ada Finch", "Bram Oak", None, None]] if fixtures else None)
-    path = tmp_path / "league.xlsx"
     # As a spreadsheet program saves it: no request to recalculate (openpyxl itself always asks).
-    with zipfile.ZipFile(made) as src, zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as dst:
-        for item in src.infolist():
-            data = src.read(item)
-            if item.filename == "xl/workbook.xml":
-                data = data.replace(b' fullCalcOnLoad="1"', b"")
-            dst.writestr(item, data)
+    path = rewrite_part(made, tmp_path / "league.xlsx", "xl/workbook.xml", b' fullCalcOnLoad="1"', b"")
     assert _calc_on_load(path) is None
     code, text = run_cli(capsys, "update", path)
     assert code == 0, text

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import datetime as dt
+import zipfile
 from pathlib import Path
 from typing import Sequence
 
@@ -63,3 +64,16 @@ def _sheet(wb: Workbook, title: str, headers: Sequence[str], rows: Sequence[Sequ
     ws.append(list(headers))
     for row in rows:
         ws.append(list(row))
+
+
+def rewrite_part(source: Path, dest: Path, part: str, old: bytes, new: bytes) -> Path:
+    """Copy the workbook (a zip) with the first `old` in one part replaced by `new`, as another
+    program might have written it; the part must contain `old`, so a test cannot pass vacuously."""
+    with zipfile.ZipFile(source) as src, zipfile.ZipFile(dest, "w", zipfile.ZIP_DEFLATED) as dst:
+        for item in src.infolist():
+            data = src.read(item.filename)
+            if item.filename == part:
+                assert old in data, (part, old)
+                data = data.replace(old, new, 1)
+            dst.writestr(item, data)
+    return dest

@@ -16,7 +16,9 @@ import openpyxl
 from secretary.workbook import cells
 from secretary.workbook.cells import Workbook as ValuesBook
 from secretary.workbook.read import read_workbook
-from tests.workbook.league_books import FIXTURES_HEADERS, RESULTS_HEADERS, D, good_results, write_book
+from tests.workbook.league_books import FIXTURES_HEADERS, RESULTS_HEADERS, D, good_results, rewrite_part, write_book
+
+SHEET1 = "xl/worksheets/sheet1.xml"
 
 HEADERS = RESULTS_HEADERS + ("Partner A", "Partner B")
 LATER = D + dt.timedelta(days=7)
@@ -94,15 +96,7 @@ def test_a_cell_the_search_cannot_place_leaves_the_formulas_to_openpyxl(tmp_path
     """A formula cell without a reference (legal XML): formulas unknown, and openpyxl still finds the partner's."""
     path = _book(tmp_path / "league.xlsx",
                  [LATER, "Premier", "Ada Finch", "Cleo Marsh", 3, 1, "", "", '="Bram Oak"', '="Dev Pike"'])
-    odd = tmp_path / "noref.xlsx"
-    import zipfile
-    with zipfile.ZipFile(path) as src, zipfile.ZipFile(odd, "w", zipfile.ZIP_DEFLATED) as dst:
-        for item in src.infolist():
-            data = src.read(item.filename)
-            if item.filename == "xl/worksheets/sheet1.xml":
-                assert b'<c r="I6"><f>' in data
-                data = data.replace(b'<c r="I6"><f>', b'<c><f>', 1)
-            dst.writestr(item, data)
+    odd = rewrite_part(path, tmp_path / "noref.xlsx", SHEET1, b'<c r="I6"><f>', b'<c><f>')
     values = ValuesBook(odd)
     assert values.read_cells("Results").formulas is None
     values.close()
@@ -114,16 +108,8 @@ def test_a_partner_formula_with_its_saved_value_is_read_as_the_name(tmp_path):
     """As a spreadsheet program saves it (value beside the formula): a doubles row, no error."""
     path = _book(tmp_path / "league.xlsx",
                  [LATER, "Premier", "Ada Finch", "Cleo Marsh", 3, 1, "", "", '="Bram Oak"', "Dev Pike"])
-    saved = tmp_path / "saved.xlsx"
-    import zipfile
-    with zipfile.ZipFile(path) as src, zipfile.ZipFile(saved, "w", zipfile.ZIP_DEFLATED) as dst:
-        for item in src.infolist():
-            data = src.read(item.filename)
-            if item.filename == "xl/worksheets/sheet1.xml":
-                old = b'<c r="I6"><f>"Bram Oak"</f><v></v></c>'
-                assert old in data
-                data = data.replace(old, b'<c r="I6" t="str"><f>"Bram Oak"</f><v>Bram Oak</v></c>')
-            dst.writestr(item, data)
+    saved = rewrite_part(path, tmp_path / "saved.xlsx", SHEET1, b'<c r="I6"><f>"Bram Oak"</f><v></v></c>',
+                         b'<c r="I6" t="str"><f>"Bram Oak"</f><v>Bram Oak</v></c>')
     values = ValuesBook(saved)
     assert (6, 9) in values.read_cells("Results").formulas
     values.close()

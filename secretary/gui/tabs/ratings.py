@@ -1,6 +1,7 @@
 """The Ratings tab: the league table, searchable and sortable, with one player's history and change."""
 from __future__ import annotations
 
+import re
 import tkinter as tk
 from tkinter import font as tkfont
 from tkinter import ttk
@@ -12,6 +13,9 @@ from secretary.model.sentences import plural
 
 # Sizes in lines and average characters of the default font, so that they follow the screen's text size.
 HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
+CHANGE_SIGHT = 5  # lines of "Why it changed" kept in sight before the history chart takes a third
+DETAIL_TIP = ("Weighted games: every rated game counted with its age weight (age-weighted games). In a league with "
+              "doubles, how many of them were doubles frames: a doubles game counts for each of its four players.")
 LEVEL_LINES = 5  # rows of the divisions table at most (it scrolls)
 LEAGUE_WEIGHT = 4  # the league table's share of the height against the divisions table's 1, when resized
 LEVELS_SHARE = 0.55  # the divisions table's share of the height at most, when first shown (4 rows at 1024x600)
@@ -70,14 +74,14 @@ class RatingsTab:
         self.name = ttk.Label(side, text="Update the ratings to see them here.", font="SecretaryBig",
                               wraplength=300, justify="left")
         self.name.pack(anchor="w")
-        self.detail = ttk.Label(side, text="", justify="left", wraplength=300)
+        self.detail = tip(ttk.Label(side, text="", justify="left", wraplength=300), DETAIL_TIP)
         self.detail.pack(anchor="w", pady=(2, 6))
         ttk.Label(side, text="Rating history", font="SecretaryBold").pack(anchor="w")
         self.history_canvas = tk.Canvas(side, height=self.history_height, width=300, background="white",
                                         highlightthickness=0)
         self.history_canvas.pack(fill="x", pady=(2, 8))
         ttk.Label(side, text="Why it changed", font="SecretaryBold").pack(anchor="w")
-        holder = ttk.Frame(side)
+        self.holder = holder = ttk.Frame(side)
         holder.pack(fill="both", expand=True, pady=(2, 0))
         # On a short screen the change does not fit under the history: it scrolls rather than being cut off.
         self.change_canvas = tk.Canvas(holder, height=CHANGE_LINES * line, width=300, background="white",
@@ -92,20 +96,28 @@ class RatingsTab:
         self.change_canvas.bind("<MouseWheel>", lambda e: self.change_canvas.yview_scroll(
             -1 if e.delta > 0 else 1, "units"))
         self.line = line
-        side.bind("<Configure>", self._fit_history, add="+")
+        self.side = side
+        side.bind("<Configure>", lambda e: self._fit_history() and self._redraw(), add="+")
         self.rows: list[views.Row] = []
         self.ratings = {}
+        self.doubles = False
         self.history = {}
         self.changes = {}
         self.player: str | None = None
 
-    def _fit_history(self, event) -> None:
-        """The history chart takes at most a third of the panel's height (4 to 9 lines), leaving room for why."""
-        height = int(min(HISTORY_LINES * self.line, max(4 * self.line, event.height / 3)))
-        if height != self.history_height:
-            self.history_height = height
-            self.history_canvas.configure(height=height)
-            self._redraw()
+    def _fit_history(self) -> bool:
+        """The history chart takes at most a third of the panel's height (4 to 9 lines), and never the last
+        CHANGE_SIGHT lines of "Why it changed" (a long detail wraps on a short screen); True if it changed."""
+        panel, canvases = self.side.winfo_height(), (self.history_canvas, self.holder)
+        rest = sum(sum(map(int, re.findall(r"\d+", str(w.pack_info()["pady"]))))  # "2" or (2, 6): above and below
+                   + (0 if w in canvases else w.winfo_reqheight()) for w in self.side.pack_slaves())
+        room = panel - rest - CHANGE_SIGHT * self.line
+        height = int(max(4 * self.line, min(HISTORY_LINES * self.line, panel / 3, room)))
+        if height == self.history_height:
+            return False
+        self.history_height = height
+        self.history_canvas.configure(height=height)
+        return True
 
     def _place_sash(self, event) -> None:
         """Once, when first shown: the player panel gets about a third of the width."""
@@ -118,6 +130,7 @@ class RatingsTab:
 
     def show(self, updated) -> None:
         self.ratings = {p.name: p for p in updated.ratings}
+        self.doubles = any(p.doubles_games > 0 for p in updated.ratings)  # as the Ratings sheet decides
         self.changes = {c.name: c for c in updated.changes}
         self.history = updated.history
         self.rows = views.rating_rows(updated.ratings, updated.checked.settings.few_games)
@@ -194,11 +207,8 @@ class RatingsTab:
             return
         width = max(200, self.history_canvas.winfo_width())
         self.name.configure(text=p.name, wraplength=width)
-        new = "new this update; " if p.is_new or p.change is None else ""
-        self.detail.configure(wraplength=width, text=(
-            f"{p.division or 'no division'}: rating {p.rating:.0f} \u00b1 {p.sd:.0f} "
-            f"(likely {views.band(p.rating, p.sd)}); {new}{p.games:.0f} weighted games, "
-            f"last played {views.day(p.last_played)}."))
+        self.detail.configure(wraplength=width, text=views.player_detail(p, self.doubles))
+        self._fit_history()  # after the detail: it may have wrapped to more lines
         charts.draw_history(self.history_canvas, self.history.get(p.name, []), width, self.history_height)
         self.change_canvas.delete("all")
         change = self.changes.get(p.name)
