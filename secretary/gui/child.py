@@ -10,7 +10,7 @@ Protocol, both ways pickled and length-prefixed: the window sends
 ``("job", name, args)`` or ``("cancel",)``; this process answers
 ``("progress", stage, fraction)`` then ``("done", result)`` (its long tuples
 sent ahead as ``("piece", field, items)``: ``worker.send_result``) or
-``("failed", Failure)``.  Closing its input ends it.
+``("failed", Failure)`` (its problems sent ahead the same way).  Closing its input ends it.
 """
 from __future__ import annotations
 
@@ -53,7 +53,7 @@ def main() -> int:
         try:
             result = JOBS[name](*args, lambda stage, fraction: send(out, ("progress", stage, fraction)), cancel)
         except BaseException as exc:  # every failure goes back to the window in plain words
-            send(out, ("failed", failure_of(exc, f"window: {name}")))
+            send_result(out, failure_of(exc, f"window: {name}"), "failed")
         else:
             send_result(out, result)
 

@@ -149,8 +149,9 @@ def receive(stream):
     return pickle.loads(data) if len(data) == size else None
 
 
-def send_result(stream, result) -> None:
-    """A finished job's result: its long tuples first, ``PIECE`` items a message, then the rest.
+def send_result(stream, result, kind: str = "done") -> None:
+    """A finished job's result (or ``Failure``, kind "failed"): its long tuples first, ``PIECE`` items a
+    message, then the rest.
 
     Unpickling holds the window process's one interpreter lock (it never lets
     the window's thread in), about 5 microseconds an item; in pieces the
@@ -162,7 +163,7 @@ def send_result(stream, result) -> None:
     for name, items in long.items():
         for start in range(0, len(items), PIECE):
             send(stream, ("piece", name, items[start:start + PIECE]))
-    send(stream, ("done", dataclasses.replace(result, **{name: () for name in long}) if long else result))
+    send(stream, (kind, dataclasses.replace(result, **{name: () for name in long}) if long else result))
 
 
 def joined(result, pieces: dict[str, list]):
@@ -227,7 +228,7 @@ class Child:
                     elif message[0] == "done":
                         return joined(message[1], pieces)
                     else:
-                        raise JobFailed(message[1])
+                        raise JobFailed(joined(message[1], pieces))
             finally:
                 finished.set()
                 forwarder.join()

@@ -4,7 +4,8 @@ from __future__ import annotations
 import io
 from dataclasses import dataclass
 
-from secretary.gui.worker import PIECE, joined, receive, send_result
+from secretary.gui.worker import PIECE, Failure, Worker, joined, receive, send_result
+from tests.workbook.league_books import good_results, write_book
 
 
 @dataclass(frozen=True)
@@ -16,9 +17,9 @@ class Result:
     table: dict
 
 
-def messages(result) -> list:
+def messages(result, kind: str = "done") -> list:
     stream = io.BytesIO()
-    send_result(stream, result)
+    send_result(stream, result, kind)
     stream.seek(0)
     out = []
     while (message := receive(stream)) is not None:
@@ -52,3 +53,25 @@ def test_a_result_without_long_tuples_is_sent_as_it_is():
     for result in (Result((), (1,), (), "x", {}), "a plain value", None, [1] * (3 * PIECE)):
         sent = messages(result)
         assert [m[0] for m in sent] == ["done"] and arrived(sent) == result
+
+
+def test_a_failure_with_many_problems_comes_in_pieces_too():
+    failure = Failure("3 errors", "problems", tuple(f"problem {k}" for k in range(PIECE + 2)))
+    sent = messages(failure, "failed")
+    assert [m[0] for m in sent] == ["piece", "piece", "failed"] and arrived(sent) == failure
+
+
+def test_every_problem_of_a_big_bad_workbook_arrives_through_the_background_process(tmp_path):
+    rows = good_results() * (PIECE // 2)  # 4 rows a copy: about 2 PIECEs of rows, each with an error
+    for row in rows:
+        row[4] = "five"
+    bad = write_book(tmp_path / "bad.xlsx", rows)
+    worker = Worker()
+    try:
+        worker.start("check", worker.child.call("check", bad))
+        worker.join(300)
+        checked = [m for m in worker.poll() if m.kind == "done"][0].value
+    finally:
+        worker.child.close()
+    errors = [(p.sheet, p.row, p.column) for p in checked.problems if p.is_error]
+    assert errors == [("Results", k + 2, "Games A") for k in range(len(rows))]
