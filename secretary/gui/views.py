@@ -462,8 +462,9 @@ def line_points(history: Sequence[tuple[dt.date, float]], width: float, height: 
 
 FIXTURE_COLUMNS = (
     Column("date", "Date", "When the match is to be played.", 10, True),
-    Column("a", "Player A", "The first player named in the Fixtures sheet.", 16, stretch=True),
-    Column("b", "Player B", "The second player.", 16, stretch=True),
+    Column("a", "Player A", "The first player named in the Fixtures sheet (with Partner A, for doubles).", 16,
+           stretch=True),
+    Column("b", "Player B", "The second player (with Partner B, for doubles).", 16, stretch=True),
     Column("race", "Race", "Games each needs to win (the fixture's race, else the usual race).", 6),
     Column("chance", "Chance A", "Player A's chance of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
