@@ -26,7 +26,7 @@ from secretary.model.league import LeagueFit, fit_league
 from secretary.model.linkage import WatchList, watch_list
 from secretary.model.watch_sentences import watch_lines  # noqa: F401  (the command line's summary lines)
 from secretary.model.tune import Tuning, check_tuning, tune, tune_advice, tune_due
-from secretary.model.records import PlayerRating, PublishedState, UpdateLog, fingerprint, identity
+from secretary.model.records import PlayerRating, PublishedState, Result, UpdateLog, row_digests
 from secretary.model.changes import compare_rows
 from secretary.report.handicap import write_handicap_pdf
 from secretary.report.layout import fonts
@@ -212,21 +212,8 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
             f"Nothing new since the last update ({published.updated_at}): the same result rows, settings "
             "and players, so nothing was written and the printouts were left as they were. "
             "To rebuild everything anyway, update with --force."))
-    settings = book.settings
     graft_it = graft_it and out is None and not book.fixtures
-
-    _step(progress, cancel, "Rating every player", 0.25)
-    fit = fit_league(book.results, settings, players=book.players, starting_levels=starting_levels(book))
-    _step(progress, cancel, "Working out why ratings changed", 0.5)
-    breakdown = explain_changes(book.results, published, settings, book.players,
-                                state_missing=published is None and _was_updated_before(book), current=fit)
-    _step(progress, cancel, "Looking for divisions that need linking", 0.65)
-    watch = watch_list(fit, book.results)
-    levels = level_table(fit, watch)
-    forecasts = forecast_fixtures(book.fixtures, fit)
-    ratings = _published_ratings(fit, breakdown)
-    check = _tune_check(book, fit, published, progress, cancel)
-    advice = tune_advice(check, settings, path.name)
+    rated = _rate(path, book, published, progress, cancel)
 
     _step(progress, cancel, "Writing the sheets", 0.75)
     if graft_it:
@@ -236,24 +223,10 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         wb, target, lost = _full_target(path, Path(out) if out else None)
     companion = bool(lost) and out is None
     stamp = (now or dt.datetime.now()).replace(microsecond=0).isoformat(sep=" ")
-    log = _update_log(book, fit, breakdown, stamp, lost)
-    write_ratings(wb, ratings, settings, levels)
-    write_why(wb, breakdown, settings)
-    write_watch(wb, watch)
-    write_notice(wb, breakdown, ratings, settings, levels)
-    write_history(wb, log.reference_date, ratings)
-    write_log(wb, log)
-    write_problems(wb, book.warnings)
-    set_up_printing(wb, settings)
-    if book.fixtures and not companion and not graft_it:
-        write_fixture_columns(wb, forecasts, settings, latest=fit.reference_date)
-    state.write_state(wb, PublishedState(
-        updated_at=stamp, reference_date=log.reference_date,
-        ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
-        rows=tuple((identity(r), fingerprint(r)) for r in book.results if not r.void), settings=settings,
-        previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check,
-        inputs=inputs, starting_levels=starting_levels(book)))
-
+    log = _update_log(book, rated.fit, rated.breakdown, stamp, lost)
+    _write_sheets(wb, book, rated, log, replace(
+        rated.state, updated_at=stamp, reference_date=log.reference_date, inputs=inputs),
+        fixtures=bool(book.fixtures) and not companion and not graft_it)
     clash = toolsheets.clash_note(toolsheets.of_workbook(wb))
     written = backup = pdf = card = None
     reason = "Dry run: nothing was written."
@@ -261,21 +234,74 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         _step(progress, cancel, "Saving the workbook safely", 0.9)
         expect = stamp_read if target == path else None
         saved = graft.save_grafted(path, wb, expect=expect) if graft_it else save.save_workbook(wb, target, expect=expect)
-        written, backup = saved.path, saved.backup
-        reason = saved.reason
+        written, backup, reason = saved.path, saved.backup, saved.reason
         wb = None  # the saved sheets' cells: freed before the printouts (hundreds of MB at a million rows)
         if companion:
             reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
-        pdf, card, failed = _printouts(written, breakdown, ratings, settings, watch, forecasts, levels)
+        pdf, card, failed = _printouts(written, rated.breakdown, rated.ratings, book.settings, rated.watch,
+                                       rated.forecasts, rated.levels)
         reason += failed
-    unprinted = unprinted_note(ratings, forecasts) if pdf or card else None
+    unprinted = unprinted_note(rated.ratings, rated.forecasts) if pdf or card else None
     progress("Done", 1.0)
     return UpdateOutcome(
         path=path, written=written, companion=companion, reason=reason, backup=backup, notice_pdf=pdf,
-        handicap_pdf=card, book=book, fit=fit, ratings=ratings, breakdown=breakdown, watch=watch,
-        forecasts=forecasts, log=log, levels=levels,
-        notes=_notes(fit, breakdown) + tuple(n for n in (advice, clash, unprinted) if n))
+        handicap_pdf=card, book=book, fit=rated.fit, ratings=rated.ratings, breakdown=rated.breakdown,
+        watch=rated.watch, forecasts=rated.forecasts, log=log, levels=rated.levels,
+        notes=_notes(rated.fit, rated.breakdown) + tuple(n for n in (rated.advice, clash, unprinted) if n))
+
+
+@dataclass(frozen=True)
+class _Rated:
+    """What an update works out before it writes anything."""
+
+    fit: LeagueFit
+    breakdown: Breakdown
+    watch: WatchList
+    levels: tuple[DivisionLevel, ...]
+    forecasts: tuple[FixtureForecast, ...]
+    ratings: tuple[PlayerRating, ...]
+    state: PublishedState  # the record for the next update (its time, reference date and inputs filled in later)
+    advice: str | None
+
+
+def _rate(path: Path, book: LeagueBook, published: PublishedState | None, progress: Progress, cancel) -> _Rated:
+    """Fit, breakdown, watch list, forecasts and the tune check: every stage before the writing."""
+    settings = book.settings
+    _step(progress, cancel, "Rating every player", 0.25)
+    fit = fit_league(book.results, settings, players=book.players, starting_levels=starting_levels(book))
+    _step(progress, cancel, "Working out why ratings changed", 0.5)
+    breakdown = explain_changes(book.results, published, settings, book.players,
+                                state_missing=published is None and _was_updated_before(book), current=fit)
+    _step(progress, cancel, "Looking for divisions that need linking", 0.65)
+    watch = watch_list(fit, book.results)
+    ratings = _published_ratings(fit, breakdown)
+    check = _tune_check(book, fit, published, progress, cancel)
+    record = PublishedState(
+        updated_at="", reference_date=fit.reference_date or dt.date.today(),
+        ratings={p.name: p.rating for p in ratings}, sds={p.name: p.sd for p in ratings},
+        rows=_rated_rows(book.results), settings=settings,
+        previous=replace(published, previous=None, tune_check=None) if published else None, tune_check=check,
+        starting_levels=starting_levels(book))
+    return _Rated(fit, breakdown, watch, level_table(fit, watch), forecast_fixtures(book.fixtures, fit), ratings,
+                  record, tune_advice(check, settings, path.name))
+
+
+def _write_sheets(wb, book: LeagueBook, rated: _Rated, log: UpdateLog, record: PublishedState, *,
+                  fixtures: bool) -> None:
+    """Every tool sheet into ``wb`` (the Fixtures sheet's forecast columns too when ``fixtures``), then the record."""
+    settings = book.settings
+    write_ratings(wb, rated.ratings, settings, rated.levels)
+    write_why(wb, rated.breakdown, settings)
+    write_watch(wb, rated.watch)
+    write_notice(wb, rated.breakdown, rated.ratings, settings, rated.levels)
+    write_history(wb, log.reference_date, rated.ratings)
+    write_log(wb, log)
+    write_problems(wb, book.warnings)
+    set_up_printing(wb, settings)
+    if fixtures:
+        write_fixture_columns(wb, rated.forecasts, settings, latest=rated.fit.reference_date)
+    state.write_state(wb, record)
 
 
 def unprinted_note(ratings, forecasts=()) -> str | None:
@@ -379,9 +405,15 @@ def inputs_digest(book: LeagueBook) -> str:
     """A digest of everything an update reads from the workbook, and of the tool's version."""
     digest = hashlib.blake2b(digest_size=16)
     for part in (__version__, repr(book.settings), repr(book.players), repr(book.fixtures),
-                 repr(book.divisions), *(fingerprint(r) for r in book.results)):
+                 repr(book.divisions), *row_digests(book.results)[1]):
         digest.update(part.encode("utf-8", "surrogatepass") + b"\x1f")
     return digest.hexdigest()
+
+
+def _rated_rows(results: Sequence[Result]) -> tuple[tuple[str, str], ...]:
+    """The (identity, fingerprint) of every rated row, for the next update's comparison."""
+    identities, fingerprints = row_digests(results)
+    return tuple(pair for pair, res in zip(zip(identities, fingerprints), results) if not res.void)
 
 
 def _nothing_new(book: LeagueBook, published: PublishedState | None, inputs: str) -> bool:

@@ -24,11 +24,11 @@ of ``previous_data``.
 """
 from __future__ import annotations
 
-from collections import defaultdict
+from collections import Counter, defaultdict
 from dataclasses import dataclass
 from typing import Iterable, Sequence
 
-from secretary.model.records import Result, fingerprint, identity
+from secretary.model.records import Result, row_digests
 
 
 @dataclass(frozen=True)
@@ -94,41 +94,50 @@ def compare_rows(results: Iterable[Result], previous_rows: Sequence[tuple[str, s
     results : today's Results rows (void ones included), in sheet order
     previous_rows : ``PublishedState.rows`` of the previous update
     """
+    results = list(results)
+    identities, fingerprints = row_digests(results)
     stored: dict[str, list[str]] = defaultdict(list)
     for ident, fp in previous_rows:
         stored[ident].append(fp)
-    now: dict[str, list[Result]] = defaultdict(list)
-    position: dict[int, int] = {}
-    for k, res in enumerate(results):
-        now[identity(res)].append(res)
-        position[id(res)] = k
-
-    new, edited, unchanged, ignored = [], [], [], []
-    for ident, rows in now.items():
-        left = list(stored.get(ident, ()))
-        rest = []
-        for res in rows:
-            fp = fingerprint(res)
-            if fp in left:
-                left.remove(fp)
-                unchanged.append(res)
-            else:
-                rest.append(res)
-        for res in rest:
-            if left:
-                left.pop(0)
-                edited.append(res)
-            elif res.void:
-                ignored.append(res)
-            else:
-                new.append(res)
-        stored[ident] = left
+    times = Counter(identities)
+    kinds = bytearray(len(results))  # each row's kind, in sheet order
+    groups: dict[str, list[int]] = {}  # the rows of an identity written more than once, in sheet order
+    for k, ident in enumerate(identities):
+        if times[ident] == 1:
+            _sort_group(stored.get(ident), (k,), results, fingerprints, kinds)
+        else:
+            groups.setdefault(ident, []).append(k)
+    for ident, rows in groups.items():
+        _sort_group(stored.get(ident), rows, results, fingerprints, kinds)
     removed = [ident for ident, fps in stored.items() for _ in fps]
 
-    def in_sheet_order(rows: list[Result]) -> tuple[Result, ...]:
-        return tuple(sorted(rows, key=lambda res: position[id(res)]))
+    def of_kind(kind: int) -> tuple[Result, ...]:
+        return tuple(res for res, k in zip(results, kinds) if k == kind)
 
-    return DataChanges(*(in_sheet_order(rows) for rows in (new, edited, unchanged)), tuple(removed), in_sheet_order(ignored))
+    return DataChanges(of_kind(_NEW), of_kind(_EDITED), of_kind(_UNCHANGED), tuple(removed), of_kind(_IGNORED))
+
+
+_NEW, _EDITED, _UNCHANGED, _IGNORED = range(4)
+
+
+def _sort_group(left: list[str] | None, rows: Sequence[int], results: Sequence[Result],
+                fingerprints: Sequence[str], kinds: bytearray) -> None:
+    """The kinds of one identity's rows (``rows``, in sheet order) against its stored fingerprints ``left``
+    (used up in place): rows whose fingerprint was stored are unchanged first, each stored one used once;
+    the others pair with what is left, in order, as edits; then void rows are ignored, the rest new."""
+    rest = []
+    for k in rows:
+        if left and fingerprints[k] in left:
+            left.remove(fingerprints[k])
+            kinds[k] = _UNCHANGED
+        else:
+            rest.append(k)
+    for k in rest:
+        if left:
+            left.pop(0)
+            kinds[k] = _EDITED
+        else:
+            kinds[k] = _IGNORED if results[k].void else _NEW
 
 
 def all_new(results: Iterable[Result]) -> DataChanges:

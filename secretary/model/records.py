@@ -236,6 +236,41 @@ def fingerprint(result: Result) -> str:
     return _kept(result, "_fingerprint", _fingerprint)
 
 
+def row_digests(results) -> tuple[list[str], list[str]]:
+    """Every row's ``identity`` and ``fingerprint`` (two lists in row order), each worked out once.
+
+    The same digests as `identity` and `fingerprint` row by row (and kept on the records as they keep
+    them), with each date's text and each name's folded capitals worked out once for all the rows:
+    a league repeats a few hundred dates and a few thousand names over up to a million rows."""
+    iso: dict[dt.date, str] = {}
+    fold: dict[str, str] = {}
+    blake = hashlib.blake2b
+    identities, fingerprints = [], []
+    for result in results:
+        kept = result.__dict__
+        ident, fp = kept.get("_identity"), kept.get("_fingerprint")
+        if ident is None or fp is None:
+            if result.partner_a and result.partner_b:  # doubles: the row-by-row definitions
+                ident, fp = identity(result), fingerprint(result)
+            else:
+                day = iso.get(result.date) or iso.setdefault(result.date, result.date.isoformat())
+                a = fold.get(result.player_a) or fold.setdefault(result.player_a, result.player_a.casefold())
+                b = fold.get(result.player_b) or fold.setdefault(result.player_b, result.player_b.casefold())
+                if ident is None:  # as _identity: the date and the two folded names in sorted order
+                    text = "\x1f".join((day, a, b) if a <= b else (day, b, a))
+                    ident = kept["_identity"] = blake(text.encode("utf-8"), digest_size=8).hexdigest()
+                if fp is None:  # as _fingerprint, singles
+                    division = fold.get(result.division)
+                    if division is None:
+                        division = fold.setdefault(result.division, result.division.casefold())
+                    text = "\x1f".join((day, a, b, str(result.games_a), str(result.games_b), division,
+                                         str(result.void)))
+                    fp = kept["_fingerprint"] = blake(text.encode("utf-8"), digest_size=8).hexdigest()
+        identities.append(ident)
+        fingerprints.append(fp)
+    return identities, fingerprints
+
+
 def _identity(result: Result) -> str:
     if result.is_doubles:  # the two sides, whatever the order of partners or sides
         sides = sorted("+".join(sorted(name.casefold() for name in side)) for side in (result.side_a, result.side_b))

@@ -170,26 +170,57 @@ def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None, levels: Lev
 DENSE_CONTRASTS = 1000  # players up to which a dense Cholesky factor is quicker than a sparse LU
 
 
-def contrast_variance(H, coefficients) -> np.ndarray:
+def contrast_variance(H, coefficients, dense_limit: int | None = None) -> np.ndarray:
     """``c_i^T H^-1 c_i`` for each row ``c_i`` of ``coefficients`` (exact).
 
     ``H`` is the SPD Hessian (n x n, sparse or dense), ``coefficients`` an
     (m, n) array or sparse matrix, e.g. rows ``e_a - e_b`` for the variance of
-    a strength difference.  Dense Cholesky up to ``DENSE_CONTRASTS`` players
-    (``|L^-1 c|^2``), above that a sparse LU of ``H`` (SuperLU, symmetric mode).
+    a strength difference.  Dense Cholesky up to ``dense_limit`` unknowns
+    (None: ``DENSE_CONTRASTS``; ``touched_last_variance``), above that a sparse
+    LU of ``H`` (SuperLU, symmetric mode).
     """
     C = sp.csr_matrix(coefficients) if sp.issparse(coefficients) else np.atleast_2d(np.asarray(coefficients, float))
     n, m = H.shape[0], C.shape[0]
     if m == 0 or n == 0:
         return np.zeros(m)
+    if n <= (DENSE_CONTRASTS if dense_limit is None else dense_limit):
+        return touched_last_variance(H, C)
     rhs = C.T.toarray() if sp.issparse(C) else C.T
-    if n <= DENSE_CONTRASTS:
-        dense = H.toarray() if sp.issparse(H) else np.asarray(H, float)
-        y = sla.solve_triangular(sla.cholesky(dense, lower=True), rhs, lower=True, check_finite=False)
-        return np.einsum("ij,ij->j", y, y)
     lu = spla.splu(sp.csc_matrix(H), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                    options={"SymmetricMode": True})
     return np.einsum("ij,ij->j", rhs, lu.solve(rhs))
+
+
+def touched_last_variance(H, C) -> np.ndarray:
+    """``c_i^T H^-1 c_i`` by a dense Cholesky factor of ``H`` with the unknowns the rows touch ordered last.
+
+    With ``P H P^T = L L^T`` and the touched unknowns last, ``L^-1 P c`` is zero
+    above the last ``p`` rows, so only the trailing ``p x p`` block of ``L`` is
+    solved with (``p^2 m`` instead of ``n^2 m``; the factor is ``n^3 / 3``).
+    """
+    C = sp.csc_matrix(C)
+    C.eliminate_zeros()
+    n = H.shape[0]
+    touched = np.flatnonzero(np.diff(C.indptr))  # the columns with a nonzero
+    if len(touched) == 0:
+        return np.zeros(C.shape[0])
+    rest = np.ones(n, bool)
+    rest[touched] = False
+    order = np.r_[np.flatnonzero(rest), touched]
+    if sp.issparse(H):
+        where = np.empty(n, np.int64)
+        where[order] = np.arange(n)
+        coo = H.tocoo()
+        dense = sp.csr_matrix((coo.data, (where[coo.row], where[coo.col])), shape=H.shape).toarray()
+    else:
+        dense = np.asarray(H, float)[np.ix_(order, order)]
+    # dense is symmetric, so its transpose is the same matrix in Fortran order: factored in place, no copy
+    factor, info = lapack.dpotrf(dense.T, lower=1, clean=0, overwrite_a=1)
+    if info != 0:
+        raise np.linalg.LinAlgError("Hessian is not positive definite")
+    p = len(touched)
+    y = sla.solve_triangular(factor[n - p:, n - p:], C[:, touched].T.toarray(), lower=True, check_finite=False)
+    return np.einsum("ij,ij->j", y, y)
 
 
 def difference_coefficients(a, b, n: int) -> sp.csr_matrix:

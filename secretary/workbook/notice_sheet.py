@@ -15,7 +15,7 @@ from secretary.model.notice import NoticeDivision, build_notice
 from secretary.model.records import PlayerRating, Settings
 from secretary.workbook.printing import FOOTER
 from secretary.workbook.schema import NOTICE_SHEET
-from secretary.workbook.style import CHANGE_FORMAT, RATING_FORMAT, put, replace_sheet
+from secretary.workbook.style import CHANGE_FORMAT, RATING_FORMAT, Styling, put, replace_sheet
 
 NOTICE_HEADERS = ("Rank", "Player", "Rating", "±", "Change", "Why it changed")
 WIDTHS = (6, 26, 8, 6, 8, 70)  # characters
@@ -78,15 +78,18 @@ def _division_block(ws: Worksheet, row: int, block: NoticeDivision, first_update
         ws.cell(row, col).fill = SHADE
     ws.cell(row, 1).font = DIVISION
     row += 1
+    formats = (None, None, RATING_FORMAT, SD_SHOWN, CHANGE_FORMAT, None)
+    # Each column's alignment as the cell would have it after `.alignment = TOP` and the first and last
+    # column's own (CENTRE, WRAP) set over it.
+    aligned = [Styling(ws.parent, TOP) for _ in formats]
+    aligned[0], aligned[last_column - 1] = Styling(ws.parent, CENTRE), Styling(ws.parent, WRAP)
     for line in block.lines:
         change = (None if first_update else NEW) if line.change is None else line.change
         values = (line.rank, line.name, line.rating, line.sd, change, line.sentence)
-        formats = (None, None, RATING_FORMAT, SD_SHOWN, CHANGE_FORMAT, None)
-        for col, (value, number_format) in enumerate(zip(values, formats), start=1):
-            put(ws.cell(row, col), value, number_format)
-            ws.cell(row, col).alignment = TOP
-        ws.cell(row, 1).alignment = CENTRE
-        ws.cell(row, last_column).alignment = WRAP
+        for col, (value, number_format, align) in enumerate(zip(values, formats, aligned), start=1):
+            cell = ws.cell(row, col)
+            put(cell, value, number_format)
+            align(cell)
         _fit_height(ws, row, line.sentence, WIDTHS[-1])
         row += 1
     return row + 1

@@ -18,7 +18,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from secretary.model.records import Settings
 from secretary.workbook import schema
-from secretary.workbook.style import header_row, tool_sheet
+from secretary.workbook.style import Styling, WrapsText, header_row, tool_sheet
 from secretary.workbook.watch_sheet import HEADING as WATCH_HEADING
 
 PAPER = {"A4": Worksheet.PAPERSIZE_A4, "Letter": Worksheet.PAPERSIZE_LETTER}
@@ -67,11 +67,12 @@ def lines_needed(text: object, width: float) -> int:
 def wrap_column(ws: Worksheet, column: int, width: float, first_row: int = 2) -> None:
     """A wrapped text column of this width, each row as tall as its longest wrapped cell needs."""
     ws.column_dimensions[get_column_letter(column)].width = width
+    wrap = Styling(ws.parent, WRAP)
     for row in range(first_row, ws.max_row + 1):
         cell = ws.cell(row, column)
         if cell.value is None:
             continue
-        cell.alignment = WRAP
+        wrap(cell)
         lines = lines_needed(cell.value, width)
         height = ws.row_dimensions[row].height or LINE_POINTS
         if lines * LINE_POINTS > height:
@@ -91,13 +92,14 @@ def set_up_table(ws: Worksheet, paper: str, landscape: bool, wrapped: dict[str, 
 
 def align_tall_rows(ws: Worksheet, first_row: int = 2) -> None:
     """In every row taller than one line, the cells that do not wrap sit at the top beside the wrapped ones."""
+    top, wraps = Styling(ws.parent, TOP), WrapsText(ws.parent)
     for row in ws.iter_rows(min_row=first_row, max_col=ws.max_column):  # one pass: ws[r] recounts columns
         dims = ws.row_dimensions.get(row[0].row)
         if dims is None or dims.height is None or dims.height <= LINE_POINTS:
             continue
         for cell in row:
-            if cell.value is not None and not cell.alignment.wrap_text:
-                cell.alignment = TOP
+            if cell.value is not None and not wraps(cell):
+                top(cell)
 
 
 def set_up_watch(ws: Worksheet, paper: str) -> None:

@@ -6,6 +6,8 @@ import re
 from typing import Iterable, Mapping, Sequence
 
 from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+from openpyxl.styles import Alignment, Border, Font, PatternFill
+from openpyxl.styles.cell_style import StyleArray
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.table import Table, TableStyleInfo
@@ -44,6 +46,40 @@ def put(cell, value: object, number_format: str | None = None) -> None:
         cell.data_type = "s"
     if number_format and value is not None:
         cell.number_format = number_format
+
+
+# Where a workbook keeps each kind of style, and which index of a cell's style points into it.
+_STYLE_LISTS = {Alignment: ("_alignments", "alignmentId"), Font: ("_fonts", "fontId"),
+                PatternFill: ("_fills", "fillId"), Border: ("_borders", "borderId")}
+
+
+class Styling:
+    """One alignment, font, fill or border for many cells of a workbook: ``styling(cell)`` does what
+    ``cell.alignment = value`` (or ``.font``, ``.fill``, ``.border``) does, with the style found in the
+    workbook's list once, not hashed again for every cell (thousands of rows on the tool's sheets)."""
+
+    def __init__(self, wb: Workbook, value: Alignment | Font | PatternFill | Border):
+        collection, self.key = _STYLE_LISTS[type(value)]
+        self.index = getattr(wb, collection).add(value)
+
+    def __call__(self, cell) -> None:
+        if not cell._style:  # as openpyxl's own attribute does
+            cell._style = StyleArray()
+        setattr(cell._style, self.key, self.index)
+
+
+class WrapsText:
+    """``wraps(cell)`` is ``cell.alignment.wrap_text`` (as a bool), each alignment of the workbook asked once."""
+
+    def __init__(self, wb: Workbook):
+        self.alignments = wb._alignments
+        self.known: dict[int, bool] = {}
+
+    def __call__(self, cell) -> bool:
+        index = cell._style.alignmentId if cell._style else 0  # no style yet: the workbook's first
+        if index not in self.known:
+            self.known[index] = bool(self.alignments[index].wrap_text)
+        return self.known[index]
 
 
 def replace_sheet(wb: Workbook, name: str) -> Worksheet:

@@ -10,7 +10,7 @@ from secretary.model.breakdown import Breakdown, PlayerChange
 from secretary.model.notice import PART_NAMES, division_label, division_order
 from secretary.model.records import Settings
 from secretary.workbook.schema import WHY_SHEET
-from secretary.workbook.style import CHANGE_FORMAT, RATING_FORMAT, put, replace_sheet, write_table
+from secretary.workbook.style import CHANGE_FORMAT, RATING_FORMAT, Styling, put, replace_sheet, write_table
 
 WHY_HEADERS = ("Player", "Division", "Before", "After", "Change", *PART_NAMES, "Why")
 WHY_WIDTH = 100  # characters: the sentence column, wrapped
@@ -50,8 +50,9 @@ def write_why(wb: Workbook, breakdown: Breakdown, settings: Settings) -> None:
     formats.update({h: CHANGE_FORMAT for h in PART_NAMES})
     count = write_table(ws, WHY_HEADERS, rows, formats=formats, widths={"Why": WHY_WIDTH}, freeze="B2")
     why_column = len(WHY_HEADERS)
+    wrap = Styling(wb, Alignment(wrap_text=True, vertical="top"))
     for row in range(2, count + 2):
-        ws.cell(row, why_column).alignment = Alignment(wrap_text=True, vertical="top")
+        wrap(ws.cell(row, why_column))
     # Notes about the whole update go below the table, leaving the table itself plain data.
     notes = [breakdown.note] if breakdown.note else []
     if breakdown.removed_players:

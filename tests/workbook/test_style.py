@@ -129,3 +129,37 @@ def test_table_refuses_duplicate_headers():
     ws = replace_sheet(Workbook(), RATINGS_SHEET)
     with pytest.raises(ValueError):
         write_table(ws, ["Player", "player"], [])
+
+
+def _parts(path):
+    with zipfile.ZipFile(path) as z:
+        return {name: z.read(name) for name in z.namelist() if name != "docProps/core.xml"}  # core: the time
+
+
+def test_a_styling_sets_what_the_cell_attribute_sets(tmp_path):
+    """`Styling` (a style looked up once for many cells) against openpyxl's own attributes, byte for byte."""
+    from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+
+    from secretary.workbook.style import Styling, WrapsText
+
+    styles = [("alignment", Alignment(vertical="top")), ("font", Font(name="Calibri", bold=True)),
+              ("alignment", Alignment(wrap_text=True, vertical="top")), ("fill", PatternFill("solid", fgColor="DCE6F0")),
+              ("border", Border(bottom=Side(style="thin", color="808080"))), ("font", Font(italic=True, size=10))]
+    saved = []
+    for fast in (False, True):
+        wb = Workbook()
+        ws = wb.active
+        stylings = [Styling(wb, value) for _, value in styles] if fast else None
+        for row in range(1, 40):
+            for col in range(1, 6):
+                cell = ws.cell(row, col)
+                put(cell, f"r{row}c{col}" if (row + col) % 3 else row * col, RATING_FORMAT if col == 2 else None)
+                for k, (attribute, value) in enumerate(styles):
+                    if (row * (k + 1) + col) % (k + 2) == 0:  # an uneven mix, later ones over earlier ones
+                        stylings[k](cell) if fast else setattr(cell, attribute, value)
+        wraps = WrapsText(wb)
+        assert [wraps(c) for r in ws.iter_rows() for c in r] == [bool(c.alignment.wrap_text) for r in ws.iter_rows() for c in r]
+        path = tmp_path / f"styled-{fast}.xlsx"
+        wb.save(path)
+        saved.append(_parts(path))
+    assert saved[0] == saved[1]
