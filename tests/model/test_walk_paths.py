@@ -20,7 +20,7 @@ from secretary.model.evaluate import evaluate, prepare
 from secretary.model.fit import DENSE_LIMIT
 from secretary.model.records import Result, Settings
 from secretary.model.tune import tune
-from secretary.model.uncertainty import DENSE_CONTRASTS, contrast_variance, touched_last_variance
+from secretary.model.uncertainty import DENSE_CONTRASTS, contrast_variance, schur_onto, touched_last_variance
 from tests.model.test_evaluate_levels import SETTINGS, tiered_league
 
 D0 = dt.date(2025, 9, 1)
@@ -67,6 +67,28 @@ def test_touched_last_variance_is_the_dense_inverse_contrast():
                 contrast_variance(H, C, dense_limit=0)):  # the last one the sparse LU
         assert got == pytest.approx(expected, rel=1e-11, abs=1e-14)
     assert touched_last_variance(H, sp.csr_matrix((2, n))).tolist() == [0.0, 0.0]
+
+
+@pytest.mark.parametrize("graph", ["chain", "random"])
+def test_the_sparse_elimination_is_the_inverse_restricted_to_the_kept_unknowns(graph):
+    # Source: numpy.linalg.inv of the whole matrix, restricted to the unknowns left.
+    rng = np.random.default_rng(8)
+    if graph == "chain":  # eliminated over several rounds, down to the two kept ends
+        n = 41
+        lap = sp.diags([np.full(n - 1, -1.0), np.full(n - 1, -1.0)], [-1, 1])
+        H = (lap + sp.diags(-np.asarray(lap.sum(axis=1)).ravel() + 0.3)).tocsr()
+        keep = np.zeros(n, bool)
+        keep[[0, n - 1]] = True
+    else:
+        H = spd_with_levels(rng, n=300)
+        n = H.shape[0]
+        keep = rng.random(n) < 0.2
+    S, kept = schur_onto(H, keep)
+    assert set(np.flatnonzero(keep)) <= set(kept.tolist()) and len(kept) < 0.6 * n
+    if graph == "chain":
+        assert kept.tolist() == [0, n - 1]
+    inverse = np.linalg.inv(H.toarray())[np.ix_(kept, kept)]
+    assert np.linalg.inv(S.toarray()) == pytest.approx(inverse, rel=1e-11, abs=1e-14)
 
 
 def straightforward(monkeypatch):
