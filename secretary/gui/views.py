@@ -476,7 +476,7 @@ FIXTURE_COLUMNS = (
            stretch=True),
     Column("b", "Player B", "The second player (with Partner B, for doubles).", 16, stretch=True),
     Column("race", "Race", "Games each needs to win (the fixture's race, else the usual race).", 6),
-    Column("chance", "Chance A", "Player A's chance of winning the match at that race.", 7, True),
+    Column("chance", "Chance A", "Player A's chance (side A's, for doubles) of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
     Column("fair_chance", "Chance A (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
     Column("note", "Forecast note", "A past fixture (dated before the latest results), or where the chance could "
