@@ -286,6 +286,22 @@ def test_the_watch_list_tells_the_isolated_divisions_story():
     assert all(m.target == ISOLATED and m.sd_after < m.sd_before for m in wl.suggestions)
 
 
+@pytest.mark.parametrize("spread", [0.0, 300.0])
+def test_the_isolated_division_stays_flagged_whatever_the_division_spread(spread):
+    # Linkage is judged against a fixed yardstick, not the Division spread prior: a wider prior must not
+    # make Valley's five games against the others look decisive (at 300 they once read 80 % linked).
+    from secretary.model.league import fit_league
+    from secretary.model.linkage import watch_list
+    from secretary.workbook.read import read_workbook
+
+    book = read_workbook(DEMO / "league.xlsx")
+    settings = book.settings.replace(division_spread=spread)
+    wl = watch_list(fit_league(book.results, settings, players=book.players), book.results)
+    assert [d.division for d in wl.flagged_divisions] == [ISOLATED]
+    assert 0.15 < wl.division(ISOLATED).linked_share < 0.35
+    assert [p.name for p in wl.flagged_players] == [load_script().DOMINANT]
+
+
 def test_the_demo_walk_through_shows_a_player_moved_by_a_re_rated_partner(tmp_path, capsys):
     # README walkthrough: the newcomer who sits the last week out moves because his doubles partner,
     # the upset winner, is re-rated.

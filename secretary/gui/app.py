@@ -2,6 +2,9 @@
 
 A thin controller over the pipeline: long work runs on the worker thread, and
 ``_poll`` (every ``POLL_MS``) hands its messages to the widgets in small batches.
+A finished update fills one tab per turn of the event loop (``_in_turns``), and
+each table fills in batches (``widgets.Table``), so that the window answers
+between them.
 """
 from __future__ import annotations
 
@@ -65,6 +68,8 @@ class App:
         self.session = views.Session()
         self.closed = False
         self.where = ""  # where a new workbook was put: said once, after its check
+        self._turns: list = []  # the tabs still to fill after an update, one per turn of the event loop
+        self._turn: str | None = None
         style_window(root)
         root.title(TITLE)
         self._place()
@@ -217,7 +222,8 @@ class App:
     def idle(self) -> bool:
         """No background work running and every table filled (tests wait for this)."""
         tables = [self.problems.table, self.ratings.table, self.fixtures.table, *self.watch.tables]
-        return not self.worker.busy and not self.worker.pending and not any(t.filling for t in tables)
+        return (not self.worker.busy and not self.worker.pending and not self._turns
+                and not any(t.filling for t in tables))
 
     def say(self, text: str) -> None:
         self.status.configure(text=text)
@@ -252,6 +258,7 @@ class App:
             self.refresh_steps()
 
     def _clear(self) -> None:
+        self._in_turns()  # a tab still to fill from the last update is not filled now
         self.checked = self.updated = None
         self.problems.clear()
         self.ratings.clear()
@@ -369,17 +376,33 @@ class App:
 
     def _updated(self, updated) -> None:
         self.updated, self.checked = updated, updated.checked
-        self.problems.show(updated.checked.problems, updated.checked.layouts)
-        self.ratings.show(updated)
-        self.changes.show(updated)
-        self.watch.show(updated.watch)
-        self.fixtures.show(updated.forecasts, updated.latest_result)
+        # The tab in sight first; each tab in its own turn of the event loop, so that a big league never holds
+        # the window up for all of them at once.
+        self._in_turns(lambda: self.ratings.show(updated),
+                       lambda: self.problems.show(updated.checked.problems, updated.checked.layouts),
+                       lambda: self.changes.show(updated),
+                       lambda: self.watch.show(updated.watch),
+                       lambda: self.fixtures.show(updated.forecasts, updated.latest_result))
         self.session = self.session.but(checked=True, errors=0, updated=True, update_failed=False, reviewed=False,
                                         printed=False, notice_exists=updated.notice_pdf is not None, update_note="",
                                         waiting_results=False)
         self.notebook.select(self.ratings.frame)
         notes = " ".join(updated.notes)
         self.say(f"Ratings updated for {plural(len(updated.ratings), 'player')}. {updated.reason} {notes}".strip())
+
+    def _in_turns(self, *steps) -> None:
+        """Run the first step now and each next one in a later turn of the event loop; none drops the rest."""
+        self.scheduler.cancel(self._turn)
+        self._turn, self._turns = None, list(steps)
+        self._next_turn()
+
+    def _next_turn(self) -> None:
+        self._turn = None
+        if self._turns:
+            step = self._turns.pop(0)
+            if self._turns:
+                self._turn = self.scheduler.later(1, self._next_turn)
+            step()
 
     def _shown_last(self, updated) -> None:
         """The last update, still current, shown as if it had just run: step 2 is done already."""

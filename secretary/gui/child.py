@@ -8,8 +8,9 @@ the spreadsheet library's sorts) - measured freezes of up to 1.8 s on a
 
 Protocol, both ways pickled and length-prefixed: the window sends
 ``("job", name, args)`` or ``("cancel",)``; this process answers
-``("progress", stage, fraction)`` then ``("done", result)`` or
-``("failed", Failure)``.  Closing its input ends it.
+``("progress", stage, fraction)`` then ``("done", result)`` (its long tuples
+sent ahead as ``("piece", field, items)``: ``worker.send_result``) or
+``("failed", Failure)`` (its problems sent ahead the same way).  Closing its input ends it.
 """
 from __future__ import annotations
 
@@ -19,7 +20,7 @@ import sys
 import threading
 
 from secretary.gui.jobs import JOBS
-from secretary.gui.worker import failure_of, receive, send
+from secretary.gui.worker import failure_of, receive, send, send_result
 from secretary.threads import limit_native_threads
 
 
@@ -52,9 +53,9 @@ def main() -> int:
         try:
             result = JOBS[name](*args, lambda stage, fraction: send(out, ("progress", stage, fraction)), cancel)
         except BaseException as exc:  # every failure goes back to the window in plain words
-            send(out, ("failed", failure_of(exc, f"window: {name}")))
+            send_result(out, failure_of(exc, f"window: {name}"), "failed")
         else:
-            send(out, ("done", result))
+            send_result(out, result)
 
 
 if __name__ == "__main__":

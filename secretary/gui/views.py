@@ -151,6 +151,8 @@ ALL_DIVISIONS = "All divisions"
 def filter_rows(rows: Sequence[Row], search: str = "", division: str = ALL_DIVISIONS,
                 name_index: int = 1, division_index: int = 4) -> list[Row]:
     """Rows whose player matches the search and who are in the chosen division."""
+    if not search.split() and division in ("", ALL_DIVISIONS):
+        return list(rows)  # nothing to leave out (the usual case, and the quick one for a big league)
     return [r for r in rows
             if matches(str(r.values[name_index]), search)
             and (division in ("", ALL_DIVISIONS) or r.values[division_index] == division)]
@@ -253,6 +255,9 @@ def filled_columns(columns: Sequence[Column], rows: Sequence[Row]) -> list[str]:
 def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
     """The Ratings table: best first, with shared places for equal shown ratings."""
     order = sorted(ratings, key=lambda p: (-p.rating, p.name.casefold()))  # the Ratings sheet's order
+    # First ratings: everyone is new, so colour marks nobody out.
+    marked = ("new",) if not all(p.is_new or p.change is None for p in order) else ()
+    days: dict = {}  # each date's text once: many players last played on the same day
     rows, place = [], 0
     for position, p in enumerate(order, start=1):
         if position == 1 or round(p.rating) != round(order[position - 2].rating):
@@ -262,11 +267,12 @@ def rating_rows(ratings: Sequence, few_games: float) -> list[Row]:
             [INFERRED] if p.division_from == HOME_RULES[1] else [])
         values = (place, p.name, p.rating, None if new else p.change, p.division, p.sd, p.games,
                   p.last_played, ", ".join(notes))
+        last = days.get(p.last_played)
+        if last is None:
+            last = days[p.last_played] = day(p.last_played)
         shown = (str(place), p.name, points(p.rating), "" if new else signed(p.change),
-                 p.division, points(p.sd), f"{p.games:.0f}", day(p.last_played), values[-1])
-        rows.append(Row(p.name, values, shown, ("new",) if new else ()))
-    if all(row.tags for row in rows):  # first ratings: everyone is new, so colour marks nobody out
-        rows = [replace(row, tags=()) for row in rows]
+                 p.division, points(p.sd), f"{p.games:.0f}", last, values[-1])
+        rows.append(Row(p.name, values, shown, marked if new else ()))
     return rows
 
 
@@ -286,14 +292,24 @@ PROBLEM_COLUMNS = (
 
 def problem_rows(problems: Sequence) -> list[Row]:
     """The Problems table: errors first, then warnings, each in sheet order."""
-    order = sorted(enumerate(problems), key=lambda ip: (not ip[1].is_error, ip[0]))
-    rows = []
-    for i, p in order:
-        word = "Error" if p.is_error else "Warning"
-        values = (word, p.sheet, p.row, p.column or "", p.found, p.problem, p.fix)
-        shown = tuple("" if v is None else str(v) for v in values)
-        rows.append(Row(str(i), values, shown, ("error" if p.is_error else "warning",)))
-    return rows
+    return [problem_row(i, problems[i]) for i in problem_order(problems)]
+
+
+def problem_order(problems: Sequence) -> list[int]:
+    """The problems' indices, errors first, then warnings, each in sheet order (``problem_row`` makes the rows).
+
+    Plain numbers, no pair per problem: 100,000 new tuples would set off the garbage collector's full passes.
+    """
+    errors = [i for i, p in enumerate(problems) if p.is_error]
+    return errors + [i for i, p in enumerate(problems) if not p.is_error]
+
+
+def problem_row(i: int, p) -> Row:
+    """Row ``i`` of the Problems table: problem ``p``."""
+    word = "Error" if p.is_error else "Warning"
+    values = (word, p.sheet, p.row, p.column or "", p.found, p.problem, p.fix)
+    shown = tuple("" if v is None else str(v) for v in values)
+    return Row(str(i), values, shown, ("error" if p.is_error else "warning",))
 
 
 def column_letter(number: int) -> str:
@@ -456,10 +472,11 @@ def line_points(history: Sequence[tuple[dt.date, float]], width: float, height: 
 
 FIXTURE_COLUMNS = (
     Column("date", "Date", "When the match is to be played.", 10, True),
-    Column("a", "Player A", "The first player named in the Fixtures sheet.", 16, stretch=True),
-    Column("b", "Player B", "The second player.", 16, stretch=True),
+    Column("a", "Player A", "The first player named in the Fixtures sheet (with Partner A, for doubles).", 16,
+           stretch=True),
+    Column("b", "Player B", "The second player (with Partner B, for doubles).", 16, stretch=True),
     Column("race", "Race", "Games each needs to win (the fixture's race, else the usual race).", 6),
-    Column("chance", "Chance A", "Player A's chance of winning the match at that race.", 7, True),
+    Column("chance", "Chance A", "Player A's chance (side A's, for doubles) of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
     Column("fair_chance", "Chance A (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
     Column("note", "Forecast note", "A past fixture (dated before the latest results), or where the chance could "

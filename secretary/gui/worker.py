@@ -6,6 +6,7 @@ chatty job cannot flood the window.
 """
 from __future__ import annotations
 
+import dataclasses
 import os
 import pickle
 import queue
@@ -23,6 +24,7 @@ from secretary.userdirs import log_exception
 HEADER = struct.Struct("!I")
 CANCEL_POLL = 0.05  # seconds between looks at the cancel flag while the background process works
 CHILD_ARGUMENT = "--background-worker"  # the desktop app's executable acts as the background process
+PIECE = 250  # items per message when a result's long tuple crosses from the background process
 
 Job = Callable[[Callable[[str, float], None], threading.Event], Any]
 
@@ -147,6 +149,28 @@ def receive(stream):
     return pickle.loads(data) if len(data) == size else None
 
 
+def send_result(stream, result, kind: str = "done") -> None:
+    """A finished job's result (or ``Failure``, kind "failed"): its long tuples first, ``PIECE`` items a
+    message, then the rest.
+
+    Unpickling holds the window process's one interpreter lock (it never lets
+    the window's thread in), about 5 microseconds an item; in pieces the
+    window's thread runs between them however big the league.
+    """
+    long = {} if not dataclasses.is_dataclass(result) or isinstance(result, type) else {
+        f.name: getattr(result, f.name) for f in dataclasses.fields(result)
+        if isinstance(getattr(result, f.name), tuple) and len(getattr(result, f.name)) > PIECE}
+    for name, items in long.items():
+        for start in range(0, len(items), PIECE):
+            send(stream, ("piece", name, items[start:start + PIECE]))
+    send(stream, (kind, dataclasses.replace(result, **{name: () for name in long}) if long else result))
+
+
+def joined(result, pieces: dict[str, list]):
+    """The result with the tuples that came ahead in pieces put back."""
+    return dataclasses.replace(result, **{name: tuple(items) for name, items in pieces.items()}) if pieces else result
+
+
 def child_command() -> list[str]:
     """How to start the background process: ``python -m``, or the desktop app's own executable."""
     if getattr(sys, "frozen", False):  # a bundled app has no ``python -m``: see secretary.launch
@@ -189,6 +213,7 @@ class Child:
 
             forwarder = threading.Thread(target=forward_cancel, name="secretary-cancel", daemon=True)
             forwarder.start()
+            pieces: dict[str, list] = {}
             try:
                 while True:
                     message = receive(proc.stdout)
@@ -198,10 +223,12 @@ class Child:
                         raise RuntimeError(f"the background process stopped (exit code {proc.wait()})")
                     if message[0] == "progress":
                         progress(message[1], message[2])
+                    elif message[0] == "piece":
+                        pieces.setdefault(message[1], []).extend(message[2])
                     elif message[0] == "done":
-                        return message[1]
+                        return joined(message[1], pieces)
                     else:
-                        raise JobFailed(message[1])
+                        raise JobFailed(joined(message[1], pieces))
             finally:
                 finished.set()
                 forwarder.join()

@@ -11,26 +11,32 @@ per quantity).  Under the prior alone the strengths' covariance is
 ``s^2 I + tau^2 B B^T`` (``B`` the player-by-division indicator); with
 ``tau = 0`` (one pool) the levels are fixed and ``H = K``.
 
-Division linkage with levels (``tau > 0``).  The contrast ``c = e_d - (1 - e_d) / (D - 1)``
-is division d's level minus the other divisions' average level; the common
-mode of all levels, which games never see, drops out of it.  It is ``[0, c]``
-in the levels' rows of ``H``.  Before any game ``Var(c . L) = tau^2 |c|^2``.
-Even with every strength known exactly a part would remain,
+A division's level against the rest (``level_contrasts``, ``tau > 0``): the
+contrast ``c = e_d - (1 - e_d) / (D - 1)`` is division d's level minus the
+other divisions' average level; the common mode of all levels, which games
+never see, drops out of it.  It is ``[0, c]`` in the levels' rows of ``H``;
+before any game ``Var(c . L) = tau^2 |c|^2``.  Its posterior ± (``level_sd``)
+stays wide even for a well-linked division, because how a division's strength
+splits between its level and its players' deviations is the priors' matter, so
+it does not say how well the games tie the division in.
 
-    Var(c . L | r) = sum_k c_k^2 tau^2 s^2 / (s^2 + n_k tau^2)    (the offset),
+Linkage (``gap_contrasts``, ``linked_shares``).  What the games can pin down is
+a division's *gap*: its players' average strength minus the rest's, the rest's
+divisions weighted by the prior precision of their averages
+``1 / (tau^2 + s^2 / n_k)`` (in one pool: the other players' average).  Under
+that weighting the rest's average is independent, under the prior, of every
+difference the other divisions' games see, so a division that played no other
+keeps exactly its prior variance.  The games' precision about the gap is
+``G = 1 / Var_post - 1 / Var_prior`` and the linked share
+``G rho^2 / (1 + G rho^2)`` compares it with a fixed reference prior of ±rho:
+not with the Division spread (a wider prior would make a handful of games look
+decisive) nor with the size of the division (the prior alone pins the average
+of 300 players to ``s / sqrt(300)``).  Its maths is the same in one pool and
+with levels.
 
-because how a level splits from its players' deviations is the priors'
-matter.  Games can only act on the rest, so
-``linked_share = 1 - (Var_post - offset) / (Var_prior - offset)`` is the share
-of that part's precision that comes from games: exactly 0 for a division that
-has played no other (its contrast is then a prior-only direction, because the
-other divisions enter it with equal weights), near 1 for a well-linked one,
-whatever the division's size.  ``level_sd`` is the full posterior ± of ``c . L``.
-
-Division linkage in one pool (``tau = 0``).  For a set of players g, ``u_g``
-averages over g minus the average over the league; ``Var_post = u_g^T H^-1 u_g``
-against ``s^2 |u_g|^2`` under the prior alone.  Separate pools always use this
-form (with the prior covariance above when there are levels).
+Separate pools and one pool's division ± (``average_contrasts``): ``u_g``
+averages over a set of players g minus the average over the league;
+``Var_post = u_g^T H^-1 u_g`` against ``u_g^T (s^2 I + tau^2 B B^T) u_g``.
 """
 from __future__ import annotations
 
@@ -111,13 +117,10 @@ def posterior_solver(fit, method: str = "auto"):
 class Contrasts:
     """Quantities ``w . x`` over the unknowns ``x`` of ``H`` (strengths, then any free levels).
 
-    ``prior`` is their variance under the prior alone and ``offset`` the part of
-    it no game can reach (``Var(c . L | r)`` for a level; 0 for an average
-    strength), both in log-odds squared.
+    ``prior`` is their variance under the prior alone, log-odds squared.
     """
 
     vectors: np.ndarray  # (n_unknowns, k)
-    offset: np.ndarray  # (k,)
     prior: np.ndarray  # (k,)
 
     def variance(self, solver) -> tuple[np.ndarray, np.ndarray]:
@@ -125,16 +128,6 @@ class Contrasts:
         W = self.vectors
         X = solver.solve(W).reshape(W.shape) if W.size else W.copy()
         return np.einsum("ij,ij->j", W, X), X
-
-    def shares(self, var: np.ndarray, s2: float) -> np.ndarray:
-        """The share of what games can pin down that they do: ``1 - (Var_post - offset) / (Var_prior - offset)``.
-
-        Clipped to [0, 1]; 1 where the prior leaves nothing to pin down.
-        """
-        seen = self.prior - self.offset
-        with np.errstate(invalid="ignore", divide="ignore"):
-            share = np.where(seen > 1e-12 * s2, 1.0 - (var - self.offset) / seen, 1.0)
-        return np.clip(share, 0.0, 1.0)
 
 
 def level_vectors(members: np.ndarray) -> np.ndarray:
@@ -161,7 +154,7 @@ def average_contrasts(fit, members: np.ndarray) -> Contrasts:
     prior = fit.prior_sd**2 * np.sum(U**2, axis=0) + division_spread(fit) ** 2 * np.sum(per_division**2, axis=0)
     if fit.levels is not None:
         U = np.vstack([U, np.zeros_like(per_division)])
-    return Contrasts(U, np.zeros(U.shape[1]), prior)
+    return Contrasts(U, prior)
 
 
 def against_the_rest(D: int) -> np.ndarray:
@@ -172,16 +165,58 @@ def against_the_rest(D: int) -> np.ndarray:
 def level_contrasts(fit) -> Contrasts:
     """Each division's level minus the other divisions' average level (free levels only).
 
-    The vectors are ``c`` in the levels' rows of the joint ``H``; the offset is
-    ``Var(c . L | r)``, the part no game can see.
+    The vectors are ``c`` in the levels' rows of the joint ``H``; before any game ``Var(c . L) = tau^2 |c|^2``.
     """
+    t2 = division_spread(fit) ** 2
+    C = against_the_rest(len(fit.levels.sizes))
+    vectors = np.vstack([np.zeros((len(fit.names), C.shape[0])), C.T])
+    return Contrasts(vectors, t2 * np.sum(C**2, axis=1))
+
+
+def gap_contrasts(fit) -> Contrasts:
+    """Each division's average strength minus the rest of the league's (linkage: ``linked_shares``).
+
+    The rest is the other divisions' average strengths weighted by their prior
+    precision ``1 / (tau^2 + s^2 / n_k)`` (in one pool: the other players'
+    average).  That weighting makes the rest's average independent, under the
+    prior, of every difference between the other divisions, so games that do
+    not leave division g tell nothing about its gap: its variance stays the prior's.
+    With free levels the vectors carry zeros in the levels' rows of ``H``.
+    """
+    n, D = len(fit.names), len(fit.group_names)
+    sizes = np.bincount(fit.group, minlength=D).astype(float)
     s2, t2 = fit.prior_sd**2, division_spread(fit) ** 2
-    sizes = fit.levels.sizes
-    D = len(sizes)
-    C = against_the_rest(D)
-    hidden = t2 * s2 / (s2 + sizes * t2)  # Var(L_d | r)
-    vectors = np.vstack([np.zeros((len(fit.names), D)), C.T])
-    return Contrasts(vectors, np.sum(C**2 * hidden[None, :], axis=1), t2 * np.sum(C**2, axis=1))
+    with np.errstate(divide="ignore"):
+        var_mean = np.where(sizes > 0, t2 + s2 / np.maximum(sizes, 1.0), np.inf)  # prior Var of a division's average
+    weight = np.where(sizes > 0, 1.0 / var_mean, 0.0)
+    per_division = np.zeros((D, D))  # column g: the gap's weights on the divisions' average strengths
+    for g in range(D):
+        rest = np.where(np.arange(D) == g, 0.0, weight)
+        if sizes[g] > 0 and rest.sum() > 0:
+            per_division[:, g] = -rest / rest.sum()
+            per_division[g, g] = 1.0
+    W = per_division[fit.group] / np.maximum(sizes[fit.group], 1.0)[:, None] if n else np.zeros((0, D))
+    prior = np.sum(per_division**2 * np.where(sizes > 0, var_mean, 0.0)[:, None], axis=0)
+    if fit.levels is not None:
+        W = np.vstack([W, np.zeros((len(fit.level), D))])
+    return Contrasts(W, prior)
+
+
+def linked_shares(var: np.ndarray, prior: np.ndarray, reference: float) -> np.ndarray:
+    """The share of a gap's precision that comes from games, against a fixed reference prior ``N(0, reference^2)``.
+
+    Games' precision ``G = 1 / Var_post - 1 / Var_prior`` (what the games add to
+    the prior's); the share is ``G / (G + 1 / reference^2)``: 0 with no games
+    across, 1/2 when the games alone pin the gap to ``reference`` log-odds, near
+    1 well beyond.  The reference is fixed, so a wider Division spread (a weaker
+    prior) does not make the same games look more decisive.  1 where the prior
+    leaves nothing to pin down (a division without players, or no rest).
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        games = np.where((prior > 0) & (var > 0), 1.0 / var - 1.0 / prior, np.inf)
+    games = np.maximum(games, 0.0)
+    ref = reference**2
+    return np.where(np.isinf(games), 1.0, games * ref / (1.0 + games * ref))
 
 
 def division_contrasts(fit) -> Contrasts:

@@ -278,30 +278,33 @@ def _player_gradient_and_curvature(pairs: Pairs, r, mu, prior_sd: float):
     return grad, g
 
 
-def newton_step(pattern: LaplacianPattern, h, prior_sd: float, g, gmax: float, levels: Levels | None = None):
+def newton_step(pattern: LaplacianPattern, h, prior_sd: float, g, gmax: float, levels: Levels | None = None,
+                dense_limit: int | None = None):
     """The Newton step ``-H^-1 g`` over ``r``, or over ``(r, L)`` with free ``levels``.
 
     With levels the diagonal level block is eliminated exactly: the players' part
     solves the Schur complement ``K + I / sd^2 - B diag(beta) B^T`` and the levels'
-    part follows from it.
+    part follows from it.  ``dense_limit``: see ``_solve_players``.
     """
     if levels is None:
-        return -_solve_players(pattern, h, prior_sd, g, gmax)
+        return -_solve_players(pattern, h, prior_sd, g, gmax, dense_limit=dense_limit)
     n, group = pattern.n, levels.group
     g_r, g_level = g[:n], g[n:]
     precision = levels.precision(prior_sd)
-    step_r = -_solve_players(pattern, h, prior_sd, g_r + (g_level / (prior_sd**2 * precision))[group], gmax, levels)
+    step_r = -_solve_players(pattern, h, prior_sd, g_r + (g_level / (prior_sd**2 * precision))[group], gmax, levels,
+                             dense_limit)
     step_level = (levels.per_division(step_r) / prior_sd**2 - g_level) / precision
     return np.concatenate([step_r, step_level])
 
 
-def _solve_players(pattern: LaplacianPattern, h, prior_sd: float, rhs, gmax: float, levels: Levels | None = None):
+def _solve_players(pattern: LaplacianPattern, h, prior_sd: float, rhs, gmax: float, levels: Levels | None = None,
+                   dense_limit: int | None = None):
     """``S^-1 rhs`` with ``S = K + I / sd^2`` (minus ``B diag(beta) B^T`` with levels).
 
-    Dense Cholesky up to ``DENSE_LIMIT`` players; above, inexact Newton:
+    Dense Cholesky up to ``dense_limit`` players (None: ``DENSE_LIMIT``); above, inexact Newton:
     Jacobi-preconditioned CG, solved more tightly as the gradient shrinks.
     """
-    if pattern.n <= DENSE_LIMIT:
+    if pattern.n <= (DENSE_LIMIT if dense_limit is None else dense_limit):
         S = pattern.dense(h, prior_sd)
         if levels is not None:
             group = levels.group
@@ -364,6 +367,7 @@ def fit_map(
     start=None,
     gtol: float = 1e-9,
     max_iter: int = 100,
+    dense_limit: int | None = None,
 ) -> Fit:
     """The MAP strengths by safeguarded Newton.
 
@@ -376,6 +380,8 @@ def fit_map(
     start : optional starting point for ``r`` (defaults to ``prior_mean``, plus the starting levels); with free
         ``levels`` it may also hold the levels after the strengths (``n + D`` values: a warm start of both)
     gtol : stop when ``max_k |dF/dx_k| <= gtol * max(1, mean weighted games)``
+    dense_limit : players up to which Newton steps use a dense Cholesky factor, above it CG (None:
+        ``DENSE_LIMIT``; the walk forward passes 0: its warm-started fits are cheapest by CG at every size)
 
     Raises
     ------
@@ -388,18 +394,20 @@ def fit_map(
         raise FitFailed(f"the skill spread must be a positive number (got {prior_sd!r})")
     if levels is not None and not levels.sd > 0:  # one pool: every level stays at its starting value
         fixed = np.asarray(levels.mean, dtype=float)
-        fit = fit_map(pairs, mu + fixed[levels.group], prior_sd, start=start, gtol=gtol, max_iter=max_iter)
+        fit = fit_map(pairs, mu + fixed[levels.group], prior_sd, start=start, gtol=gtol, max_iter=max_iter,
+                      dense_limit=dense_limit)
         return Fit(fit.r, mu, prior_sd, fit.iterations, fit.grad_max, fixed.copy())
     base = mu if levels is None else mu + levels.mean[levels.group]
     r = base.copy() if start is None else np.array(start, dtype=float)
     if pairs.n_players == 0:
         return Fit(r, mu, prior_sd, 0, 0.0, np.zeros(0) if levels is None else levels.mean.astype(float))
-    x, it, gmax = _newton(pairs, mu, prior_sd, levels, r, gtol, max_iter)
+    x, it, gmax = _newton(pairs, mu, prior_sd, levels, r, gtol, max_iter, dense_limit)
     n = pairs.n_players
     return Fit(x[:n], mu, prior_sd, it, gmax, x[n:] if levels is not None else np.zeros(0))
 
 
-def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: float, max_iter: int):
+def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: float, max_iter: int,
+            dense_limit: int | None = None):
     """Safeguarded Newton over ``x = r`` (or ``(r, L)`` with levels): the optimum, steps taken, final gradient."""
     pattern = LaplacianPattern(pairs)
     tol = gtol * max(1.0, float(pairs.games_per_player().mean()))
@@ -418,7 +426,7 @@ def _newton(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, r, gtol: f
             return x, it, gmax
         if it == max_iter:
             break
-        step = newton_step(pattern, h, prior_sd, g, gmax, levels)
+        step = newton_step(pattern, h, prior_sd, g, gmax, levels, dense_limit)
         t, g, h = _line_search(evaluate, x, step, g)
         x = x + t * step
         gmax = float(np.max(np.abs(g)))

@@ -1,7 +1,7 @@
 """The watch list: how well each division's level is tied to the rest, held-back players, linking matches.
 
-Each division's level against the rest and its linked share come from
-``secretary.model.contrasts`` (the maths is in its docstring); the words a
+Each division's level against the rest, and its gap to the rest that the linked
+share judges, come from ``secretary.model.contrasts`` (the maths is in its docstring); the words a
 secretary reads from ``secretary.model.watch_sentences``; the suggested linking
 matches from ``secretary.model.linking_matches``.
 
@@ -20,8 +20,10 @@ from typing import Iterable
 import numpy as np
 from scipy.special import expit
 
-from secretary.model.contrasts import against_the_rest, average_contrasts, division_contrasts, posterior_solver
+from secretary.model.contrasts import (against_the_rest, average_contrasts, division_contrasts, gap_contrasts,
+                                       linked_shares, posterior_solver)
 from secretary.model.doubles import expected_wins
+from secretary.model.fixtures import FAR_OFF
 from secretary.model.linking_matches import LinkingMatch, expected_race_games, suggest_matches
 from secretary.model.records import Result
 from secretary.model.scale import points_per_logodds
@@ -31,6 +33,9 @@ __all__ = ["DivisionLink", "HeldPlayer", "LinkingMatch", "Pool", "WatchList", "w
            "expected_race_games"]
 
 HELD_SHOWN = 20  # held-back players listed, strongest cases first; the rest are counted
+# Linkage's fixed yardstick, log-odds: a division is half linked when the games alone pin its gap to
+# the rest to this ± (about 104 points at the Elo scale), the ± at which a chance "could be far off".
+LINK_REFERENCE = FAR_OFF
 
 
 @dataclass(frozen=True)
@@ -46,8 +51,8 @@ class DivisionLink:
         (with Division spread), or the mean rating minus the league's
     level_sd : ± (one SD) of the relative level from the games, points
     prior_sd : the same ± under the starting assumption alone, points
-    linked_share : the share of the level that games pin down, 0 to 1 (see the module's docstring;
-        ``1 - level_sd^2 / prior_sd^2`` in one pool)
+    linked_share : the share of the division's gap to the rest that games pin down, 0 to 1, against the
+        fixed ``LINK_REFERENCE`` (``division_shares``)
     cross_games : age-weighted games against other divisions
     recent_cross_games : games against other divisions in the recent window
         (age at most one half-life, i.e. weight >= 0.5; all games when games
@@ -175,7 +180,7 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
     solver, h = posterior_solver(fit, method)
     contrasts = division_contrasts(fit)
     var, X = contrasts.variance(solver)
-    share = contrasts.shares(var, fit.prior_sd**2)
+    share = division_shares(fit, solver)
     members = fit.group[:, None] == np.arange(n_groups)[None, :]
     played = members.T.astype(float) @ fit.games if n else np.zeros(n_groups)
     # A division nobody in it has played for yet has nothing to tie in: not flagged.
@@ -195,6 +200,20 @@ def watch_list(fit, results: Iterable[Result] | None = None, *, method: str = "a
         suggestions=tuple(suggestions),
         held_not_shown=not_shown,
     )
+
+
+def division_shares(fit, solver) -> np.ndarray:
+    """Each division's linked share: how much of its gap to the rest the games pin down (``LINK_REFERENCE``).
+
+    The gap is the division's average strength minus the rest's (``contrasts.gap_contrasts``);
+    the share compares the games' precision about it with a fixed reference prior
+    (``contrasts.linked_shares``), never with the Division spread or the Skill spread.
+    """
+    if len(fit.group_names) < 2:
+        return np.ones(len(fit.group_names))
+    gaps = gap_contrasts(fit)
+    var, _ = gaps.variance(solver)
+    return linked_shares(var, gaps.prior, LINK_REFERENCE)
 
 
 def _recent_cross_games(fit, results: Iterable[Result]) -> np.ndarray:

@@ -170,26 +170,106 @@ def strength_variance(pairs: Pairs, r, prior_sd: float, groups=None, levels: Lev
 DENSE_CONTRASTS = 1000  # players up to which a dense Cholesky factor is quicker than a sparse LU
 
 
-def contrast_variance(H, coefficients) -> np.ndarray:
+def contrast_variance(H, coefficients, dense_limit: int | None = None) -> np.ndarray:
     """``c_i^T H^-1 c_i`` for each row ``c_i`` of ``coefficients`` (exact).
 
     ``H`` is the SPD Hessian (n x n, sparse or dense), ``coefficients`` an
     (m, n) array or sparse matrix, e.g. rows ``e_a - e_b`` for the variance of
-    a strength difference.  Dense Cholesky up to ``DENSE_CONTRASTS`` players
-    (``|L^-1 c|^2``), above that a sparse LU of ``H`` (SuperLU, symmetric mode).
+    a strength difference.  Dense Cholesky up to ``dense_limit`` unknowns
+    (None: ``DENSE_CONTRASTS``; ``touched_last_variance``), above that a sparse
+    LU of ``H`` (SuperLU, symmetric mode).
     """
     C = sp.csr_matrix(coefficients) if sp.issparse(coefficients) else np.atleast_2d(np.asarray(coefficients, float))
     n, m = H.shape[0], C.shape[0]
     if m == 0 or n == 0:
         return np.zeros(m)
+    if n <= (DENSE_CONTRASTS if dense_limit is None else dense_limit):
+        return touched_last_variance(H, C)
     rhs = C.T.toarray() if sp.issparse(C) else C.T
-    if n <= DENSE_CONTRASTS:
-        dense = H.toarray() if sp.issparse(H) else np.asarray(H, float)
-        y = sla.solve_triangular(sla.cholesky(dense, lower=True), rhs, lower=True, check_finite=False)
-        return np.einsum("ij,ij->j", y, y)
     lu = spla.splu(sp.csc_matrix(H), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                    options={"SymmetricMode": True})
     return np.einsum("ij,ij->j", rhs, lu.solve(rhs))
+
+
+def touched_last_variance(H, C) -> np.ndarray:
+    """``c_i^T H^-1 c_i`` by a dense Cholesky factor with the unknowns the rows touch ordered last.
+
+    The untouched unknowns with few neighbours are eliminated sparsely first
+    (``schur_onto``: exact, the inverse of the Schur complement is ``H^-1`` on
+    the rest).  With ``P S P^T = L L^T`` and the touched unknowns last,
+    ``L^-1 P c`` is zero above the last ``p`` rows, so only the trailing
+    ``p x p`` block of ``L`` is solved with (``p^2 m`` instead of ``n^2 m``).
+    """
+    C = sp.csc_matrix(C)
+    C.eliminate_zeros()
+    touched = np.diff(C.indptr) > 0  # the columns with a nonzero
+    if not touched.any():
+        return np.zeros(C.shape[0])
+    if sp.issparse(H):
+        H, kept = schur_onto(H, touched)
+        C, touched = C[:, kept], touched[kept]
+    n, p = H.shape[0], int(touched.sum())
+    order = np.r_[np.flatnonzero(~touched), np.flatnonzero(touched)]
+    if sp.issparse(H):
+        where = np.empty(n, np.int64)
+        where[order] = np.arange(n)
+        coo = H.tocoo()
+        dense = sp.csr_matrix((coo.data, (where[coo.row], where[coo.col])), shape=H.shape).toarray()
+    else:
+        dense = np.asarray(H, float)[np.ix_(order, order)]
+    # dense is symmetric, so its transpose is the same matrix in Fortran order: factored in place, no copy
+    factor, info = lapack.dpotrf(dense.T, lower=1, clean=0, overwrite_a=1)
+    if info != 0:
+        raise np.linalg.LinAlgError("Hessian is not positive definite")
+    # |L_PP^-1 c|^2 from the triangle's inverse (p^3 / 3): the rows of C hold a few nonzeros each
+    inverse, info = lapack.dtrtri(np.tril(factor[n - p:, n - p:]), lower=1, overwrite_c=1)
+    if info != 0:
+        raise np.linalg.LinAlgError("Hessian inverse failed")
+    y = sp.csr_matrix(C[:, order[n - p:]]) @ inverse.T
+    return np.einsum("ij,ij->i", y, y)
+
+
+SPARSE_DEGREE = 16  # unknowns with at most this many neighbours are eliminated before the dense factor
+ELIMINATION_ROUNDS = 30
+
+
+def schur_onto(H, keep) -> tuple[sp.csr_matrix, np.ndarray]:
+    """The Schur complement of sparse SPD ``H`` onto ``keep`` and the unknowns of few neighbours left uneliminated.
+
+    Round by round, the unknowns outside ``keep`` with at most ``SPARSE_DEGREE``
+    neighbours, no two of them neighbours (each chosen where it has the fewest
+    neighbours among the candidates around it, ties broken by a fixed scattered
+    order of the indices, so a chain loses a third of its links a round), are
+    eliminated at once: ``S = H_RR - H_RI diag(H_II)^-1 H_IR`` (``H_II`` is
+    diagonal).  Exact: ``S^-1 = (H^-1)_RR``.  Returns ``S`` and the indices of
+    its unknowns in ``H``.  Measured on the tennis walk's last steps: 2,148
+    unknowns to 903, the variances within 1e-15 relative.
+    """
+    H = sp.csr_matrix(H, copy=True)
+    H.sum_duplicates()
+    kept = np.arange(H.shape[0])
+    keep = np.asarray(keep, bool)
+    big = np.iinfo(np.int64).max
+    for _ in range(ELIMINATION_ROUNDS):
+        n = H.shape[0]
+        count = np.diff(H.indptr)
+        row = np.repeat(np.arange(n), count)
+        degree = count - np.bincount(row[H.indices == row], minlength=n)  # neighbours, the diagonal not counted
+        scattered = (np.arange(n, dtype=np.int64) * 2654435761) % 4294967296  # ties broken by a scattered order
+        rank = np.where(~keep & (degree <= SPARSE_DEGREE), degree.astype(np.int64) * 4294967296 + scattered, big)
+        around = np.where(H.indices == row, big, rank[H.indices])
+        lowest = np.full(n, big)
+        np.minimum.at(lowest, row, around)
+        chosen = (rank < big) & (rank < lowest)
+        if not chosen.any():
+            break
+        rest = ~chosen
+        H_ri = H[rest][:, chosen]
+        H = (H[rest][:, rest] - H_ri @ sp.diags(1.0 / H.diagonal()[chosen]) @ H_ri.T).tocsr()
+        keep, kept = keep[rest], kept[rest]
+        if chosen.sum() < 0.01 * n:
+            break
+    return H, kept
 
 
 def difference_coefficients(a, b, n: int) -> sp.csr_matrix:

@@ -4,13 +4,17 @@ Run by hand (not part of the test command):
 
     python tests/bench/bench_engine.py            # 5 k / 200, 50 k / 2 k, 1 M / 20 k
     python tests/bench/bench_engine.py --large    # adds 10 M / 100 k
+    python tests/bench/bench_engine.py --conditions idle   # only the machine as it is (default: idle, then busy)
 
 Every method solves the same problem on one native thread (no age decay, prior SD 1 log-odds,
 prior mean 0) and runs in its own child process, so that its peak memory
 (maximum resident set size) is its own.  Times are the median of --repeat
-runs.  Columns:
+runs.  Each size is measured idle and then with one core kept busy by another
+program (tests/bench/busy.py), every method under the same condition.  Columns:
 
-  raw->ratings±   this engine from raw match arrays: aggregate, fit, ± for everyone
+  raw->ratings±   this engine from raw match arrays: aggregate, fit, ± for everyone, the ±
+                  as shipped (``strength_variance``, the call the league fit makes: exact up to
+                  1,500 players, above that the two-level approximation corrected by exact probes)
   solve           this engine's MAP solve alone, from the aggregated pairs
   sklearn         scikit-learn LogisticRegression (the faster of lbfgs / newton-cg)
                   on the same aggregated pairs (rows e_i - e_j, C = s^2)
@@ -35,6 +39,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parents[1]))
 
+import busy  # noqa: E402
 from busy import timed  # noqa: E402
 from make_league import make_games  # noqa: E402
 
@@ -152,52 +157,65 @@ def measure(method, n_games, n_players, repeat, folder):
     return result
 
 
+def measure_size(n_games, n_players, args, folder) -> dict:
+    """Every method on one league size, each in its own process."""
+    res = {}
+    for method in METHODS:
+        if method == "choix" and (n_games > 50_000 or args.no_choix):
+            continue
+        if method in ("lbfgs", "newton-cg") and n_games > 1_000_000:
+            continue
+        res[method] = measure(method, n_games, n_players, args.repeat, folder)
+    return res
+
+
+def table_line(n_games, n_players, res) -> str:
+    """One row of the table: this engine, scikit-learn's faster solver, choix, the floor."""
+    ours = res["solve"]["ratings"]
+    sk = [m for m in ("lbfgs", "newton-cg") if m in res and res[m]["ratings"] is not None]
+    best = min(sk, key=lambda m: res[m]["seconds"]) if sk else None
+
+    def diff(m):
+        return np.max(np.abs(res[m]["ratings"] - ours)) * POINTS
+
+    line = (f"{n_games:>10,} {n_players:>8,} | {res['raw']['seconds']:>12.3f}s {res['raw']['peak_mb']:>8.0f} | "
+            f"{res['solve']['seconds']:>6.3f}s ")
+    if best:
+        line += (f"{res[best]['seconds']:>7.3f}s {best:>10} {res[best]['seconds'] / res['solve']['seconds']:>5.1f}x "
+                 f"{diff(best):>8.1e}p | ")
+    else:
+        line += f"{'-':>8} {'-':>10} {'-':>6} {'-':>9} | "
+    if "choix" in res and res["choix"]["ratings"] is not None:
+        line += (f"{res['choix']['seconds']:>6.2f}s {res['choix']['seconds'] / res['solve']['seconds']:>6.0f}x "
+                 f"{diff('choix'):>8.1e}p | ")
+    else:
+        line += f"{'-':>7} {'-':>7} {'-':>9} | "
+    return line + f"{res['floor']['seconds']:>6.3f}s {res['raw']['seconds'] / res['floor']['seconds']:>8.1f}x"
+
+
 def main():
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--large", action="store_true", help="also run 10 M matches / 100 k players")
     parser.add_argument("--repeat", type=int, default=3, help="runs per measurement (median is shown)")
     parser.add_argument("--no-choix", action="store_true", help="leave choix out (it takes minutes at 50 k matches)")
     parser.add_argument("--child", nargs=5, help=argparse.SUPPRESS)
+    busy.add_argument(parser)
     args = parser.parse_args()
     if args.child:
         method, n_games, n_players, repeat, out = args.child
         return child(method, int(n_games), int(n_players), int(repeat), out)
 
     sizes = SIZES + ([LARGE] if args.large else [])
-    header = (f"{'matches':>9} {'players':>8} | {'raw->ratings±':>13} {'peak MB':>8} | {'solve':>7} "
-              f"{'sklearn':>8} {'(solver)':>10} {'ratio':>6} {'max diff':>9} | {'choix':>7} {'ratio':>6} "
-              f"{'max diff':>9} | {'floor':>7} {'raw/floor':>9}")
+    header = (f"{'condition':>14} {'matches':>10} {'players':>8} | {'raw->ratings±':>13} {'peak MB':>8} | "
+              f"{'solve':>7} {'sklearn':>8} {'(solver)':>10} {'ratio':>6} {'max diff':>9} | {'choix':>7} "
+              f"{'ratio':>7} {'max diff':>9} | {'floor':>7} {'raw/floor':>9}")
     print(header)
     print("-" * len(header))
     with tempfile.TemporaryDirectory() as folder:
-        for n_games, n_players in sizes:
-            res = {}
-            for method in METHODS:
-                if method == "choix" and (n_games > 50_000 or args.no_choix):
-                    continue
-                if method in ("lbfgs", "newton-cg") and n_games > 1_000_000:
-                    continue
-                res[method] = measure(method, n_games, n_players, args.repeat, folder)
-            ours = res["solve"]["ratings"]
-            sk = [m for m in ("lbfgs", "newton-cg") if m in res and res[m]["ratings"] is not None]
-            best = min(sk, key=lambda m: res[m]["seconds"]) if sk else None
-
-            def diff(m):
-                return np.max(np.abs(res[m]["ratings"] - ours)) * POINTS
-
-            line = (f"{n_games:>9,} {n_players:>8,} | {res['raw']['seconds']:>12.3f}s {res['raw']['peak_mb']:>8.0f} | "
-                    f"{res['solve']['seconds']:>6.3f}s ")
-            if best:
-                line += (f"{res[best]['seconds']:>7.3f}s {best:>10} {res[best]['seconds'] / res['solve']['seconds']:>5.1f}x "
-                         f"{diff(best):>8.1e}p | ")
-            else:
-                line += f"{'-':>8} {'-':>10} {'-':>6} {'-':>9} | "
-            if "choix" in res and res["choix"]["ratings"] is not None:
-                line += f"{res['choix']['seconds']:>6.2f}s {res['choix']['seconds'] / res['solve']['seconds']:>5.1f}x {diff('choix'):>8.1e}p | "
-            else:
-                line += f"{'-':>7} {'-':>6} {'-':>9} | "
-            line += f"{res['floor']['seconds']:>6.3f}s {res['raw']['seconds'] / res['floor']['seconds']:>8.1f}x"
-            print(line, flush=True)
+        for condition in busy.conditions(args.conditions):
+            for n_games, n_players in sizes:
+                res = measure_size(n_games, n_players, args, folder)
+                print(f"{condition:>14} {table_line(n_games, n_players, res)}", flush=True)
     print("\nratio = that method's time / this engine's solve; max diff = largest rating difference in points")
 
 

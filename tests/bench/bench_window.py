@@ -18,7 +18,10 @@ import shutil
 import subprocess
 import sys
 import tempfile
+import threading
 import time
+import traceback
+from collections import Counter
 from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
@@ -29,6 +32,7 @@ import busy  # noqa: E402
 from make_league import make_league_workbook  # noqa: E402
 
 TICK_MS = 10
+SETTLE_S = 1.0  # the ticker keeps going this long after the tables are full (What changed draws after a pause)
 
 
 class Ticker:
@@ -36,26 +40,136 @@ class Ticker:
 
     def __init__(self, root):
         self.root, self.gaps, self.last, self.ident = root, [], time.perf_counter(), None
+        self.cpu: list[tuple[float, float]] = []  # per gap: (window thread's, whole process's processor time)
+        self.last_cpu = (time.thread_time(), time.process_time())
 
     def start(self) -> None:
         self.last = time.perf_counter()
+        self.last_cpu = (time.thread_time(), time.process_time())
         self.ident = self.root.after(TICK_MS, self.tick)
 
     def tick(self) -> None:
-        now = time.perf_counter()
+        now, cpu = time.perf_counter(), (time.thread_time(), time.process_time())
         self.gaps.append(now - self.last)
-        self.last = now
+        self.cpu.append((cpu[0] - self.last_cpu[0], cpu[1] - self.last_cpu[1]))
+        self.last, self.last_cpu = now, cpu
         self.ident = self.root.after(TICK_MS, self.tick)
+
+    def busiest(self) -> str:
+        """The largest processor time spent by this process in one gap: what the load on the machine cannot explain."""
+        thread = max((c[0] for c in self.cpu), default=0.0)
+        process = max((c[1] for c in self.cpu), default=0.0)
+        return f"most processor time in one gap: window thread {1000 * thread:.0f} ms, window process {1000 * process:.0f} ms"
 
     def stop(self) -> None:
         self.root.after_cancel(self.ident)
 
 
-def one_run(path: Path, players: int) -> str:
+class Watchdog(threading.Thread):
+    """While the event loop is late by more than ``late_ms``, samples what the window's thread is running.
+
+    Every 5 ms it looks at the ticker; during a long gap it takes the window thread's stack (every thread's
+    innermost project frame), so that ``--why`` can say which code held the event loop up.
+    """
+
+    def __init__(self, ticker: Ticker, late_ms: float = 40.0):
+        super().__init__(daemon=True)
+        self.ticker, self.late, self.main = ticker, late_ms / 1000, threading.main_thread().ident
+        self.samples: Counter = Counter()
+        self.stopped = threading.Event()
+
+    def run(self) -> None:
+        while not self.stopped.wait(0.005):
+            if time.perf_counter() - self.ticker.last > self.late:
+                frames = sys._current_frames()
+                for ident, frame in frames.items():
+                    if ident == threading.get_ident():
+                        continue
+                    who = "window" if ident == self.main else "other"
+                    self.samples[(who, where(frame))] += 1
+
+    def report(self, most: int = 12) -> str:
+        lines = [f"    {n * 5:>6} ms  {who:>6}  {at}" for (who, at), n in self.samples.most_common(most)]
+        return "  sampled while the event loop was late (ms ~ 5 x samples):\n" + "\n".join(lines)
+
+
+class Callbacks:
+    """Times every Tcl-to-Python callback of the window (tkinter.CallWrapper): the longest ones, by name."""
+
+    def __init__(self):
+        import tkinter
+
+        self.longest: list[tuple[float, float, str]] = []  # (window thread's processor time, wall, name)
+        self.original = tkinter.CallWrapper.__call__
+        original, record = self.original, self.longest
+
+        def timed(wrapper, *args):
+            wall, cpu = time.perf_counter(), time.thread_time()
+            try:
+                return original(wrapper, *args)
+            finally:
+                record.append((time.thread_time() - cpu, time.perf_counter() - wall, callback_name(wrapper.func)))
+
+        tkinter.CallWrapper.__call__ = timed
+
+    def close(self) -> None:
+        import tkinter
+
+        tkinter.CallWrapper.__call__ = self.original
+
+    def report(self, most: int = 8) -> str:
+        lines = [f"    {1000 * cpu:6.1f} ms processor, {1000 * wall:6.1f} ms wall  {name}"
+                 for cpu, wall, name in sorted(self.longest, reverse=True)[:most]]
+        return "  longest callbacks of the window (processor time of its thread):\n" + "\n".join(lines)
+
+
+def callback_name(fn, depth: int = 0) -> str:
+    """The innermost named function a callback wraps (after() and the Scheduler wrap it in closures)."""
+    for cell in getattr(fn, "__closure__", None) or ():
+        inner = cell.cell_contents
+        if callable(inner) and depth < 4 and getattr(inner, "__qualname__", "") != "CallWrapper":
+            return callback_name(inner, depth + 1)
+    return getattr(fn, "__qualname__", repr(fn))
+
+
+def where(frame) -> str:
+    """The innermost frames of a stack, from the project first (else the innermost of all)."""
+    stack = traceback.extract_stack(frame)
+    ours = [f for f in stack if "secretary" in f.filename and "bench" not in f.filename]
+    tail = (ours or stack)[-2:]
+    inner = stack[-1]
+    text = " < ".join(f"{Path(f.filename).name}:{f.lineno} {f.name}" for f in reversed(tail))
+    return text if inner in tail else f"{Path(inner.filename).name}:{inner.lineno} {inner.name} < {text}"
+
+
+def run_until(root, predicate, timeout: float) -> None:
+    """Run the real event loop (``mainloop``, as the window does) until ``predicate()`` holds."""
+    deadline, failed = time.monotonic() + timeout, []
+
+    def look() -> None:
+        if predicate() or time.monotonic() > deadline:
+            root.quit()
+        else:
+            root.after(20, look)
+
+    def report(kind, value, trace) -> None:
+        failed.append(value)
+        root.quit()
+
+    root.report_callback_exception = report
+    root.after(20, look)
+    root.mainloop()
+    if failed:
+        raise RuntimeError(f"a callback of the window failed: {failed[0]!r}")
+    if not predicate():
+        raise RuntimeError(f"timed out after {timeout} s")
+
+
+def one_run(path: Path, players: int, why: float | None = None) -> str:
     import tkinter as tk
 
     from secretary.gui.app import App
-    from tests.gui.helpers import RecordingDialogs, settle
+    from tests.gui.helpers import RecordingDialogs
 
     root = tk.Tk()
     app = App(root, dialogs=RecordingDialogs())
@@ -63,30 +177,41 @@ def one_run(path: Path, players: int) -> str:
     root.update()
     ticker = Ticker(root)
     ticker.start()
+    watchdog = Watchdog(ticker, why or 40.0)
+    callbacks = Callbacks() if why else None
+    if why:
+        watchdog.start()
     start = time.perf_counter()
     app.open_workbook(path)
-    settle(app, 1800)
+    run_until(root, lambda: app.idle, 1800)
     checked = time.perf_counter()
     if not app.session.checked or app.session.errors:
         raise RuntimeError(app.status.cget("text"))
     app.update()
-    settle(app, 3600)
+    run_until(root, lambda: app.idle, 3600)
     done = time.perf_counter()
+    run_until(root, lambda: time.perf_counter() > done + SETTLE_S, 60)  # what is drawn after the tables too
     ticker.stop()
+    watchdog.stopped.set()
+    if callbacks is not None:
+        callbacks.close()
     if not app.session.updated or len(app.ratings.table.shown_values()) != players:
         raise RuntimeError(app.status.cget("text"))
     app.worker.cancel.set()
     app.worker.join(300)
     app.close()
     worst = sorted(ticker.gaps)[-3:]
-    return (f"check {checked - start:6.1f}s  update {done - checked:6.1f}s | {len(ticker.gaps):>6} ticks of "
+    line = (f"check {checked - start:6.1f}s  update {done - checked:6.1f}s | {len(ticker.gaps):>6} ticks of "
             f"{TICK_MS} ms, largest gaps {', '.join(f'{1000 * g:.0f}' for g in reversed(worst))} ms")
+    return line + f"; {ticker.busiest()}" + ("\n" + watchdog.report() + "\n" + callbacks.report() if why else "")
 
 
 def main():
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--rows", type=int, default=100_000)
     parser.add_argument("--players", type=int, default=2_000)
+    parser.add_argument("--why", type=float, metavar="MS", nargs="?", const=40.0,
+                        help="also say which code ran while the event loop was more than MS (40) ms late")
     busy.add_argument(parser)
     args = parser.parse_args()
     if not os.environ.get("DISPLAY"):
@@ -101,7 +226,7 @@ def main():
         for condition in busy.conditions(args.conditions):
             path = Path(tmp) / "big.xlsx"
             shutil.copyfile(source, path)
-            print(f"{condition:>14} | {one_run(path, args.players)}", flush=True)
+            print(f"{condition:>14} | {one_run(path, args.players, args.why)}", flush=True)
 
 
 if __name__ == "__main__":

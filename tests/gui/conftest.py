@@ -100,12 +100,14 @@ def main_window(tk_errors, screen_name: str | None = None):
     root = tk.Tk(screenName=screen_name)
     window = App(root, dialogs=RecordingDialogs())
     window.errors = tk_errors
-    root.update()
-    yield window
-    window.worker.cancel.set()
-    window.worker.join(300)
-    if not window.closed:
-        window.close()
+    try:
+        root.update()
+        yield window
+    finally:  # a failing test closes its window too
+        window.worker.cancel.set()
+        window.worker.join(300)
+        if not window.closed:
+            window.close()
     assert not [t for t in threading.enumerate() if t.name.startswith("secretary-")], "a worker thread was left"
 
 
@@ -114,6 +116,24 @@ def app(display, tk_errors):
     """The real main window with recorded dialogs."""
     with main_window(tk_errors) as window:
         yield window
+
+
+@pytest.fixture(scope="session")
+def demo_made(tmp_path_factory) -> Path:
+    """The command line's demo (first ratings, then the new week: two updates), made once for the session."""
+    from secretary.pipeline import run_demo
+
+    folder = tmp_path_factory.mktemp("demo") / "demo"
+    run_demo(folder)
+    return folder
+
+
+@pytest.fixture
+def demo_league(demo_made, tmp_path) -> Path:
+    """This test's own copy of the updated demo league's folder (the workbook is ``league.xlsx`` in it)."""
+    folder = tmp_path / "league"
+    shutil.copytree(demo_made, folder)
+    return folder
 
 
 @pytest.fixture

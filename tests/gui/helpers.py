@@ -145,10 +145,11 @@ def on_screen(widget, screen) -> bool:
 CELL_PADDING = 8  # pixels a Treeview cell keeps around its text (measured under Xvfb: 4 each side)
 
 
-def table_clipped(table) -> list[str]:
+def table_clipped(table, keys=None) -> list[str]:
     """Each heading or cell of a shown table (widgets.Table) cut short: a column narrower than its heading
     (in the heading font, with its padding) or its widest value (in the body font); a column ending right of
-    the table's visible width; rows that are not all in sight (the table's height in rows, and its box)."""
+    the table's visible width; rows that are not all in sight (the table's height in rows, and its box).
+    With ``keys``: only whether those columns are as wide as their headings and values."""
     from tkinter import font as tkfont
 
     tree = table.tree
@@ -162,8 +163,10 @@ def table_clipped(table) -> list[str]:
         heading = tree.heading(key, "text")
         values = [str(tree.set(item, key)) for item in tree.get_children()]
         need = max([bold.measure(heading)] + [body.measure(v) for v in values]) + CELL_PADDING
-        if width < need:
+        if width < need and (keys is None or key in keys):
             cut.append(f"column {heading!r}: {width} < {need} pixels")
+    if keys is not None:
+        return cut
     if right > tree.winfo_width() + 1:
         cut.append(f"the columns take {right} pixels, {tree.winfo_width()} shown")
     rows = len(tree.get_children())
@@ -171,3 +174,14 @@ def table_clipped(table) -> list[str]:
         cut.append(f"{rows} rows, {tree.cget('height')} in sight, {tree.winfo_height()} < "
                    f"{tree.winfo_reqheight()} pixels high")
     return cut
+
+
+def sheet_rows(path, sheet: str, first: str) -> list[dict]:
+    """The rows of a sheet's table whose heading row holds ``first``, as dictionaries (openpyxl)."""
+    import openpyxl
+
+    wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
+    rows = list(wb[sheet].iter_rows(values_only=True))
+    wb.close()
+    head = next(i for i, r in enumerate(rows) if first in r)
+    return [dict(zip(rows[head], r)) for r in rows[head + 1:]]

@@ -4,42 +4,18 @@ cell, and on a netbook's and a laptop's screen every player's panel fits, with "
 from __future__ import annotations
 
 import re
-import shutil
-
-import openpyxl
-import pytest
 
 from secretary.workbook import write
 from tests.gui.conftest import LAPTOP_SCREENS, main_window
-from tests.gui.helpers import clipped, settle
+from tests.gui.helpers import clipped, settle, sheet_rows
 
 DETAIL = re.compile(r"; (?:new this update; )?(\d+) weighted games \((\d+) doubles\), last played ")
 
 
-@pytest.fixture(scope="module")
-def demo_league(tmp_path_factory):
-    from secretary.pipeline import run_demo
-
-    folder = tmp_path_factory.mktemp("demo") / "demo"
-    run_demo(folder)
-    return folder
-
-
-def _rows(path, sheet: str, first: str) -> list[dict]:
-    """The rows of a sheet's table whose heading row holds ``first``, as dictionaries (openpyxl)."""
-    wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    rows = list(wb[sheet].iter_rows(values_only=True))
-    wb.close()
-    head = next(i for i, r in enumerate(rows) if first in r)
-    return [dict(zip(rows[head], r)) for r in rows[head + 1:]]
-
-
-def test_every_players_panel_gives_the_sheets_doubles_games_and_fits(display, demo_league, tmp_path, tk_errors):
-    folder = tmp_path / "league"
-    shutil.copytree(demo_league, folder)
-    path = folder / "league.xlsx"
-    sheet = {r["Player"]: r for r in _rows(path, "Ratings", write.DOUBLES_GAMES) if isinstance(r["Rank"], int)}
-    partnered = {r[k] for r in _rows(path, "Results", "Partner A") if r.get("Partner A")
+def test_every_players_panel_gives_the_sheets_doubles_games_and_fits(display, demo_league, tk_errors):
+    path = demo_league / "league.xlsx"
+    sheet = {r["Player"]: r for r in sheet_rows(path, "Ratings", write.DOUBLES_GAMES) if isinstance(r["Rank"], int)}
+    partnered = {r[k] for r in sheet_rows(path, "Results", "Partner A") if r.get("Partner A")
                  for k in ("Player A", "Partner A", "Player B", "Partner B")}
     # The sheet's count, against the Results sheet itself: a player is in a doubles row or has no doubles games.
     assert partnered and {n for n, r in sheet.items() if r[write.DOUBLES_GAMES] > 0} == partnered & set(sheet)

@@ -5,16 +5,12 @@ A widget is clipped when the room it got (``winfo_width``) is less than the room
 """
 from __future__ import annotations
 
-import shutil
-import threading
-import tkinter as tk
-
 import pytest
 
 from secretary.gui import views
 from secretary.workbook import schema
-from tests.gui.conftest import LAPTOP_SCREENS
-from tests.gui.helpers import TASKBAR, RecordingDialogs, clipped, on_screen, screenshot, settle, table_clipped, tabs_fit
+from tests.gui.conftest import LAPTOP_SCREENS, main_window
+from tests.gui.helpers import TASKBAR, clipped, on_screen, screenshot, settle, table_clipped, tabs_fit
 
 TITLE_BAR = 32
 
@@ -22,30 +18,18 @@ TITLE_BAR = 32
 SCREENS = LAPTOP_SCREENS
 
 
-@pytest.fixture(scope="module")
-def demo_league(tmp_path_factory):
-    """The command line's demo (two updates), made once for these tests."""
-    from secretary.pipeline import run_demo
-
-    folder = tmp_path_factory.mktemp("demo") / "demo"
-    run_demo(folder)
-    return folder
+def screen_window(tk_errors, display, screen):
+    """The main window on this screen of the session's display (screens 1 and 2 are ``SCREENS``)."""
+    return main_window(tk_errors, f"{display}.{SCREENS.index(screen) + 1}")
 
 
 @pytest.mark.parametrize("screen", SCREENS)
-def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo_league, tmp_path, tk_errors):
-    from secretary.gui.app import App
-
-    folder = tmp_path / "league"
-    shutil.copytree(demo_league, folder)
-    root = tk.Tk(screenName=f"{display}.{SCREENS.index(screen) + 1}")
-    app = App(root, dialogs=RecordingDialogs())
-    app.errors = tk_errors
-    try:
-        root.update()
+def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo_league, tk_errors):
+    with screen_window(tk_errors, display, screen) as app:
+        root = app.root
         assert root.winfo_width() <= screen[0]
         assert root.winfo_rooty() + root.winfo_height() <= screen[1] - TASKBAR - TITLE_BAR + 32
-        app.open_workbook(folder / "league.xlsx")
+        app.open_workbook(demo_league / "league.xlsx")
         settle(app, 300)
         assert app.session.updated and app.updated.changes  # the last update, shown
         size = f"{screen[0]}x{screen[1]}"
@@ -76,29 +60,17 @@ def test_the_window_fits_the_screen_and_nothing_is_clipped(screen, display, demo
             tree = app.ratings.table.tree
             assert sum(tree.column(c, "width") for c in tree["columns"]) <= tree.winfo_width() + 2
         assert all(b.cget("text")[3:] in (*views.STEPS, *sum(views.SHORT_STEPS, ())) for b in app.step_buttons)
-    finally:
-        app.worker.cancel.set()
-        app.worker.join(300)
-        if not app.closed:
-            app.close()
-    assert not [t for t in threading.enumerate() if t.name.startswith("secretary-")]
 
 
 LONG_FOLDER = "/home/a-secretary/Documents/League secretary demo/Harbourside and District Pool League/2026 spring"
 
 
 @pytest.mark.parametrize("screen", SCREENS)
-def test_long_messages_wrap_and_the_settings_dialog_fits(screen, display, demo_league, tmp_path, tk_errors):
+def test_long_messages_wrap_and_the_settings_dialog_fits(screen, display, demo_league, tk_errors):
     """The texts a secretary must read in full: a problem's detail, a long status line, every Settings message."""
-    from secretary.gui.app import App
-
-    folder = tmp_path / "league"
-    shutil.copytree(demo_league, folder)
-    root = tk.Tk(screenName=f"{display}.{SCREENS.index(screen) + 1}")
-    app = App(root, dialogs=RecordingDialogs())
-    app.errors = tk_errors
-    try:
-        app.open_workbook(folder / "league.xlsx")
+    with screen_window(tk_errors, display, screen) as app:
+        root = app.root
+        app.open_workbook(demo_league / "league.xlsx")
         settle(app, 300)
         app.notebook.select(app.problems.frame)
         tree = app.problems.table.tree
@@ -123,8 +95,3 @@ def test_long_messages_wrap_and_the_settings_dialog_fits(screen, display, demo_l
         assert on_screen(dialog.top, screen) and on_screen(dialog.save_button, screen)
         screenshot(dialog.top, f"gui-{screen[0]}x{screen[1]}-settings-messages")
         dialog.top.destroy()
-    finally:
-        app.worker.cancel.set()
-        app.worker.join(300)
-        if not app.closed:
-            app.close()

@@ -23,7 +23,7 @@ def updates():
 @pytest.fixture(scope="module")
 def second_pdf(updates, tmp_path_factory):
     update = updates[1]
-    # In one pool: with division levels Premier's five cup matches already tie it in, and nothing is flagged.
+    # In one pool; Premier, with its few cup matches, is weakly linked either way (linked share 0.47).
     watch = watch_list(fit_league(update.results, SETTINGS.replace(division_spread=0.0), players=players()),
                        update.results)
     path = tmp_path_factory.mktemp("pdf") / "notice.pdf"
@@ -158,11 +158,12 @@ def test_watch_lines_are_the_watch_lists_own_words_islands_and_more(updates, tmp
     island = [Result(day - dt.timedelta(days=k), "Cara Quill", "Dov Reed", 5, 2 + k % 3, "Second") for k in range(6)]
     results = (*update.results, *island)
     everyone = players() + [Player("Cara Quill", "Second"), Player("Dov Reed", "Second")]
-    watch = watch_list(fit_league(results, SETTINGS, players=everyone), results)
+    # Every division weakly linked (a threshold above their shares, 0.46-0.54): their held-back players are flagged.
+    watch = watch_list(fit_league(results, SETTINGS.replace(weakly_linked_below=0.6), players=everyone), results)
     (pool,) = watch.pools
     assert {"Cara Quill", "Dov Reed"} == set(pool.players)
     flagged = watch.flagged_players
-    assert flagged  # Premier is weakly linked in one pool: its held-back players are flagged
+    assert flagged
     extra = SUMMARY_PLAYERS + 3 - len(flagged)  # more flagged players than the summary names
     more = tuple(dataclasses.replace(flagged[0], name=f"Extra Player {k}") for k in range(max(extra, 0)))
     watch = dataclasses.replace(watch, held=(*watch.held, *more))

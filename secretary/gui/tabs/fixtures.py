@@ -1,11 +1,15 @@
 """The Fixtures tab: chances and fair races for the matches still to be played."""
 from __future__ import annotations
 
+from tkinter import font as tkfont
 from tkinter import ttk
 
 from secretary.gui import views
 from secretary.model.sentences import plural
 from secretary.gui.widgets import Table
+
+SIDES = ("a", "b")  # the Player A and Player B columns: a doubles side ("Ann Ash & Bea Bond") is long
+CELL_ROOM = 12  # pixels a cell keeps beside its text (a Treeview cell pads 4 each side)
 
 
 class FixturesTab:
@@ -19,9 +23,21 @@ class FixturesTab:
                            "Matches from the Fixtures sheet with each side's chances and the fair race.",
                            height=16)
         self.table.frame.pack(fill="both", expand=True)
+        tree = self.table.tree
+        self.side_widths = {key: (tree.column(key, "width"), tree.column(key, "minwidth")) for key in SIDES}
+
+    def _fit_sides(self, rows) -> None:
+        """Each side's column as wide as its widest name (both players of a doubles side), even if the table
+        must then scroll sideways: a name cut short could be someone else's."""
+        font = tkfont.nametofont("TkDefaultFont")
+        for index, key in enumerate(SIDES, start=1):
+            width, least = self.side_widths[key]
+            need = max((font.measure(r.shown[index]) + CELL_ROOM for r in rows), default=0)
+            self.table.tree.column(key, width=max(width, need), minwidth=max(least, need))
 
     def clear(self) -> None:
         self.summary.configure(text="Update the ratings to see the chances for the fixtures.")
+        self._fit_sides([])
         self.table.show([])
 
     def show(self, forecasts, latest=None) -> None:
@@ -35,4 +51,5 @@ class FixturesTab:
                     "closest to even; chances allow for how sure each rating is, and are estimates, not promises. "
                     "The handicap card (League menu) prints them.")
         self.summary.configure(text=text)
+        self._fit_sides(rows)
         self.table.show(rows)
