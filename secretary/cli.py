@@ -7,6 +7,7 @@ the details are in the log file named on screen).
 from __future__ import annotations
 
 import argparse
+import datetime as dt
 import os
 import sys
 import time
@@ -197,6 +198,11 @@ def cmd_notice(args) -> int:
     return EXIT_DONE
 
 
+def in_date_order(forecasts):
+    """Fixtures by date, then in sheet order for the same date; undated ones last, in sheet order."""
+    return sorted(forecasts, key=lambda fc: (fc.fixture.date is None, fc.fixture.date or dt.date.min, fc.fixture.row))
+
+
 def cmd_fixtures(args) -> int:
     from secretary.pipeline import run_fixtures
 
@@ -211,7 +217,7 @@ def cmd_fixtures(args) -> int:
     if past:
         print(f"Dated before the latest results ({long_date(latest)}), so marked past below: "
               f"{past} of the {len(forecasts)} fixtures.")
-    for fc in forecasts:
+    for fc in in_date_order(forecasts):
         f = fc.fixture
         note = fixture_note(fc, latest)
         print(f"  {f.label_a} v {f.label_b}: {f.label_a} {fc.race_chance:.0%} to win a race "

@@ -196,6 +196,29 @@ def test_fixtures_marks_the_fixtures_dated_before_the_latest_results(demo_copy):
     assert f"{latest.day} {latest:%B %Y}" in done.stdout
 
 
+def test_fixtures_are_listed_by_date_then_in_sheet_order(demo_copy):
+    """`secretary fixtures` on the real command line lists the fixtures by date, the same date in sheet order,
+    whatever order the secretary wrote them in (the order is worked out here from the sheet itself)."""
+    import datetime as dt
+
+    wb = openpyxl.load_workbook(demo_copy)
+    fixtures = wb["Fixtures"]
+    first = min(r[0] for r in fixtures.iter_rows(min_row=2, values_only=True) if isinstance(r[0], dt.datetime))
+    for row, weeks in ((2, 3), (3, 1), (4, 2), (5, 1), (6, 0)):  # out of order, with a tie (rows 3 and 5)
+        fixtures.cell(row, 1).value = first + dt.timedelta(weeks=weeks)
+    rows = [(r[0], k, f"{r[1]} v {r[2]}:") for k, r in enumerate(fixtures.iter_rows(min_row=2, values_only=True))
+            if r[1]]
+    wb.save(demo_copy)
+    wanted = [label for _, _, label in sorted(rows)]
+    assert wanted != [label for _, _, label in rows]  # the sheet is not in date order
+    command = [sys.executable, "-m", "secretary.cli"]
+    assert subprocess.run(command + ["update", str(demo_copy)], capture_output=True).returncode == 0
+    done = subprocess.run(command + ["fixtures", str(demo_copy)], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    listed = [ln.strip() for ln in done.stdout.splitlines() if " v " in ln and "fair race" in ln]
+    assert [ln[:len(w)] for ln, w in zip(listed, wanted)] == wanted and len(listed) == len(wanted)
+
+
 def test_output_closed_early_ends_quietly_not_as_a_bug(demo_copy):
     """`secretary fixtures ... | head -0`: the reader closes the pipe before reading. The command ends as
     Unix tools do (128 + SIGPIPE, nothing on stderr), never with "Something went wrong inside secretary"

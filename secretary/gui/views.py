@@ -292,14 +292,24 @@ PROBLEM_COLUMNS = (
 
 def problem_rows(problems: Sequence) -> list[Row]:
     """The Problems table: errors first, then warnings, each in sheet order."""
-    order = sorted(enumerate(problems), key=lambda ip: (not ip[1].is_error, ip[0]))
-    rows = []
-    for i, p in order:
-        word = "Error" if p.is_error else "Warning"
-        values = (word, p.sheet, p.row, p.column or "", p.found, p.problem, p.fix)
-        shown = tuple("" if v is None else str(v) for v in values)
-        rows.append(Row(str(i), values, shown, ("error" if p.is_error else "warning",)))
-    return rows
+    return [problem_row(i, problems[i]) for i in problem_order(problems)]
+
+
+def problem_order(problems: Sequence) -> list[int]:
+    """The problems' indices, errors first, then warnings, each in sheet order (``problem_row`` makes the rows).
+
+    Plain numbers, no pair per problem: 100,000 new tuples would set off the garbage collector's full passes.
+    """
+    errors = [i for i, p in enumerate(problems) if p.is_error]
+    return errors + [i for i, p in enumerate(problems) if not p.is_error]
+
+
+def problem_row(i: int, p) -> Row:
+    """Row ``i`` of the Problems table: problem ``p``."""
+    word = "Error" if p.is_error else "Warning"
+    values = (word, p.sheet, p.row, p.column or "", p.found, p.problem, p.fix)
+    shown = tuple("" if v is None else str(v) for v in values)
+    return Row(str(i), values, shown, ("error" if p.is_error else "warning",))
 
 
 def column_letter(number: int) -> str:
@@ -466,7 +476,7 @@ FIXTURE_COLUMNS = (
            stretch=True),
     Column("b", "Player B", "The second player (with Partner B, for doubles).", 16, stretch=True),
     Column("race", "Race", "Games each needs to win (the fixture's race, else the usual race).", 6),
-    Column("chance", "Chance A", "Player A's chance of winning the match at that race.", 7, True),
+    Column("chance", "Chance A", "Player A's chance (side A's, for doubles) of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
     Column("fair_chance", "Chance A (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
     Column("note", "Forecast note", "A past fixture (dated before the latest results), or where the chance could "

@@ -83,7 +83,9 @@ class Table:
         heading_tips(self.tree, {c.key: c.tip + " Click to sort." for c in self.columns}, body_tip)
         if on_select is not None:
             self.tree.bind("<<TreeviewSelect>>", lambda e: self._selected(on_select), add="+")
-        self.rows: list[views.Row] = []
+        self._items: list = []  # what show() was given: rows, or items that ``_make`` turns into rows
+        self._make: Callable | None = None
+        self._made: list[views.Row] = []  # the rows made so far, in the items' order
         self.order: tuple[int, bool] | None = None
         self._pending: str | None = None
 
@@ -96,10 +98,27 @@ class Table:
     def filling(self) -> bool:
         return self._pending is not None
 
-    def show(self, rows: Sequence[views.Row]) -> None:
-        """Show these rows (in the chosen sort order, if any)."""
-        self.rows = list(rows)
+    def show(self, rows: Sequence, make: Callable[[object], views.Row] | None = None) -> None:
+        """Show these rows (in the chosen sort order, if any).
+
+        With ``make``, ``rows`` are items and ``make(item)`` is each one's row, made a batch at a time as the
+        rows go in: a table of 100,000 problems costs no turn of the event loop more than one batch (sorting
+        makes the rest at once).
+        """
+        self._items, self._make, self._made = list(rows), make, []
         self._refill()
+
+    @property
+    def rows(self) -> list[views.Row]:
+        """Every row of the table, in the order given (those not made yet are made now)."""
+        self._make_rows(len(self._items))
+        return self._made
+
+    def _make_rows(self, end: int) -> None:
+        if self._make is None:
+            self._made = self._items
+        else:
+            self._made.extend(map(self._make, self._items[len(self._made):end]))
 
     def sort_by(self, index: int) -> None:
         """Sort by a column; a second click on the same heading reverses the order."""
@@ -117,7 +136,7 @@ class Table:
         self._refill()
 
     def _refill(self) -> None:
-        rows = self.rows if self.order is None else views.sort_rows(self.rows, *self.order)
+        rows = None if self.order is None else views.sort_rows(self.rows, *self.order)  # None: as given
         self.scheduler.cancel(self._pending)
         self._pending = None
         children = self.tree.get_children()
@@ -125,11 +144,15 @@ class Table:
             self.tree.delete(*children)
         self._insert(rows, 0)
 
-    def _insert(self, rows: list[views.Row], start: int) -> None:
-        for row in rows[start:start + BATCH_ROWS]:
+    def _insert(self, rows: list[views.Row] | None, start: int) -> None:
+        end = start + BATCH_ROWS
+        if rows is None:
+            self._make_rows(end)
+        batch = (self._made if rows is None else rows)[start:end]
+        for row in batch:
             self.tree.insert("", "end", iid=row.iid, values=row.shown, tags=row.tags)
-        if start + BATCH_ROWS < len(rows):
-            self._pending = self.scheduler.later(1, lambda: self._insert(rows, start + BATCH_ROWS))
+        if end < len(self._items):
+            self._pending = self.scheduler.later(1, lambda: self._insert(rows, end))
         else:
             self._pending = None
 

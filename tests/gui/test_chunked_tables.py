@@ -109,3 +109,44 @@ def test_a_league_of_several_batches_shows_every_player_as_the_ratings_sheet_has
     assert len(sheet) == 2 * BATCH_ROWS + 50 and tree == sheet
     assert app.ratings.count.cget("text").startswith(f"{len(sheet)} of ")
     assert {v[0] for v in app.watch.tables[0].shown_values()} == set(app.updated.divisions)
+
+
+def test_rows_made_from_items_are_made_a_batch_at_a_time_and_the_table_ends_the_same(table):
+    root, t = table
+    given = rows(ROWS)
+    made = []
+
+    def make(k: int) -> views.Row:
+        made.append(k)
+        return given[k]
+
+    t.show(range(ROWS), make=make)
+    assert made == list(range(BATCH_ROWS))  # only the first batch so far
+    assert filled(root, t) == [r.shown for r in given] and made == list(range(ROWS))  # each made once
+    made.clear()
+    t.show(range(ROWS), make=make)
+    t.sort_by(2)  # sorting needs every row: the rest are made now, once
+    assert sorted(made) == list(range(ROWS))
+    assert filled(root, t) == [r.shown for r in sorted(given, key=lambda r: int(r.shown[2]))]
+
+
+def test_the_problems_tab_lists_every_problem_errors_first_from_rows_made_as_they_go_in(display, tk_errors):
+    from secretary.gui.tabs.problems import ProblemsTab
+    from secretary.model.records import Problem
+
+    root = tk.Tk()
+    style_window(root)
+    scheduler = Scheduler(root)
+    try:
+        problems = [Problem("warning" if k % 3 else "error", "Results", k + 2, "Games A", str(k), "odd", "fix it")
+                    for k in range(ROWS)]
+        tab = ProblemsTab(root, scheduler, lambda: None)
+        tab.show(problems)
+        shown = filled(root, tab.table)
+        rows_in_sheet = [str(k + 2) for k in range(ROWS)]
+        errors = [("Error", r) for r in rows_in_sheet[0::3]]
+        warnings = [("Warning", r) for k, r in enumerate(rows_in_sheet) if k % 3]
+        assert [(v[0], v[2]) for v in shown] == errors + warnings
+    finally:
+        scheduler.cancel_all()
+        root.destroy()

@@ -53,7 +53,8 @@ class ProblemsTab:
         self.summary.configure(text=views.problems_summary(self.problems))
         self.fix.configure(text=CHOOSE if self.problems else "")
         self.detail.configure(text="")
-        self.table.show(views.problem_rows(self.problems))
+        problems = self.problems  # rows made batch by batch as they go in (a big check holds no turn up)
+        self.table.show(views.problem_order(problems), make=lambda i: views.problem_row(i, problems[i]))
 
     def chosen(self, iid: str) -> None:
         problem = self.problems[int(iid)]
