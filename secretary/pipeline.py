@@ -253,8 +253,7 @@ def _update(path: Path, out, dry_run: bool, progress: Progress, cancel, now, *, 
         expect = stamp_read if target == path else None
         saved = graft.save_grafted(path, wb, expect=expect) if graft_it else save.save_workbook(wb, target, expect=expect)
         written, backup, reason = saved.path, saved.backup, saved.reason
-        wb = None  # the saved sheets' cells: freed before the printouts (hundreds of MB at a million rows)
-        gc.collect()  # their cells and sheets refer to each other: only the cycle collector frees them
+        wb = save.release(wb)  # the saved sheets' cells: freed before the printouts (hundreds of MB at a million rows)
         if companion:
             reason = (f"{path.name} holds content this tool cannot carry through a save unchanged "
                       f"({'; '.join(lost)}), so it was left untouched and the ratings went to {target.name}.")
