@@ -510,8 +510,8 @@ DIVISION_COLUMNS = (
     Column("players", "Players", "Players counted in the division.", 6, True),
     Column("level", "Against the rest", "The division's average rating minus the league's, in points.", 6, True),
     Column("linked", "How well linked", "How well games against other divisions tie the division in: 100% is "
-           "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (the share "
-           "of what is known about its level that comes from games against other divisions).", 9, True),
+           "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (how much "
+           "of its gap to the rest games against other divisions pin down; 50% = to about ±104 points).", 9, True),
     Column("cross", "Games against other divisions", "Games (older ones counting less) against other "
            "divisions.", 9, True),
     Column("linkers", "Players who link it", "How many of its players met someone from another division.", 9,
