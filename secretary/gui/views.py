@@ -476,7 +476,7 @@ FIXTURE_COLUMNS = (
            stretch=True),
     Column("b", "Player B", "The second player (with Partner B, for doubles).", 16, stretch=True),
     Column("race", "Race", "Games each needs to win (the fixture's race, else the usual race).", 6),
-    Column("chance", "Chance A", "Player A's chance of winning the match at that race.", 7, True),
+    Column("chance", "Chance A", "Player A's chance (side A's, for doubles) of winning the match at that race.", 7, True),
     Column("fair", "Fair race", "The handicap race closest to an even match (A's games - B's games).", 8),
     Column("fair_chance", "Chance A (fair)", "Player A's chance at the fair race: near 50% is even.", 9, True),
     Column("note", "Forecast note", "A past fixture (dated before the latest results), or where the chance could "
@@ -510,8 +510,8 @@ DIVISION_COLUMNS = (
     Column("players", "Players", "Players counted in the division.", 6, True),
     Column("level", "Against the rest", "The division's average rating minus the league's, in points.", 6, True),
     Column("linked", "How well linked", "How well games against other divisions tie the division in: 100% is "
-           "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (the share "
-           "of what is known about its level that comes from games against other divisions).", 9, True),
+           "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (how much "
+           "of its gap to the rest games against other divisions pin down; 50% = to about ±104 points).", 9, True),
     Column("cross", "Games against other divisions", "Games (older ones counting less) against other "
            "divisions.", 9, True),
     Column("linkers", "Players who link it", "How many of its players met someone from another division.", 9,

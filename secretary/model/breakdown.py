@@ -331,12 +331,32 @@ def _activity(previous: Sequence[Result], new: Sequence[Result], index: Mapping[
     played_all = np.zeros(len(index))
     last_before: dict[str, dt.date] = {}
     first_new: dict[str, dt.date] = {}
-    for rows, book, pick in ((previous, last_before, max), (new, first_new, min)):
-        for res in rows:
-            for name in res.players:
-                played_all[index[name]] += res.games_a + res.games_b
-                book[name] = pick(book.get(name, res.date), res.date)
+    names = list(index)
+    for rows, book, latest in ((previous, last_before, True), (new, first_new, False)):
+        seat, row = _seats(rows, index)
+        if not len(seat):
+            continue
+        games = np.array([res.games_a + res.games_b for res in rows], dtype=float)
+        played_all += np.bincount(seat, games[row], len(index))  # whole games: exact in any order
+        day = np.array([res.date.toordinal() for res in rows], dtype=np.int64)[row]
+        pick = np.full(len(index), -1 if latest else np.iinfo(np.int64).max, dtype=np.int64)
+        (np.maximum if latest else np.minimum).at(pick, seat, day)
+        for k in np.unique(seat).tolist():
+            book[names[k]] = dt.date.fromordinal(int(pick[k]))
     return played_all, last_before, first_new
+
+
+def _seats(rows: Sequence[Result], index: Mapping[str, int]) -> tuple[np.ndarray, np.ndarray]:
+    """Every seat of ``rows`` (each player of each row, as ``Result.players``): the player's index and the row's."""
+    a = [index[res.player_a] for res in rows]
+    b = [index[res.player_b] for res in rows]
+    doubles = [k for k, res in enumerate(rows) if res.partner_a and res.partner_b]
+    pa = [index[rows[k].partner_a] for k in doubles]
+    pb = [index[rows[k].partner_b] for k in doubles]
+    n = len(rows)
+    seat = np.array(a + b + pa + pb, dtype=np.int64)
+    row = np.concatenate([np.arange(n), np.arange(n), np.array(doubles * 2, dtype=np.int64)]).astype(np.int64)
+    return seat, row
 
 
 def _days_away(name: str, played: bool, last_before, first_new, t1) -> int | None:

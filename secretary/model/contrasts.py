@@ -214,7 +214,7 @@ def linked_shares(var: np.ndarray, prior: np.ndarray, reference: float) -> np.nd
     """
     with np.errstate(invalid="ignore", divide="ignore"):
         games = np.where((prior > 0) & (var > 0), 1.0 / var - 1.0 / prior, np.inf)
-    games = np.maximum(games, 0.0)
+    games = np.where(games * prior > 1e-9, games, 0.0)  # below rounding: no game reached the gap
     ref = reference**2
     return np.where(np.isinf(games), 1.0, games * ref / (1.0 + games * ref))
 

@@ -33,6 +33,8 @@ class LeagueFit:
 
     Strengths ``r`` and variances ``var`` are in natural log-odds; ``ratings``
     and ``sds`` convert them to points with the league's centre and scale.
+    With free division levels ``var`` and ``level_var`` are against the levels'
+    average, the scale's anchor (``common_mode``).
     """
 
     names: tuple[str, ...]
@@ -48,7 +50,7 @@ class LeagueFit:
     diagnosis: Diagnosis
     iterations: int
     level: np.ndarray = None  # each division's level, log-odds above the centre (0s in one pool)
-    level_var: np.ndarray = None  # its posterior variance (0 where the level is fixed)
+    level_var: np.ndarray = None  # its posterior variance against the levels' average (0 where fixed)
     levels: Levels | None = None  # the free levels' prior, None when the levels are fixed (one pool)
     starting_level: np.ndarray = None  # each division's starting level m_d, log-odds above the centre
     home_rule: tuple[str, ...] = ()  # how each player's home division was found (HOME_RULES)
@@ -111,13 +113,17 @@ class LeagueFit:
         Hessian at the optimum (``uncertainty.contrast_variance``).  With free
         division levels ``H`` is the joint Hessian over ``(r, L)``, in which a
         contrast over the strengths is ``[c, 0]`` (the levels' covariance is
-        inside ``H^-1``).
+        inside ``H^-1``), and the levels' average, which no game sees, is the anchor:
+        a row whose coefficients sum to ``k`` sheds ``k^2 tau^2 / D`` (``common_mode``;
+        nothing for a difference).
         """
         H = hessian(self.pairs, self.r, self.prior_sd, self.levels)
-        if self.levels is not None:
-            coefficients = sp.hstack([sp.csr_matrix(coefficients),
-                                      sp.csr_matrix((np.shape(coefficients)[0], len(self.levels.mean)))], "csr")
-        return contrast_variance(H, coefficients)
+        if self.levels is None:
+            return contrast_variance(H, coefficients)
+        total = np.asarray(coefficients.sum(axis=1)).ravel()
+        coefficients = sp.hstack([sp.csr_matrix(coefficients),
+                                  sp.csr_matrix((np.shape(coefficients)[0], len(self.levels.mean)))], "csr")
+        return np.maximum(contrast_variance(H, coefficients) - total**2 * common_mode(self.levels), 0.0)
 
     def starting_levels(self) -> dict[str, float]:
         """Each division's starting level in points above the centre (to refit with the same prior)."""
@@ -187,10 +193,28 @@ def _numbered(divisions: Sequence[str]) -> tuple[tuple[str, ...], np.ndarray]:
     return names, np.fromiter((number[d] for d in divisions), np.int64, len(divisions))
 
 
+def common_mode(levels: Levels | None) -> float:
+    """``tau^2 / D``: the prior variance of the levels' average, which no game can see (log-odds squared).
+
+    ``L ~ N(m, tau^2 I)`` splits into the levels against their average and the
+    average itself, independent, and the games only see the first: every
+    strength and every level carries the same ``tau^2 / D`` on top of what is
+    known against the divisions' average level, the scale's anchor.  The ±
+    shown is the one against that anchor (``Var(x - mean(L))``, exactly
+    ``Var(x) - tau^2 / D``), as the centre anchors one pool; differences, and
+    so every chance, are the same either way.  0 when the levels are fixed.
+    """
+    return levels.sd**2 / len(levels.mean) if levels is not None else 0.0
+
+
 def _variances(pairs: Pairs, r, prior_sd: float, group, free: Levels | None, D: int):
-    """The strengths' posterior variances and the free levels' (0s when the levels are fixed)."""
+    """The strengths' posterior variances and the free levels', against the levels' average (``common_mode``);
+    0s for the levels when they are fixed."""
     var = strength_variance(pairs, r, prior_sd, group, free)
-    return (var[:len(r)], var[len(r):]) if free is not None else (var, np.zeros(D))
+    if free is None:
+        return var, np.zeros(D)
+    anchored = np.maximum(var - common_mode(free), 0.0)
+    return anchored[:len(r)], anchored[len(r):]
 
 
 def fit_league(

@@ -108,48 +108,64 @@ def tune(
     levels = any(len(w.division_names) > 1 for w in walks)
     scan = tuple(division_spreads) if levels else ()
     total = 1 + len(half_lives) * len(spreads) + len(scan) + max(0, int(refine))
-    walked = [0]
+    walker = _Walker(walks, settings, total, progress, cancel)
+    current = _key(getattr(settings, f) for f in FIELDS)
+    start = _coarse_start(walker, current, half_lives, spreads, scan)
+    old = walker.score(*current)
+    factors = (math.sqrt(_ratio([x for x in half_lives if x > 0])), math.sqrt(_ratio(spreads)),
+               math.sqrt(_ratio([x for x in scan if x > 0])) if levels else None)
+    _refine(walker.score, start, walker.walked, walker.walked[0] + max(0, int(refine)), factors)
+    if progress is not None:
+        progress(total, total)
+    scores = walker.scores
+    key = min(scores, key=scores.get)
+    if scores[key] >= old:
+        return Tuning(settings, settings, old, old, tuple(walker.tried))
+    return Tuning(settings, settings.replace(**dict(zip(FIELDS, key))), old, scores[key], tuple(walker.tried))
 
-    def mean_score(key, predictive: bool) -> float:
-        if cancel is not None and cancel.is_set():
+
+class _Walker:
+    """Walks the walks at trial settings, counts the walks for ``progress`` and keeps every predictive score."""
+
+    def __init__(self, walks: list[Walk], settings: Settings, total: int, progress, cancel):
+        self.walks, self.settings, self.total, self.progress, self.cancel = walks, settings, total, progress, cancel
+        self.walked = [0]  # shared with _refine, which stops at its budget
+        self.scores: dict[tuple, float] = {}
+        self.tried: list[tuple[float, float, float, float]] = []
+
+    def mean_score(self, key, predictive: bool) -> float:
+        """The mean score over the walks at the settings ``key`` (point chances unless ``predictive``)."""
+        if self.cancel is not None and self.cancel.is_set():
             raise Cancelled("Tuning was cancelled; the settings were not changed.")
-        trial = settings.replace(**dict(zip(FIELDS, key)))
-        value = sum(evaluate(w, trial, cancel=cancel, predictive=predictive).score for w in walks) / len(walks)
-        walked[0] += 1
-        if progress is not None:
-            progress(min(walked[0], total), total)
+        trial = self.settings.replace(**dict(zip(FIELDS, key)))
+        value = sum(evaluate(w, trial, cancel=self.cancel, predictive=predictive).score
+                    for w in self.walks) / len(self.walks)
+        self.walked[0] += 1
+        if self.progress is not None:
+            self.progress(min(self.walked[0], self.total), self.total)
         return value
 
-    current = _key(getattr(settings, f) for f in FIELDS)
+    def score(self, *values) -> float:
+        """The predictive score at these settings (walked once per key)."""
+        key = _key(values)
+        if key not in self.scores:
+            self.scores[key] = self.mean_score(key, True)
+            self.tried.append((*key, self.scores[key]))
+        return self.scores[key]
+
+
+def _coarse_start(walker: _Walker, current, half_lives, spreads, scan) -> tuple:
+    """Where the local search starts: the best point score of the (half-life, spread) grid at the current
+    Division spread, then of the Division spreads ``scan`` at that grid point."""
     point: dict[tuple, float] = {}
     for key in (_key((h, sp, current[2])) for h in half_lives for sp in spreads):
         if key not in point:
-            point[key] = mean_score(key, False)
+            point[key] = walker.mean_score(key, False)
     best = min(point, key=point.get) if point else current
     for key in (_key((best[0], best[1], t)) for t in scan):
         if key not in point:
-            point[key] = mean_score(key, False)
-    scores: dict[tuple, float] = {}
-    tried: list[tuple[float, float, float, float]] = []
-
-    def score(*values) -> float:
-        key = _key(values)
-        if key not in scores:
-            scores[key] = mean_score(key, True)
-            tried.append((*key, scores[key]))
-        return scores[key]
-
-    old = score(*current)
-    start = min(point, key=point.get) if point else current
-    factors = (math.sqrt(_ratio([x for x in half_lives if x > 0])), math.sqrt(_ratio(spreads)),
-               math.sqrt(_ratio([x for x in scan if x > 0])) if levels else None)
-    _refine(score, start, walked, walked[0] + max(0, int(refine)), factors)
-    if progress is not None:
-        progress(total, total)
-    key = min(scores, key=scores.get)
-    if scores[key] >= old:
-        return Tuning(settings, settings, old, old, tuple(tried))
-    return Tuning(settings, settings.replace(**dict(zip(FIELDS, key))), old, scores[key], tuple(tried))
+            point[key] = walker.mean_score(key, False)
+    return min(point, key=point.get) if point else current
 
 
 def _refine(score, start, walked, budget: int, factors) -> None:

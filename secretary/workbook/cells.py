@@ -25,12 +25,14 @@ from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
 
 import defusedxml.ElementTree as SafeTree
+import numpy as np
 import python_calamine
 
 _FORMULA = re.compile(rb"<(?:\w+:)?f[\s>/]")
 _ERROR = re.compile(rb"""\st\s*=\s*["']e["']""")
 _CELL_OPEN = re.compile(rb"<(?:\w+:)?c\s([^<>]*)>\s*$")  # the cell tag right before a formula
 _REF = re.compile(rb"""(?:^|\s)r\s*=\s*["']([A-Z]{1,3})([0-9]+)["']""")
+_F, _E, _LT, _COLON, _QUOTE, _APOSTROPHE = b"fe<:\"'"
 _CHUNK = 1 << 22  # bytes of sheet XML searched at once
 _OVERLAP = 512  # bytes kept between chunks so that no marker is cut in two
 _MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
@@ -133,14 +135,28 @@ def _search(archive: zipfile.ZipFile, member: str) -> tuple[set[tuple[int, int]]
                 if not chunk:
                     break
                 text = tail + chunk
-                # The plain "in" tests skip the regular expressions on almost every chunk.
-                if formulas is not None and (b"<f" in text or b":f" in text):
+                # These tests skip the regular expressions on almost every chunk.
+                formula, maybe_error = _hints(text)
+                if formulas is not None and formula:
                     formulas = _formula_cells(text, len(tail), formulas)
-                error = error or ((b'"e"' in text or b"'e'" in text) and _ERROR.search(text) is not None)
+                error = error or (maybe_error and _ERROR.search(text) is not None)
                 tail = text[-_OVERLAP:]
     except KeyError:
         return None, True  # a sheet whose part is missing: leave it to openpyxl
     return formulas, error
+
+
+def _hints(text: bytes) -> tuple[bool, bool]:
+    """(``b"<f" in text or b":f" in text``, ``b'"e"' in text or b"'e'" in text``), by whole-array tests:
+    Python's search for a two-byte text starting with "<" crawls through sheet XML (a "<" every few
+    bytes: 20 ms for each 4 MB, 8 s for the Results sheet of a million rows)."""
+    data = np.frombuffer(text, np.uint8)
+    before_f = data[np.flatnonzero(data[1:] == _F)]
+    formula = bool(((before_f == _LT) | (before_f == _COLON)).any())
+    at_e = np.flatnonzero(data[1:-1] == _E)
+    before_e, after_e = data[at_e], data[at_e + 2]
+    error = bool(((before_e == after_e) & ((before_e == _QUOTE) | (before_e == _APOSTROPHE))).any())
+    return formula, error
 
 
 def _formula_cells(text: bytes, seen: int, found: set[tuple[int, int]]) -> set[tuple[int, int]] | None:

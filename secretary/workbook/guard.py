@@ -33,8 +33,12 @@ _ZIP_SIGNATURE = b"PK\x03\x04"
 _SAVE_AS = "save it as an Excel workbook (.xlsx) and try again"
 
 
-def check_readable(path: str | Path) -> Path:
-    """Refuse (with a plain reason) a file that is missing, not a workbook, locked, damaged or a zip bomb."""
+def check_readable(path: str | Path, *, checked: frozenset = frozenset()) -> Path:
+    """Refuse (with a plain reason) a file that is missing, not a workbook, locked, damaged or a zip bomb.
+
+    ``checked``: the `member_keys` of a workbook that passed these checks and whose parts this file copies
+    as stored (a grafted save); those parts' texts are not measured again (a million-row Results sheet
+    is 375 MB to inflate and scan), every size limit still counts them."""
     path = Path(path)
     if not path.exists():
         raise FileRefused(f"There is no file at {path}. Check the name and the folder.")
@@ -58,11 +62,25 @@ def check_readable(path: str | Path) -> Path:
         raise FileRefused(
             f"{path.name} is damaged or is not an Excel workbook. "
             f"Open it in your spreadsheet program, {_SAVE_AS}; or restore a backup copy.")
-    _check_zip(path)
+    _check_zip(path, checked)
     return path
 
 
-def _check_zip(path: Path) -> None:
+def member_keys(path: str | Path) -> frozenset:
+    """Each part of the package by its name, CRC and sizes: equal keys, the same part as stored (none when
+    the file cannot be read as a zip: then nothing is taken as checked)."""
+    try:
+        with zipfile.ZipFile(path) as archive:
+            return frozenset(map(_key, archive.infolist()))
+    except (zipfile.BadZipFile, OSError, ValueError, EOFError):
+        return frozenset()
+
+
+def _key(member: zipfile.ZipInfo) -> tuple:
+    return member.filename, member.CRC, member.file_size, member.compress_size
+
+
+def _check_zip(path: Path, checked: frozenset = frozenset()) -> None:
     try:
         with zipfile.ZipFile(path) as archive:
             members = archive.infolist()
@@ -80,8 +98,9 @@ def _check_zip(path: Path) -> None:
         _refuse_if_too_large(path, [m for m in members if m.filename not in tool], limits.unpacked, limits, "")
         _refuse_if_too_large(path, [m for m in members if m.filename in tool], limits.tool_unpacked, limits,
                              "the tool's own sheets of ")
-    if any(m.file_size >= oversized.SCAN_FROM for m in members):
-        oversized.refuse_oversized_texts(path, members, sheet_parts(path, members))
+    unseen = [m for m in members if _key(m) not in checked]
+    if any(m.file_size >= oversized.SCAN_FROM for m in unseen):
+        oversized.refuse_oversized_texts(path, unseen, sheet_parts(path, members))
 
 
 def _too_large(members, limit: int, limits: Limits) -> bool:

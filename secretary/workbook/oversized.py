@@ -21,6 +21,7 @@ CELL_CHARACTERS = 32767  # the most a cell holds (Excel's specifications and lim
 LONGEST_RUN = CELL_CHARACTERS * 10  # bytes of XML such a text can take at most
 SCAN_FROM = 16 * 1024 * 1024  # bytes unpacked: smaller parts are read as they are
 _CHUNK = 4 * 1024 * 1024
+_BLOCK = (LONGEST_RUN + 2) // 2  # any LONGEST_RUN + 1 bytes in a row hold a whole block of this size
 _LT = ord("<")
 _CELL = re.compile(rb'<c\b[^>]*?\br="([A-Z]{1,3})(\d{1,7})"')
 
@@ -49,22 +50,35 @@ def _first_long_run(path: Path, part: str) -> str | None:
     tail = b""  # the last bytes before the current run, to name its cell
     with zipfile.ZipFile(path) as archive, archive.open(part) as stream:
         while chunk := stream.read(_CHUNK):
-            starts = np.flatnonzero(np.frombuffer(chunk, np.uint8) == _LT)
-            if len(starts) == 0:
+            first = chunk.find(b"<")
+            if first < 0:
                 run += len(chunk)
                 if run > LONGEST_RUN:
                     return _cell(tail)
                 continue
-            gaps = np.diff(starts) - 1
-            if run + int(starts[0]) > LONGEST_RUN:
+            if run + first > LONGEST_RUN:
                 return _cell(tail)
-            if len(gaps) and int(gaps.max()) > LONGEST_RUN:
-                k = int(np.argmax(gaps > LONGEST_RUN))
-                return _cell(tail + chunk[:int(starts[k])])
-            last = int(starts[-1])
+            last = chunk.rfind(b"<")
+            if _may_hold_a_long_run(chunk, first, last):
+                starts = np.flatnonzero(np.frombuffer(chunk, np.uint8) == _LT)
+                gaps = np.diff(starts) - 1
+                if len(gaps) and int(gaps.max()) > LONGEST_RUN:
+                    k = int(np.argmax(gaps > LONGEST_RUN))
+                    return _cell(tail + chunk[:int(starts[k])])
             tail = (tail + chunk[:last])[-4096:] if last < 4096 else chunk[last - 4096:last]
             run = len(chunk) - last - 1
     return None
+
+
+def _may_hold_a_long_run(chunk: bytes, first: int, last: int) -> bool:
+    """Whether some run between two "<" of ``chunk[first:last + 1]`` may be longer than LONGEST_RUN.
+
+    A run of LONGEST_RUN + 1 bytes holds a whole block of ``_BLOCK`` bytes counted from ``first``, so
+    when every whole block holds a "<" there is none (one pass over the bytes instead of a list of
+    every "<", a few a line)."""
+    data = np.frombuffer(chunk, np.uint8, count=last + 1 - first, offset=first)
+    blocks = len(data) // _BLOCK
+    return blocks > 0 and not (data[:blocks * _BLOCK].reshape(blocks, _BLOCK) == _LT).any(axis=1).all()
 
 
 def _cell(before: bytes) -> str:

@@ -208,8 +208,9 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
     SettingSpec("paper", "Paper", "choice",
                 "The paper size of the printed notice board.", choices=("A4", "Letter")),
     SettingSpec("weakly_linked_below", "Weakly linked below", "number",
-                "A division is on the watch list when less than this share (0 to 1) of its "
-                "level is pinned down by games against other divisions.", 0, 1),
+                "A division is on the watch list when its games against other divisions pin its "
+                "level against the rest less well than this share (0 to 1; 0.5 = to about "
+                "±104 points).", 0, 1),
     SettingSpec("held_z", "Held back from", "number",
                 "How surprising (in standard deviations) a player's results must be before "
                 "the watch list says the starting assumption is holding them back.", 0.1, 10,

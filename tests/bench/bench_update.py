@@ -16,6 +16,7 @@ its peak memory, the maximum resident set size, is its own):
              with the native thread limit the command line sets; forced, as
              `secretary update --force` (with nothing new an update writes nothing)
   stages     where the update's time goes (from its progress callback)
+  cpu        the update's own processor time (time.process_time in its process)
 
 once with the machine as it is ("idle") and once with one core kept busy by
 another program (tests/bench/busy.py); ratios are from the same condition.
@@ -57,13 +58,13 @@ else:
     limit_native_threads()  # as the command line does
     from secretary.pipeline import run_update
     marks = []
-    start = time.perf_counter()
+    start, cpu = time.perf_counter(), time.process_time()
     # force: the copy was updated before with these very rows, and an update with nothing new writes nothing
     run_update(Path(sys.argv[2]), force=True,
                progress=lambda stage, fraction: marks.append((stage, time.perf_counter())))
     end = time.perf_counter()
     stages = {a[0]: b[1] - a[1] for a, b in zip(marks, marks[1:] + [("end", end)])}
-    print(json.dumps({"seconds": end - start, "stages": stages}))
+    print(json.dumps({"seconds": end - start, "cpu": time.process_time() - cpu, "stages": stages}))
 """
 
 
@@ -99,8 +100,10 @@ def main():
                         help="leave out the bare load+save (at a million rows it takes many minutes and GB)")
     busy.add_argument(parser)
     args = parser.parse_args()
+    print("ratio = update / bare load+save of the same file (issue #14's target: at most 0.5x); "
+          "cpu = the update's processor seconds (on a shared machine, less than its wall-clock time)")
     print(f"{'condition':>14} {'rows':>9} {'players':>8} | {'bare load+save':>14} {'update':>8} {'ratio':>6} "
-          f"{'peak MB':>8} | " + " ".join(f"{s:>8}" for s in SHORT))
+          f"{'cpu':>7} {'peak MB':>8} | " + " ".join(f"{s:>8}" for s in SHORT) + " | load average")
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
         sources = {}
@@ -116,9 +119,13 @@ def main():
                 floor = statistics.median(b["seconds"] for b in bare) if bare else float("nan")
                 update = statistics.median(r["seconds"] for r in runs)
                 peak = max(r["peak_mb"] for r in runs)
+                cpu = statistics.median(r["cpu"] for r in runs)
                 stages = [statistics.median(r["stages"].get(name, 0.0) for r in runs) for name in STAGES]
-                print(f"{condition:>14} {rows:>9,} {players:>8,} | {floor:>13.2f}s {update:>7.2f}s "
-                      f"{update / floor:>5.2f}x {peak:>8.0f} | " + " ".join(f"{s:>7.2f}s" for s in stages), flush=True)
+                ratio = f"{update / floor:>5.2f}x" if bare else f"{'-':>6}"
+                floor_text = f"{floor:>13.2f}s" if bare else f"{'-':>14}"
+                print(f"{condition:>14} {rows:>9,} {players:>8,} | {floor_text} {update:>7.2f}s {ratio} "
+                      f"{cpu:>6.2f}s {peak:>8.0f} | " + " ".join(f"{s:>7.2f}s" for s in stages)
+                      + " | " + " ".join(f"{x:.1f}" for x in os.getloadavg()), flush=True)
 
 
 if __name__ == "__main__":

@@ -1,5 +1,6 @@
 """Doubles through the window, tab by tab (real Tk under Xvfb, workbooks written with openpyxl): Problems
-names the partner cell to fix, What changed names the re-rated partner, Fixtures shows both pairs in full with
+names the partner cell to fix, What changed names the re-rated partner and counts a week's doubles frame as
+played by its four players, Fixtures shows both pairs in full with
 the Fixtures sheet's chance and fair race, and the Watch list counts a doubles frame as a link between
 divisions only when its two sides' divisions differ."""
 from __future__ import annotations
@@ -83,6 +84,37 @@ def test_what_changed_names_the_re_rated_partner(display, demo_league, tk_errors
             sentence = next(t for t in texts if t.startswith(c.name.split()[0]) and "partner" in t)
             assert f"doubles partner {partner} " in sentence and "your" not in sentence.casefold()
         assert clipped(app.root) == []
+
+
+def test_a_week_of_one_doubles_frame_counts_its_four_players_as_played(display, demo_league, tk_errors):
+    from secretary.cli import main
+    from secretary.workbook.append import append_results
+
+    path = demo_league / "league.xlsx"
+    four = {"Player A": "Gareth Elphick", "Partner A": "Piers Jessop", "Player B": "Orla Hebblethwaite",
+            "Partner B": "Dervla Quarrie"}
+    append_results(path, [{"Date": "2026-04-23", "Division": "Premier", "Games A": "0", "Games B": "5",
+                           "Event": "Team night", **four}])
+    assert main(["update", str(path)]) == 0
+    with main_window(tk_errors, f"{display}.1") as app:
+        app.open_workbook(path)
+        settle(app, 300)
+        changes = {c.name: c for c in app.updated.changes}
+        for side, name in four.items():  # each played 5 games this week: side B won them all
+            won = 0 if side.endswith("A") else 5
+            assert (changes[name].played, changes[name].new_games, changes[name].new_won) == (True, 5, won)
+        app.notebook.select(app.changes.frame)
+        app.changes.only_idle.set(True)
+        app.root.after(100)
+        settle(app)
+        assert app.changes.shown and not {c.name for c in app.changes.shown} & set(four.values())
+        app.changes.only_idle.set(False)
+        app.changes.search.set("Piers Jessop")
+        app.root.after(100)
+        settle(app)
+        texts = [app.changes.canvas.itemcget(i, "text") for i in app.changes.canvas.find_all()
+                 if app.changes.canvas.type(i) == "text"]
+        assert any(t.startswith("Piers won 0 of 5 games this week") for t in texts), texts  # the doubles frame
 
 
 def _with_doubles_fixtures(path, fixtures) -> None:

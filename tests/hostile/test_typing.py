@@ -206,3 +206,20 @@ def test_up_to_five_results_far_after_all_others_are_refused(tmp_path, run, far_
     else:  # six or more: a league that paused for a year, not a typing slip
         code, out = run("update", league)
         assert code == 0, out
+
+
+def test_a_save_measures_again_every_text_it_did_not_copy_as_stored(tmp_path):
+    """The check of a grafted save leaves out only the parts copied as stored from the workbook it read."""
+    from secretary.errors import FileRefused
+    from secretary.workbook import guard, oversized
+
+    league = write_book(tmp_path / "league.xlsx", good_results() + [[LATER, "Premier", "HUGE", "Dev Pike", 5, 2]])
+    checked = guard.member_keys(league)
+    _crafted(league, "HUGE", "A" * oversized.SCAN_FROM)  # the Results sheet changed: not the one checked
+    assert guard.member_keys(league) != checked
+    with pytest.raises(FileRefused, match="longer than any cell"):
+        guard.check_readable(league, checked=checked)
+    huge = guard.member_keys(league)
+    guard.check_readable(league, checked=huge)  # the very parts given as checked: not measured again
+    with pytest.raises(FileRefused, match="longer than any cell"):  # any other part of theirs is
+        guard.check_readable(league, checked=frozenset(k for k in huge if not k[0].startswith("xl/worksheets/")))

@@ -105,9 +105,11 @@ def test_a_division_without_cross_games_keeps_its_starting_level_and_tau_as_its_
     rows, players = tiered_league(5, isolated=("Valley",))
     settings = Settings(division_spread=120.0)
     fit = fit_league(rows, settings, players=players, starting_levels={"Valley": -200.0, "Hill": 100.0})
-    # Games inside Valley see only its players' differences: the level moves only with its prior.
+    # Games inside Valley see only its players' differences: the level moves only with its prior, and its
+    # ± is the prior's against the levels' average (the anchor): Var(L_v - mean L) = tau^2 (1 - 1/D).
+    D = len(fit.group_names)
     assert fit.level_points("Valley") == pytest.approx(-200.0, abs=1e-6)
-    assert fit.level_sd("Valley") == pytest.approx(120.0, rel=1e-6)
+    assert fit.level_sd("Valley") == pytest.approx(120.0 * np.sqrt(1 - 1 / D), rel=1e-6)
     assert fit.level_sd("Hill") < 100.0  # the linked levels are pinned down by the cross games
     assert fit.level_points("Hill") != pytest.approx(100.0, abs=1.0)
 
@@ -129,13 +131,24 @@ def test_sd_is_from_the_joint_posterior_with_the_level_covariance_counted():
     d = n + fit.group
     k = np.arange(n)
     var_u_plus_l = cov[k, k] + cov[d, d] + 2 * cov[k, d]
-    assert np.allclose(fit.var, var_u_plus_l, rtol=1e-9, atol=0)
-    assert np.allclose(fit.level_var, np.diag(cov)[n:], rtol=1e-9, atol=0)
     assert np.any(cov[k, d] < 0)  # the covariance is not zero: adding variances would be wrong
-    # contrast_variance: a contrast c over the strengths is [c, B^T c] over (u, L).
+    # Against the levels' average, which no game sees (docs/model.md 1, Uncertainty): x - mean(L) over (u, L).
+    D = len(fit.group_names)
+    mean_level = np.r_[np.zeros(n), np.full(D, 1.0 / D)]
+    strengths = A - mean_level[None, :]  # row i: r_i - mean(L) = u_i + L_d(i) - mean(L)
+    levels = np.hstack([np.zeros((D, n)), np.eye(D)]) - mean_level[None, :]
+    quad = lambda M: np.einsum("mi,ij,mj->m", M, cov, M)  # noqa: E731
+    assert np.allclose(fit.var, quad(strengths), rtol=1e-9, atol=0)
+    assert np.allclose(fit.level_var, quad(levels), rtol=1e-9, atol=0)
+    # ... which is the whole posterior variance less the common mode's prior, tau^2 / D.
+    assert np.allclose(fit.var, var_u_plus_l - fit.levels.sd**2 / D, rtol=1e-9, atol=0)
+    # contrast_variance: a contrast c over the strengths is [c, B^T c] over (u, L), less (sum c)^2 tau^2 / D.
     rng = np.random.default_rng(0)
     C = rng.normal(size=(4, n))
-    assert np.allclose(fit.contrast_variance(C), np.einsum("mi,ij,mj->m", C @ A, cov, C @ A), rtol=1e-9)
+    C[0] -= C[0].mean()  # a difference: the anchor drops out
+    anchored = quad(C @ A) - C.sum(axis=1) ** 2 * fit.levels.sd**2 / D
+    assert np.allclose(fit.contrast_variance(C), anchored, rtol=1e-9)
+    assert np.allclose(fit.contrast_variance(C[:1]), quad(C[:1] @ A), rtol=1e-9)
 
 
 def test_large_league_paths_agree_with_the_exact_ones(monkeypatch):

@@ -297,7 +297,9 @@ def test_level_linkage_agrees_with_the_dense_joint_posterior(method):
     assert np.allclose(prior, dense_prior, rtol=1e-12)
     # Each level's own ± as the fit reports it (the joint Laplace posterior over (r, L)).
     with_sd = fit_league(results, fit.settings, players=players)
-    assert np.allclose(with_sd.level_var, level_var, rtol=1e-6)
+    # Against the levels' average (the anchor no game sees): Var(L_d) - tau^2 / D (docs/model.md 1, Uncertainty).
+    D, tau = len(fit.group_names), fit.settings.division_spread / points_per_logodds(fit.settings.scale)
+    assert np.allclose(with_sd.level_var, level_var - tau**2 / D, rtol=1e-6)
 
 
 def test_a_division_without_cross_games_has_no_linked_level_and_a_linked_one_has_nearly_all():

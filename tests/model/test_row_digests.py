@@ -128,3 +128,31 @@ def test_change_sort_is_the_multiset_sort(name, rows):
         ch = compare_rows(now, stored)
         assert (ch.new, ch.edited, ch.unchanged, ch.removed, ch.ignored) == _reference_sort(now, stored)
         assert ch.new_rows + ch.edited_rows + ch.unchanged_rows + len(ch.ignored) == len(now)
+
+
+def _activity_row_by_row(previous, new, index):
+    """Games per player, latest date before and first date now, one seat at a time (`Result.players`)."""
+    import numpy as np
+
+    played, last_before, first_new = np.zeros(len(index)), {}, {}
+    for rows, book, pick in ((previous, last_before, max), (new, first_new, min)):
+        for res in rows:
+            for name in res.players:
+                played[index[name]] += res.games_a + res.games_b
+                book[name] = pick(book.get(name, res.date), res.date)
+    return played, last_before, first_new
+
+
+@pytest.mark.parametrize("name,rows", list(_sets()), ids=lambda v: v if isinstance(v, str) else "")
+def test_the_breakdowns_activity_is_its_row_by_row_sum(name, rows):
+    from secretary.model.breakdown import _activity
+
+    rows = [r for r in rows if not r.void]
+    index = {n: k for k, n in enumerate(sorted({n for r in rows for n in r.players}))}
+    rng = random.Random(3)
+    for previous, new in ((rows[: len(rows) * 4 // 5], rows[len(rows) * 4 // 5:]), (rows, ()), ((), rows),
+                          (rng.sample(rows, len(rows) // 2), rng.sample(rows, len(rows) // 7))):
+        played, last_before, first_new = _activity(previous, new, index)
+        want = _activity_row_by_row(previous, new, index)
+        assert played.tolist() == want[0].tolist()
+        assert last_before == want[1] and first_new == want[2]

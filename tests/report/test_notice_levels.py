@@ -1,10 +1,13 @@
 """The notice board's division levels: from the levels model, with one plain sentence, read back with poppler.
 
 The league is the Divisions-sheet test's (tests/workbook/test_divisions_sheet.py): two divisions that
-play no other, so each division's level is exactly its starting level and its ± exactly the Division
-spread (the posterior of a level no game sees is its prior), which is what the board must print.
+play no other, so each division's level is exactly its starting level and its ± exactly the prior's
+against the levels' average, Division spread * sqrt(1 - 1/2) (the posterior of a level no game sees is its
+prior), which is what the board must print.
 """
 from __future__ import annotations
+
+import math
 
 import openpyxl
 
@@ -31,14 +34,17 @@ def test_the_wall_page_prints_each_division_level_with_its_pm_and_what_a_level_i
     pages = pdf_text(notice_pdf_path(path)).split("\f")
     wall = squeeze(pages[0])
     assert squeeze("Division levels") in wall
-    assert squeeze("Top +150 ± 100; Bottom -150 ± 100") in wall  # strongest first
+    # No game between the two: each keeps its starting level and the prior's ± against the levels' average,
+    # Division spread * sqrt(1 - 1/2) (docs/model.md 1, Uncertainty).
+    pm = f"{Settings().division_spread * math.sqrt(0.5):.0f}"
+    assert squeeze(f"Top +150 ± {pm}; Bottom -150 ± {pm}") in wall  # strongest first
     assert squeeze(level_sentence(Settings())) in wall
     assert squeeze("the full list") in squeeze(pages[1])  # the wall page is still one page
     render_page(notice_pdf_path(path), "notice-board-levels-page1")
     # The Notice board sheet prints the same Notice: the same levels and sentence.
     cells = [c for row in openpyxl.load_workbook(path, read_only=True)["Notice board"].iter_rows(values_only=True)
              for c in row if isinstance(c, str)]
-    assert "Division levels: Top +150 ± 100; Bottom -150 ± 100" in cells
+    assert f"Division levels: Top +150 ± {pm}; Bottom -150 ± {pm}" in cells
     assert level_sentence(Settings()) in cells
 
 

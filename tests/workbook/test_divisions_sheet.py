@@ -16,6 +16,7 @@ import itertools
 import shutil
 from pathlib import Path
 
+import numpy as np
 import openpyxl
 import pytest
 
@@ -175,9 +176,11 @@ def test_a_division_that_plays_no_other_keeps_its_starting_level_with_the_divisi
                       divisions=[["Top", 150, ""], ["Bottom", -150, ""]])
     assert main(["update", str(path)]) == 0
     table = levels_table(path)
-    # No game sees a division's level here, so its posterior is its prior: N(starting level, spread^2), spread 100.
-    assert table["Top"][:4] == (pytest.approx(150, abs=0.01), pytest.approx(100, abs=1e-6), 0, 4)
-    assert table["Bottom"][:4] == (pytest.approx(-150, abs=0.01), pytest.approx(100, abs=1e-6), 0, 4)
+    # No game sees a division's level here, so its posterior is its prior: N(starting level, spread^2), its ±
+    # against the two levels' average (the anchor, docs/model.md 1) spread * sqrt(1 - 1/2).
+    pm = Settings().division_spread * np.sqrt(0.5)
+    assert table["Top"][:4] == (pytest.approx(150, abs=0.01), pytest.approx(pm, abs=1e-6), 0, 4)
+    assert table["Bottom"][:4] == (pytest.approx(-150, abs=0.01), pytest.approx(pm, abs=1e-6), 0, 4)
     assert "no games against other divisions" in table["Top"][4]
     assert list(table) == ["Top", "Bottom"]  # strongest first
 
@@ -248,7 +251,8 @@ def test_libreoffice_shows_the_divisions_table_as_written(tmp_path):
     rows = {row[2]: row for row in shown[start + 1:start + 3]}
     for name, level in (("Top", 150), ("Bottom", -150)):
         assert float(rows[name][3]) == pytest.approx(level, abs=0.01)
-        assert float(rows[name][4]) == pytest.approx(100, abs=1e-6) and rows[name][6] == "4"
+        pm = Settings().division_spread * np.sqrt(0.5)  # the prior's ± against the two levels' average
+        assert float(rows[name][4]) == pytest.approx(pm, abs=1e-6) and rows[name][6] == "4"
     players = [row for row in shown[1:] if row[0].isdigit()]
     assert len(players) == 8 and not any(row[1] for row in shown[start - 3:])  # no Player below the players
 

@@ -2,6 +2,7 @@
 import dataclasses
 import datetime as dt
 import hashlib
+import json
 import re
 
 import pytest
@@ -108,3 +109,71 @@ def test_the_tune_check_round_trips_and_a_damaged_one_is_dropped(tmp_path):
     ws.cell(3, 2).value = ws.cell(3, 2).value.replace('"gain":0.0051234567890123', '"gain":"x"')
     back = read_state(wb)
     assert back is not None and back.tune_check is None and back.ratings == state.ratings
+
+
+def _week_before(rows, rng):
+    """Last update's rows against this one's: most the same, some missing, edited, repeated or moved."""
+    out = []
+    for pair in rows:
+        roll = rng.random()
+        if roll < 0.05:
+            continue
+        out.append((pair[0], _digest("edited", pair)) if roll < 0.08 else pair)
+        if roll > 0.98:
+            out.append(rng.choice(rows))
+    out[len(out) // 3:len(out) // 3] = [(_digest("old id", i), _digest("old fp", i)) for i in range(3)]  # gone since
+    return tuple(out)
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_the_update_befores_rows_as_runs_are_its_rows(seed):
+    from random import Random
+
+    from secretary.workbook.state import row_runs, rows_from_runs
+
+    rng = Random(seed)
+    like = tuple((_digest("id", i % 900), _digest("fp", i)) for i in range(3000))  # identities repeat
+    for rows in (_week_before(like, rng), like, (), like[::-1], tuple(rng.sample(like, 200)) + like[:5]):
+        runs = row_runs(rows, like)
+        assert rows_from_runs(runs, like) == rows
+        assert all(isinstance(a, str) or like[a:b] for a, b in runs)  # no empty run
+    assert len(row_runs(like[:2000] + like[2100:], like)) == 2  # the usual week: two runs
+
+
+def test_the_update_before_round_trips_through_its_runs(tmp_path):
+    now = _state(n_rows=5000)
+    before = dataclasses.replace(_state(n_rows=4000), rows=now.rows[100:4100] + (("gone", "row"),))
+    state = dataclasses.replace(now, previous=before)
+    wb = _round_trip(state, tmp_path)
+    assert read_state(wb) == state
+    text = "".join(v for v in (c.value for c in wb[STATE_SHEET]["B"]) if isinstance(v, str))
+    assert text.count(now.rows[200][1]) == 1  # a row the two updates share is written once
+    # A record written before the runs (the update before's rows in full) still reads.
+    ws = wb[STATE_SHEET]
+    old = text.replace('"row_runs":[[100,4100],["gone","row"]]',
+                       '"rows":' + json.dumps([list(pair) for pair in before.rows], separators=(",", ":")))
+    assert old != text
+    for row in range(3, ws.max_row + 1):
+        ws.cell(row, 2).value = None
+    for k, start in enumerate(range(0, len(old), 30000)):
+        ws.cell(3 + k, 1).value, ws.cell(3 + k, 2).value = "data", old[start:start + 30000]
+    assert read_state(wb) == state
+
+
+def test_a_damaged_run_is_a_damaged_state(tmp_path):
+    state = dataclasses.replace(_state(n_rows=50), previous=_state(n_rows=40))
+    wb = _round_trip(state, tmp_path)
+    ws = wb[STATE_SHEET]
+    text = ws["B3"].value
+    for damaged in ('"row_runs":[[0,51]]', '"row_runs":[[-1,40]]', '"row_runs":[[0,true]]', '"row_runs":[[0,"x"]]'):
+        ws["B3"].value = text.replace('"row_runs":[[0,40]]', damaged)
+        assert ws["B3"].value != text and read_state(wb) is None
+
+
+def test_rows_not_all_text_read_as_text_as_before(tmp_path):
+    state = _state(n_rows=3)
+    wb = _round_trip(state, tmp_path)
+    ws = wb[STATE_SHEET]
+    first = json.dumps(list(state.rows[0]), separators=(",", ":"))
+    ws["B3"].value = ws["B3"].value.replace(first, f'["{state.rows[0][0]}",12345]')
+    assert read_state(wb).rows == ((state.rows[0][0], "12345"), *state.rows[1:])

@@ -26,6 +26,27 @@ class RatingsTab:
     def __init__(self, parent, scheduler):
         self.frame = ttk.Frame(parent, padding=8)
         self.scheduler = scheduler
+        self.rows: list[views.Row] = []
+        self.ratings = {}
+        self.doubles = False
+        self.history = {}
+        self.changes = {}
+        self.player: str | None = None
+        self._search_bar()
+        font = tkfont.nametofont("TkDefaultFont")
+        self.line, self.side_width = font.metrics("linespace"), SIDE_CHARACTERS * font.measure("n")
+        self.history_height = HISTORY_LINES * self.line
+        self.panes = ttk.PanedWindow(self.frame, orient="horizontal")
+        self.panes.pack(fill="both", expand=True)
+        self._league_tables(scheduler)
+        self.side = ttk.Frame(self.panes, padding=(10, 0, 0, 0))
+        self.panes.add(self.side, weight=1)
+        self.side_kept = False
+        self.panes.bind("<Configure>", self._place_sash, add="+")
+        self._player_panel(self.side)
+
+    def _search_bar(self) -> None:
+        """Find a player, the division filter and how many players are shown."""
         bar = ttk.Frame(self.frame)
         bar.pack(fill="x", pady=(0, 6))
         ttk.Label(bar, text="Find a player:").pack(side="left")
@@ -44,14 +65,10 @@ class RatingsTab:
         self.search.trace_add("write", lambda *a: self.refilter())
         self.division.trace_add("write", lambda *a: self.refilter())
 
-        font = tkfont.nametofont("TkDefaultFont")
-        line, self.side_width = font.metrics("linespace"), SIDE_CHARACTERS * font.measure("n")
-        self.history_height = HISTORY_LINES * line
-        panes = ttk.PanedWindow(self.frame, orient="horizontal")
-        panes.pack(fill="both", expand=True)
-        # The divisions table sits under the league table (the player panel keeps the whole height), shown once
-        # there are levels (``show_levels``); the two share the height by weight, with a sash to drag.
-        self.stack = ttk.PanedWindow(panes, orient="vertical")
+    def _league_tables(self, scheduler) -> None:
+        """The league table, and under it the divisions table once there are levels (``show_levels``): the
+        player panel keeps the whole height; the two tables share theirs by weight, with a sash to drag."""
+        self.stack = ttk.PanedWindow(self.panes, orient="vertical")
         self.stack.bind("<Map>", lambda e: self._place_levels(), add="+")
         self.levels_frame = ttk.Frame(self.stack, padding=(0, 6, 0, 0))
         tip(ttk.Label(self.levels_frame, text="Division levels", font="SecretaryBold"),
@@ -65,12 +82,10 @@ class RatingsTab:
                            "Choose a player to see their rating history and why their rating changed.",
                            height=18, on_select=self.chosen)
         self.stack.add(self.table.frame, weight=LEAGUE_WEIGHT)
-        panes.add(self.stack, weight=3)
-        side = ttk.Frame(panes, padding=(10, 0, 0, 0))
-        panes.add(side, weight=1)
-        self.panes = panes
-        self.side_kept = False
-        panes.bind("<Configure>", self._place_sash, add="+")
+        self.panes.add(self.stack, weight=3)
+
+    def _player_panel(self, side: ttk.Frame) -> None:
+        """The chosen player: name, one line of figures, the history chart and why the rating changed."""
         self.name = ttk.Label(side, text="Update the ratings to see them here.", font="SecretaryBig",
                               wraplength=300, justify="left")
         self.name.pack(anchor="w")
@@ -84,7 +99,7 @@ class RatingsTab:
         self.holder = holder = ttk.Frame(side)
         holder.pack(fill="both", expand=True, pady=(2, 0))
         # On a short screen the change does not fit under the history: it scrolls rather than being cut off.
-        self.change_canvas = tk.Canvas(holder, height=CHANGE_LINES * line, width=300, background="white",
+        self.change_canvas = tk.Canvas(holder, height=CHANGE_LINES * self.line, width=300, background="white",
                                        highlightthickness=0)
         self.change_scroll = ttk.Scrollbar(holder, orient="vertical", command=self.change_canvas.yview)
         self.change_canvas.configure(yscrollcommand=self.change_scroll.set)
@@ -95,15 +110,7 @@ class RatingsTab:
             self.change_canvas.bind(key, lambda e, s=step: self.change_canvas.yview_scroll(s, "units"))
         self.change_canvas.bind("<MouseWheel>", lambda e: self.change_canvas.yview_scroll(
             -1 if e.delta > 0 else 1, "units"))
-        self.line = line
-        self.side = side
         side.bind("<Configure>", lambda e: self._fit_history() and self._redraw(), add="+")
-        self.rows: list[views.Row] = []
-        self.ratings = {}
-        self.doubles = False
-        self.history = {}
-        self.changes = {}
-        self.player: str | None = None
 
     def _fit_history(self) -> bool:
         """The history chart takes at most a third of the panel's height (4 to 9 lines), and never the last
