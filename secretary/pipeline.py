@@ -422,9 +422,11 @@ def _published_from(book: LeagueBook, stored: PublishedState) -> Published:
 def inputs_digest(book: LeagueBook) -> str:
     """A digest of everything an update reads from the workbook, and of the tool's version."""
     digest = hashlib.blake2b(digest_size=16)
-    for part in (__version__, repr(book.settings), repr(book.players), repr(book.fixtures),
-                 repr(book.divisions), *row_digests(book.results)[1]):
+    for part in (__version__, repr(book.settings), repr(book.players), repr(book.fixtures), repr(book.divisions)):
         digest.update(part.encode("utf-8", "surrogatepass") + b"\x1f")
+    fingerprints = row_digests(book.results)[1]
+    if fingerprints:  # hexadecimal digests, each followed by the separator: one text, the same bytes
+        digest.update(("\x1f".join(fingerprints) + "\x1f").encode("ascii"))
     return digest.hexdigest()
 
 

@@ -799,9 +799,10 @@ def _check_results(results: tuple[Result, ...], sheet: _Sheet | None, reader: _R
     for r in results:
         if r.partner_a and r.partner_b:
             one, other = (_side(r.side_a, fold), r.games_a), (_side(r.side_b, fold), r.games_b)
-        else:  # singles, as _side gives them, without asking the record for its sides
-            one, other = ((fold[r.player_a],), r.games_a), ((fold[r.player_b],), r.games_b)
-        key = (r.date, (one, other) if one <= other else (other, one), fold[r.division], r.void)
+            key = (r.date, (one, other) if one <= other else (other, one), fold[r.division], r.void)
+        else:  # singles: the same sides flat (a key of another length, so never equal to a doubles one)
+            a, ga, b, gb = fold[r.player_a], r.games_a, fold[r.player_b], r.games_b
+            key = (r.date, *((a, ga, b, gb) if (a, ga) <= (b, gb) else (b, gb, a, ga)), fold[r.division], r.void)
         if key in seen:
             reader.add("warning", sheet.spec.name, r.row, None, f"{r.label_a} {r.games_a}-{r.games_b} {r.label_b}",
                        f"the same result as row {seen[key]}",

@@ -156,3 +156,18 @@ def test_the_breakdowns_activity_is_its_row_by_row_sum(name, rows):
         want = _activity_row_by_row(previous, new, index)
         assert played.tolist() == want[0].tolist()
         assert last_before == want[1] and first_new == want[2]
+
+
+def test_the_inputs_digest_is_the_digest_of_each_part_in_turn():
+    """`pipeline.inputs_digest` against its definition: every part (then every row's fingerprint), each followed
+    by the separator \\x1f, fed to BLAKE2b one at a time."""
+    from secretary import __version__
+    from secretary.pipeline import inputs_digest
+
+    book = read_workbook(DEMO)
+    want = hashlib.blake2b(digest_size=16)
+    for part in (__version__, repr(book.settings), repr(book.players), repr(book.fixtures), repr(book.divisions),
+                 *(fingerprint(r) for r in _fresh(book.results))):
+        want.update(part.encode("utf-8", "surrogatepass") + b"\x1f")
+    assert inputs_digest(book) == want.hexdigest()
+    assert inputs_digest(replace(book, results=())) != want.hexdigest()

@@ -83,3 +83,40 @@ def test_the_long_run_scan_finds_what_the_plain_scan_finds(tmp_path, chunk, monk
         found = oversized._first_long_run(path, "xl/worksheets/sheet1.xml")
         assert found == _plain_first_long_run(path, "xl/worksheets/sheet1.xml"), (long_at, length)
         assert (found is not None) == (length + 2 > longest), (long_at, length)  # the run: "t>" and the text
+
+
+def test_the_same_result_twice_is_warned_as_its_definition_says(tmp_path):
+    """Rows equal in date, sides (either order, capitals folded, partners either way round), games,
+    division and void mark are warned as "the same result as row N" (N the first); nothing else is."""
+    import datetime as dt
+
+    from secretary.workbook.read import read_workbook
+    from tests.workbook.league_books import RESULTS_HEADERS, write_book
+
+    D = dt.date(2026, 3, 14)
+    rng = random.Random(11)
+    names = ["Ada Finch", "ada finch", "Bram Oak", "Cleo Marsh", "Dev Pike", "Eli Stone"]
+    rows = []
+    while len(rows) < 300:
+        a, b, pa, pb = rng.sample(names[1:], 4) if rng.random() < 0.3 else (*rng.sample(names, 2), "", "")
+        if {a.casefold(), b.casefold()} == {"ada finch"}:
+            continue
+        ga, gb = rng.choice([(5, 3), (3, 5), (5, 4), (4, 5)])
+        rows.append([D + dt.timedelta(days=rng.randrange(2)), rng.choice(["Premier", "premier", "One"]), a, b, ga, gb,
+                     pa, pb, "", "void" if rng.random() < 0.1 else ""])
+    headers = RESULTS_HEADERS[:6] + ("Partner A", "Partner B") + RESULTS_HEADERS[6:]
+    book = read_workbook(write_book(tmp_path / "twice.xlsx", rows, results_headers=headers))
+
+    def key(row):
+        date, division, a, b, ga, gb, pa, pb, _, note = row
+        side_a = tuple(sorted(n.casefold() for n in (a, pa) if n))
+        side_b = tuple(sorted(n.casefold() for n in (b, pb) if n))
+        return date, frozenset([(side_a, ga), (side_b, gb)]), (side_a, ga) == (side_b, gb), division.casefold(), note
+
+    first, want = {}, set()
+    for number, row in enumerate(rows, start=2):
+        if key(row) in first:
+            want.add((number, f"the same result as row {first[key(row)]}"))
+        first.setdefault(key(row), number)
+    got = {(p.row, p.problem) for p in book.problems if "the same result as row" in p.problem}
+    assert want and got == want
