@@ -2,7 +2,7 @@
 
 A race of expected length ``n`` between i and j adds ``c (e_i - e_j)(e_i - e_j)^T``
 to the posterior precision ``H`` of the strengths, ``c = n p (1 - p)``.  For a
-quantity ``offset + w^T H^-1 w`` (a division's level against the rest, see
+quantity ``w^T H^-1 w`` (a division's level against the rest, see
 ``secretary.model.contrasts``) that lowers the variance by
 ``c (x[i] - x[j])^2 / (1 + c q_ij)`` with ``x = H^-1 w`` and
 ``q_ij = (e_i - e_j)^T H^-1 (e_i - e_j)`` (Sherman-Morrison).  Matches are

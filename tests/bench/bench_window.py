@@ -195,7 +195,7 @@ def one_run(path: Path, players: int, why: float | None = None) -> str:
     watchdog.stopped.set()
     if callbacks is not None:
         callbacks.close()
-    if not app.session.updated or len(app.ratings.table.shown_values()) != players:
+    if not app.session.updated or len(app.ratings.table.shown_values()) != len(app.updated.ratings):
         raise RuntimeError(app.status.cget("text"))
     app.worker.cancel.set()
     app.worker.join(300)

@@ -140,7 +140,7 @@ class RatingsTab:
         self.doubles = any(p.doubles_games > 0 for p in updated.ratings)  # as the Ratings sheet decides
         self.changes = {c.name: c for c in updated.changes}
         self.history = updated.history
-        self.rows = views.rating_rows(updated.ratings, updated.checked.settings.few_games)
+        self.rows = list(updated.rows) or views.rating_rows(updated.ratings, updated.checked.settings.few_games)
         self.show_levels(updated.levels)
         self.divisions.configure(values=views.divisions_of(self.rows))
         if self.division.get() not in self.divisions.cget("values"):
