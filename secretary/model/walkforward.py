@@ -31,7 +31,7 @@ from typing import Mapping, Sequence
 import numpy as np
 import scipy.sparse as sp
 
-from secretary.errors import Cancelled
+from secretary.errors import Cancelled, FitFailed
 from secretary.model.fit import Levels, fit_map, hessian
 from secretary.model.matches import factorise
 from secretary.model.pairs import Pairs, age_weights, aggregate
@@ -261,15 +261,22 @@ def walk_steps(walk: Walk, settings: Settings, cancel, gtol: float, predictive: 
         levels = Levels(home, level_mean, tau) if tau > 0 else None
         warm = np.concatenate([r, mu[len(r):n] + level[home[len(r):]]])
         if levels is None:
-            r = fit_map(pairs, mu[:n] + level_mean[home], prior_sd, start=warm, gtol=gtol, dense_limit=DENSE_LIMIT).r
+            r = _fit(pairs, mu[:n] + level_mean[home], prior_sd, None, warm, gtol).r
         else:
-            fit = fit_map(pairs, mu[:n], prior_sd, levels=levels, start=np.concatenate([warm, level]), gtol=gtol,
-                          dense_limit=DENSE_LIMIT)
+            fit = _fit(pairs, mu[:n], prior_sd, levels, np.concatenate([warm, level]), gtol)
             r, level = fit.r, fit.level
         _predict_step(walk, out, slice(start, stop), pairs, r, level, home, mu, prior_sd, settings.few_games,
                       levels if predictive else None, predictive)
         out.steps += 1
     return out
+
+
+def _fit(pairs: Pairs, mu, prior_sd: float, levels: Levels | None, start, gtol: float):
+    """The step's MAP by CG Newton steps (``DENSE_LIMIT``); should CG not settle, by dense steps as in an update."""
+    try:
+        return fit_map(pairs, mu, prior_sd, levels=levels, start=start, gtol=gtol, dense_limit=DENSE_LIMIT)
+    except FitFailed:
+        return fit_map(pairs, mu, prior_sd, levels=levels, start=start, gtol=gtol)
 
 
 def _predict_step(walk: Walk, out: StepOutput, step: slice, pairs: Pairs, r, level, home, mu, prior_sd: float,

@@ -133,6 +133,24 @@ def test_every_step_mean_and_variance_are_the_straightforward_ones(league, monke
     assert np.array_equal(tight.few, plain.few) and np.array_equal(tight.cross, plain.cross)
 
 
+def test_a_step_whose_conjugate_gradients_do_not_settle_is_fitted_by_dense_steps(monkeypatch):
+    from secretary.errors import FitFailed
+    from secretary.model import fit as fit_module
+
+    walk = prepare(tiered_league(seed=4, weeks=8))
+    monkeypatch.setattr(walkforward, "DENSE_LIMIT", 10**9)
+    dense = walkforward.walk_steps(walk, SETTINGS, None, 1e-7, True)
+    monkeypatch.setattr(walkforward, "DENSE_LIMIT", 0)
+
+    def unsettled(*args, **kwargs):
+        raise FitFailed("the rating calculation did not settle")
+
+    monkeypatch.setattr(fit_module, "conjugate_gradient", unsettled)
+    fallback = walkforward.walk_steps(walk, SETTINGS, None, 1e-7, True)
+    assert np.array_equal(fallback.mean, dense.mean, equal_nan=True)
+    assert np.array_equal(fallback.var, dense.var, equal_nan=True)
+
+
 def test_tuning_chooses_and_scores_as_the_straightforward_walk(monkeypatch):
     results = tiered_league(seed=6, weeks=12)
     grid = dict(half_lives=(0.0, 60.0, 240.0), spreads=(60.0, 120.0, 240.0), division_spreads=(0.0, 150.0),
