@@ -15,6 +15,8 @@ user + system of the child, peak = its largest resident set):
                      every step's Hessian above 1,000 unknowns for the
                      predictive variances): the reference the target was set
                      against (106 s of processor time in the last session)
+  check, demo        the once-a-season check an update runs (tune.check_tuning),
+  check, season      on the demo league and on the season
   default threads    with --default-threads: the previous path again with the
                      maths libraries' default thread pools (what every entry
                      point did before the thread limit); stopped after
@@ -53,6 +55,21 @@ t = tune_workbook(sys.argv[1])
 s = t.settings
 print(f"half-life {s.half_life_days:g} days, skill spread {s.skill_spread:g} points, "
       f"division spread {s.division_spread:g} points: log-loss {t.new_score:.4f} per game (predictive chances).")
+"""
+
+
+CHECK = """
+import sys, time
+from secretary.threads import limit_native_threads
+limit_native_threads()
+from secretary.model.tune import check_tuning
+from secretary.pipeline import _history_book, starting_levels
+book = _history_book(sys.argv[1], "the check")
+start = time.process_time()
+found = check_tuning(book.results, book.settings, max(r.date for r in book.results), players=book.players,
+                     starting_levels=starting_levels(book))
+print(f"{len(book.results):,} results: the check itself {time.process_time() - start:.1f} s of processor time, "
+      f"would gain {found.gain:.4f} per game")
 """
 
 
@@ -104,11 +121,14 @@ def main():
         print(f"{'condition':>14} {'load':>5} | {'run':<17} {'CPU s':>7} {'wall s':>7} {'peak MB':>8} | chosen")
         runs = [("secretary tune", [sys.executable, "-m", "secretary.cli", "tune", str(path)], 3600, False),
                 ("per-step LU path", [sys.executable, "-c", PREVIOUS_PATH, str(path), "limit"], 3600, False)]
+        demo = REPO / "secretary" / "data" / "demo-league.xlsx"
+        runs += [("check, demo", [sys.executable, "-c", CHECK, str(demo)], 600, False),
+                 ("check, season", [sys.executable, "-c", CHECK, str(path)], 600, False)]
         if args.default_threads:
             runs.append(("default threads", [sys.executable, "-c", PREVIOUS_PATH, str(path), "default"],
                          args.reference_timeout, True))
         for condition in busy.conditions(args.conditions):
-            cpu, chosen = {}, set()
+            cpu, chosen = {}, {}
             for label, command, timeout, default in runs:
                 load = os.getloadavg()[0]
                 got = measured(command, timeout, default)
@@ -116,15 +136,20 @@ def main():
                     print(f"{condition:>14} {load:>5.1f} | {label:<17} {'>' + str(int(timeout)):>7} s", flush=True)
                     continue
                 cpu[label] = got[0]
-                chosen.add(got[3])
+                chosen[label] = got[3]
                 print(f"{condition:>14} {load:>5.1f} | {label:<17} {got[0]:>7.1f} {got[1]:>7.1f} {got[2]:>8.0f} | "
                       f"{got[3]}", flush=True)
-            if len(cpu) > 1:
-                ref = cpu.get("per-step LU path")
-                print(f"{condition:>14} {'':>5} | processor time: the per-step LU path takes "
-                      f"{ref / cpu['secretary tune']:.1f}x secretary tune's; "
-                      f"{'the same settings chosen' if len(chosen) == 1 else 'DIFFERENT SETTINGS CHOSEN'}", flush=True)
+            _compare(condition, cpu, chosen)
 
+
+def _compare(condition: str, cpu: dict, chosen: dict) -> None:
+    """The per-step LU path's processor time over secretary tune's, and whether both chose the same."""
+    if "per-step LU path" not in cpu or "secretary tune" not in cpu:
+        return
+    same = chosen["per-step LU path"] == chosen["secretary tune"]
+    print(f"{condition:>14} {'':>5} | processor time: the per-step LU path takes "
+          f"{cpu['per-step LU path'] / cpu['secretary tune']:.1f}x secretary tune's; "
+          f"{'the same settings chosen' if same else 'DIFFERENT SETTINGS CHOSEN'}", flush=True)
 
 if __name__ == "__main__":
     main()
