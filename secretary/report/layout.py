@@ -164,7 +164,8 @@ def table(headers: Sequence[str], rows: Sequence[Sequence[object]], widths: Sequ
                  (False, True): "right", (False, False): "cell"}[(header, col in right)]
         if not header and _one_line(value, styles()[style], widths[col]):
             return value  # drawn by the table in the cell style (see _striped): a Paragraph costs far more
-        return para(value, style)
+        st = styles()[style]
+        return CellParagraph(markup(value, st.fontName), st)
 
     head = [cell(h, c, True) for c, h in enumerate(headers)]
     body = [[cell(v, c) for c, v in enumerate(row)] for row in rows]
@@ -173,6 +174,22 @@ def table(headers: Sequence[str], rows: Sequence[Sequence[object]], widths: Sequ
     starts = range(0, len(body), TABLE_ROWS)
     return _Tables([_striped(head, body[k:k + TABLE_ROWS], widths, k, last=k + TABLE_ROWS >= len(body),
                              right=right) for k in starts])
+
+
+class CellParagraph(Paragraph):
+    """A table cell's paragraph, its lines broken once per width: a table wraps every cell again each time
+    it splits at a page's end (four times a cell of a long list on average), and a Paragraph's lines
+    depend only on its text, its style and the width."""
+
+    _wrapped_at = None
+
+    def wrap(self, availWidth, availHeight):
+        if availWidth == self._wrapped_at:
+            self.width = availWidth
+            return self.width, self.height
+        size = super().wrap(availWidth, availHeight)
+        self._wrapped_at = availWidth if size[1] != 0x7FFFFFFF else None
+        return size
 
 
 _PLAIN: dict[str, set[str]] = {}  # per font: the letters known to need no other font and no shaping

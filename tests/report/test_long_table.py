@@ -66,3 +66,34 @@ def test_plain_text_cells_print_exactly_as_paragraphs(tmp_path, monkeypatch):
         subprocess.run(["pdftoppm", "-r", "150", "-png", "-singlefile", str(path), str(tmp_path / label)], check=True)
         pages[label] = Image.open(tmp_path / f"{label}.png").convert("RGB")
     assert ImageChops.difference(pages["plain"], pages["paragraphs"]).getbbox() is None
+
+
+@needs_poppler
+def test_cells_wrapped_once_print_exactly_as_wrapped_each_time(tmp_path, monkeypatch):
+    # A cell's paragraph breaks its lines once per width (`layout.CellParagraph`); the reference breaks
+    # them at every wrap, as a Paragraph does: every word in the same place on every page (poppler's boxes).
+    import subprocess
+
+    rows = _rows(2 * layout.TABLE_ROWS + 30)
+    rows = [(*row[:3], row[3] + " that wraps onto a second line of its cell" * (k % 3)) for k, row in enumerate(rows)]
+    calls = {"breaks": 0}
+    plain_break = layout.Paragraph.breakLines
+
+    def counted(self, *args, **kwargs):
+        calls["breaks"] += 1
+        return plain_break(self, *args, **kwargs)
+
+    monkeypatch.setattr(layout.Paragraph, "breakLines", counted)
+    boxes = {}
+    for label in ("once", "each time"):
+        if label == "each time":
+            monkeypatch.setattr(layout.CellParagraph, "wrap", layout.Paragraph.wrap)
+        calls["breaks"] = 0
+        path = tmp_path / f"{label}.pdf"
+        table = layout.table(HEADERS, rows, WIDTHS, right=(0, 2))
+        SimpleDocTemplate(str(path), invariant=1).build([table])
+        boxes[label] = subprocess.run(["pdftotext", "-bbox", str(path), "-"], check=True, capture_output=True,
+                                      text=True).stdout
+        calls[label] = calls["breaks"]
+    assert boxes["once"] == boxes["each time"] and boxes["once"].count("<word") > 10 * len(rows)
+    assert calls["once"] < calls["each time"], calls
