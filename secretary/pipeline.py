@@ -119,7 +119,7 @@ def _published_ratings(fit: LeagueFit, breakdown: Breakdown) -> tuple[PlayerRati
         out.append(PlayerRating(
             name=name, division=fit.group_names[fit.group[k]], rating=float(ratings[k]), sd=float(sds[k]),
             games=float(games[k]), wins=float(wins[k]), last_played=fit.last_played[k],
-            change=None if is_new else float(change.change), is_new=is_new,
+            change=None if is_new else float(change.shown[2]), is_new=is_new,
             division_from=fit.home_rule[k] if fit.home_rule else "", doubles_games=float(doubles[k])))
     return tuple(out)
 

@@ -6,10 +6,11 @@ import re
 from dataclasses import dataclass, replace
 from typing import Iterable, Mapping, Sequence
 
-from secretary.model.division_table import INFERRED
+from secretary.model.division_table import INFERRED, LEVEL_SD, LEVEL_SD_MEANING
 from secretary.model.notice import PAST_NOTE, fixture_note, is_past
 from secretary.model.records import HOME_RULES
 from secretary.model.sentences import naming, plural
+from secretary.model.watch_sentences import GAP, GAP_MEANING, GAP_SD, GAP_SD_MEANING
 from secretary.workbook import schema
 
 # ------------------------------------------------------------------ the routine
@@ -226,9 +227,9 @@ LEVEL_COLUMNS = (
     Column("level", "Division level", "How strong the division is as a whole, in points above (+) or below (-) "
            "the starting rating (Centre); a player's rating is their division's level plus how far they stand "
            "from it (the division's level, a random effect fitted with the players).", 8, True),
-    Column("sd", "\u00b1", "How uncertain the division level is, in points (its posterior SD). It stays wide "
-           "even with many games, because games show a division's strength but not how it splits between the "
-           "level and its players' own distances from it; blank when Division spread is 0 (fixed levels).", 4, True),
+    Column("sd", LEVEL_SD, f"{LEVEL_SD_MEANING} Technical term: the level's posterior SD. It stays wide even "
+           "with many games, because games show a division's strength but not how it splits between the level "
+           "and its players' own distances from it; blank when Division spread is 0 (fixed levels).", 6, True),
     Column("players", "Players", "Players counted in the division.", 6, True),
     Column("cross", "Games against other divisions", "Games against other divisions (older ones counting "
            "less): the games that set the level.", 9, True),
@@ -509,7 +510,8 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
 DIVISION_COLUMNS = (
     Column("division", "Division", "The division (the group whose level is compared with the others).", 14),
     Column("players", "Players", "Players counted in the division.", 6, True),
-    Column("level", "Against the rest", "The division's average rating minus the league's, in points.", 6, True),
+    Column("level", GAP, GAP_MEANING, 6, True),
+    Column("gap_sd", GAP_SD, GAP_SD_MEANING, 6, True),
     Column("linked", "How well linked", "How well games against other divisions tie the division in: 100% is "
            "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (how much "
            "of its gap to the rest games against other divisions pin down; 50% = to about ±104 points).", 9, True),
@@ -540,8 +542,9 @@ SUGGESTION_COLUMNS = (
     Column("race", "Race to", "The league's usual race.", 5),
     Column("chance", "A's chance per game", "Player A's chance of winning one game.", 9, True),
     Column("target", "Ties in", "The division whose level this match pins down most.", 12),
-    Column("sd", "\u00b1 now \u2192 after", "How uncertain that division's level is now, and after this match "
-           "(with the ones above it).", 11),
+    Column("sd", f"{GAP_SD} now \u2192 after", "How uncertain that division's gap to the rest is now, and after "
+           f"this match (with the ones above it): the Watch list's {GAP_SD}, not the {LEVEL_SD} on the Ratings "
+           "sheet.", 14),
     Column("todo", "What to do", "The suggestion in plain words.", 36, stretch=True),
 )
 
@@ -549,10 +552,10 @@ SUGGESTION_COLUMNS = (
 def division_rows(watch) -> list[Row]:
     rows = []
     for d in watch.divisions:
-        values = (d.division or "(none)", d.players, d.relative_level, d.linked_share, d.cross_games,
+        values = (d.division or "(none)", d.players, d.relative_level, d.level_sd, d.linked_share, d.cross_games,
                   d.linking_players, d.what_to_do or "nothing: well linked")
-        shown = (values[0], str(d.players), signed(d.relative_level), percent(d.linked_share),
-                 f"{d.cross_games:.0f}", str(d.linking_players), values[6])
+        shown = (values[0], str(d.players), signed(d.relative_level), points(d.level_sd), percent(d.linked_share),
+                 f"{d.cross_games:.0f}", str(d.linking_players), values[7])
         rows.append(Row(d.division or "(none)", values, shown, ("flagged",) if d.flagged else ()))
     return rows
 

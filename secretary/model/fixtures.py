@@ -2,17 +2,32 @@
 
 For a fixture between A and B the strength difference ``d = r_A - r_B``
 (log-odds) has the Laplace posterior ``N(r_A - r_B, var_A + var_B - 2 cov_AB)``
-from the league's fit (``LeagueFit.contrast_variance``); a player the fit has
-not met is taken at the centre with the prior's variance, independent of
-everyone.  Every chance shown is predictive, averaged over that posterior
-(``races.predictive_race_chance``); the point chances (``p = sigmoid(r_A -
-r_B)``) are kept beside them.  The fair race is the race, each side between
-the shortest and the longest race, whose predictive chance is closest to one
-half.
+from the league's fit (``LeagueFit.contrast_variance``).  Every chance shown
+is predictive, averaged over that posterior (``races.predictive_race_chance``);
+the point chances (``p = sigmoid(r_A - r_B)``) are kept beside them.  The fair
+race is the race, each side between the shortest and the longest race, whose
+predictive chance is closest to one half.
 
 A doubles fixture compares the sides' mean strengths: ``d = x . r`` with
-``x = (e_A + e_A2 - e_B - e_B2) / 2`` and variance ``x^T H^-1 x`` (an unmet
-player adding ``prior variance / 4``).
+``x = (e_A + e_A2 - e_B - e_B2) / 2`` and variance ``x^T H^-1 x``.
+
+A player with no results but a division on the Players sheet is in the fit:
+their strength is their division's level plus the prior (``L_d + u``), and
+the joint posterior counts the level's ± and its covariance with everyone.
+A player with no results and no division (not on the Players sheet, or there
+without a Division) is the mixture over the divisions (``Unplaced``):
+``centre + L_z + u`` with ``u ~ N(0, s^2)`` and the division ``z`` drawn with
+``P(z = d) = w_d``, the division's share of the players with a rated game.
+The chances use its mean and variance (moment matched): for seats ``s`` with
+weights ``a_s`` (``+-1``, or ``+-1/2`` in doubles) and ``z_s`` independent,
+
+    E[d]   = sum_placed a_s r_s + (sum_unplaced a_s) w . L
+    Var(d) = Var(sum_placed a_s r_s + (sum_unplaced a_s) w . L) + (sum_unplaced a_s^2) K
+    K      = sum_d w_d Var(L_d) - Var(w . L) + sum_d w_d (L_d - w . L)^2 + s^2
+
+(the first variance from the joint posterior over ``(r, L)``; the levels'
+covariance with the other players is in it).  With one division, or the
+levels fixed at equal starting levels, this is the centre with ``s^2``.
 
 How sure a forecast is: the posterior SD of ``d``.  At ``FAR_OFF`` log-odds
 (about 100 points on the 400 scale) the per-game chance of an even match is
@@ -34,7 +49,6 @@ from scipy.special import expit
 from secretary.model.league import LeagueFit
 from secretary.model.races import fair_race_predictive, predictive_game_chance, predictive_race_chance, race_chance
 from secretary.model.records import Fixture
-from secretary.model.uncertainty import difference_coefficients
 
 FAR_OFF = 0.6  # log-odds: posterior SD of the difference above which a chance "could be far off"
 ROUGH = 0.4  # log-odds: above this a chance is "rough"
@@ -58,6 +72,8 @@ class FixtureForecast:
     difference_sd : posterior SD of the strength difference, log-odds
     care : "" (sure enough), "rough" (SD over ``ROUGH``) or "far off" (over ``FAR_OFF``)
     least_known : (name, weighted games) of the player whose rating is least sure
+    no_division : the fixture's players with no results and no division, taken as the mixture over the
+        divisions (only where a division would tell something: ``Unplaced.division_matters``)
     """
 
     fixture: Fixture
@@ -75,6 +91,7 @@ class FixtureForecast:
     difference_sd: float = 0.0
     care: str = ""
     least_known: tuple[str, float] = ("", 0.0)
+    no_division: tuple[str, ...] = ()
 
 
 def _index_and_games(fit: LeagueFit, name: str) -> tuple[int, float]:
@@ -86,54 +103,91 @@ def _index_and_games(fit: LeagueFit, name: str) -> tuple[int, float]:
     return k, float(fit.games[k])
 
 
+def _placed(fit: LeagueFit, name: str) -> int:
+    """The player's index in the fit, or -1 when their strength is the mixture over the divisions: not in
+    the fit at all, or with no rated game and no division (a Players-sheet row without one)."""
+    k, games = _index_and_games(fit, name)
+    return -1 if k < 0 or (games <= 0 and not fit.group_names[fit.group[k]]) else k
+
+
+@dataclass(frozen=True)
+class Unplaced:
+    """What the fit says of a player with no results and no division: ``centre + L_z + u``.
+
+    Attributes
+    ----------
+    weights : (D,) the chance ``w_d`` that the division ``z`` is ``d``: its share of the rated players
+        (a division named "" gets none); all 0 when no division has one (then the centre)
+    mean : ``w . L``, log-odds above the centre (``u``'s prior mean is the centre)
+    spread : the variance every such seat adds on top of the contrast row ``[0, w]`` (log-odds squared):
+        ``own - Var(w . L)``
+    own : the variance of the player's strength, ``sum_d w_d Var(L_d) + sum_d w_d (L_d - w . L)^2 + s^2``
+    """
+
+    weights: np.ndarray
+    mean: float
+    spread: float
+    own: float
+    prior_var: float  # s^2
+
+    @property
+    def division_matters(self) -> bool:
+        """Knowing the division would tell something: two or more divisions to choose from, whose levels
+        differ or are uncertain (in one pool with equal levels the mixture is the centre with ``s^2``)."""
+        return int(np.count_nonzero(self.weights)) >= 2 and self.own > self.prior_var * (1.0 + 1e-9)
+
+
+def _division_shares(fit: LeagueFit) -> np.ndarray:
+    """``w_d``: each named division's share of the players with a rated game (all 0 when none has one)."""
+    rated = np.ones(len(fit.names), dtype=bool)
+    rated[fit.diagnosis.no_games] = False
+    count = np.bincount(fit.group[rated], minlength=len(fit.group_names)).astype(float)
+    count[[k for k, g in enumerate(fit.group_names) if not g]] = 0.0
+    return count / count.sum() if count.sum() > 0 else count
+
+
+def _mixture(fit: LeagueFit, w: np.ndarray, level_var: np.ndarray, mixed_var: float) -> Unplaced:
+    """``Unplaced`` from the shares ``w``, each level's variance and ``Var(w . L)`` (0s for fixed levels)."""
+    level = np.asarray(fit.level, float) if len(w) else np.zeros(0)
+    mean = float(w @ level)
+    own = float(w @ level_var) + float(w @ (level - mean) ** 2) + fit.prior_sd**2
+    return Unplaced(w, mean, own - mixed_var, own, fit.prior_sd**2)
+
+
+def _per_fixture(seats, value, m: int) -> np.ndarray:
+    """``value(seat)`` summed over each fixture's ``seats`` (0 where none)."""
+    return np.bincount(np.fromiter((s[0] for s in seats), np.int64, len(seats)),
+                       np.fromiter((value(s) for s in seats), float, len(seats)), m)
+
+
 def _posteriors(fixtures: Sequence[Fixture], fit: LeagueFit):
-    """Per fixture: mean and variance of the difference, and each player's own variance (log-odds)."""
-    if any(f.is_doubles for f in fixtures):
-        return _doubles_posteriors(fixtures, fit)
-    n, m, prior_var = len(fit.names), len(fixtures), fit.prior_sd**2
-    idx = np.array([[_index_and_games(fit, f.player_a)[0], _index_and_games(fit, f.player_b)[0]]
-                    for f in fixtures], np.int64).reshape(m, 2)
-    known = idx >= 0
-    r = np.where(known, fit.r[np.maximum(idx, 0)] if n else 0.0, 0.0)
-    # Rows over rated players: e_a - e_b (an unmet side has no column), then e_a and e_b on their own.
-    none = np.full(m, -1)
-    coef = sp.vstack([difference_coefficients(idx[:, 0], idx[:, 1], n), difference_coefficients(idx[:, 0], none, n),
-                      difference_coefficients(idx[:, 1], none, n)]).tocsr()
-    var = fit.contrast_variance(coef) if n else np.zeros(3 * m)
-    own = np.where(known, var[m:].reshape(2, m).T, prior_var)
-    diff = var[:m] + prior_var * (~known).sum(axis=1)
-    return r[:, 0] - r[:, 1], diff, [dict(zip(f.players, v)) for f, v in zip(fixtures, own.tolist())]
+    """Per fixture: mean and variance of the difference ``x . r``, and each player's own variance (log-odds).
 
-
-def _doubles_posteriors(fixtures: Sequence[Fixture], fit: LeagueFit):
-    """``_posteriors`` with doubles among the fixtures: each player weighs ``+-1 / (players on the side)``."""
-    n, m, prior_var = len(fit.names), len(fixtures), fit.prior_sd**2
-    row, col, value, unmet = [], [], [], np.zeros(m)
-    mean = np.zeros(m)
-    seats = []
-    for k, f in enumerate(fixtures):
-        for side, sign in ((f.side_a, 1.0), (f.side_b, -1.0)):
-            for name in side:
-                c, idx = sign / len(side), _index_and_games(fit, name)[0]
-                seats.append((k, name, idx))
-                if idx < 0:
-                    unmet[k] += c * c * prior_var
-                else:
-                    row.append(k), col.append(idx), value.append(c)
-                    mean[k] += c * fit.r[idx]
-    known = [s for s in seats if s[2] >= 0]
-    own_rows = sp.csr_matrix((np.ones(len(known)), (np.arange(len(known)), [s[2] for s in known])),
-                             shape=(len(known), max(n, 1)))
-    coef = sp.vstack([sp.csr_matrix((value, (row, col)), shape=(m, max(n, 1))), own_rows]).tocsr()
-    var = fit.contrast_variance(coef) if n else np.zeros(m + len(known))
+    Each player weighs ``+-1 / (players on the side)``; a player the fit cannot place (``_placed``) is the
+    mixture ``Unplaced``: their weight goes on the levels' row ``w``, and ``weight^2 * spread`` on top.
+    """
+    n, m, w, r = len(fit.names), len(fixtures), _division_shares(fit), np.asarray(fit.r, float)
+    seats = [(k, name, sign / len(side), _placed(fit, name)) for k, f in enumerate(fixtures)
+             for side, sign in ((f.side_a, 1.0), (f.side_b, -1.0)) for name in side]
+    known, away = [s for s in seats if s[3] >= 0], [s for s in seats if s[3] < 0]
+    # Rows: each fixture's x (placed players; the levels' part), each placed seat alone, each level, w . L.
+    k, D, at = len(known), len(w), [s[3] for s in known]
+    rows = [s[0] for s in known] + list(range(m, m + k))
+    players = sp.csr_matrix(([s[2] for s in known] + [1.0] * k, (rows, at * 2)), shape=(m + k + D + 1, max(n, 1)))
+    share = _per_fixture(away, lambda s: s[2], m)
+    levels = sp.csr_matrix(np.vstack([np.outer(np.r_[share, np.zeros(k)], w), np.eye(D), w[None, :]]))
+    var = fit.contrast_variance(players, levels) if n else np.zeros(m + k + D + 1)
+    mix = _mixture(fit, w, var[m + k:m + k + D], float(var[-1]))
     own: list[dict[str, float]] = [{} for _ in range(m)]
-    known_var = iter(var[m:].tolist())
-    for k, name, idx in seats:
-        own[k][name] = next(known_var) if idx >= 0 else prior_var
-    return mean, var[:m] + unmet, own
+    for (f, name, _, _), v in zip(known, var[m:m + k].tolist()):
+        own[f][name] = v
+    for f, name, _, _ in away:
+        own[f][name] = mix.own
+    mean = _per_fixture(known, lambda s: s[2] * r[s[3]], m) + share * mix.mean
+    return mean, var[:m] + _per_fixture(away, lambda s: s[2] ** 2, m) * mix.spread, own, mix
 
 
-def _forecast(fixture: Fixture, fit: LeagueFit, mean: float, var: float, side_var) -> FixtureForecast:
+def _forecast(fixture: Fixture, fit: LeagueFit, mean: float, var: float, side_var, mix: Unplaced) -> FixtureForecast:
     settings = fit.settings
     race_a = int(fixture.race_a or settings.usual_race)
     race_b = int(fixture.race_b or settings.usual_race)
@@ -159,6 +213,7 @@ def _forecast(fixture: Fixture, fit: LeagueFit, mean: float, var: float, side_va
         difference_sd=sd,
         care="far off" if sd >= FAR_OFF else "rough" if sd >= ROUGH else "",
         least_known=(least, games[least]),
+        no_division=tuple(name for name in fixture.players if mix.division_matters and _placed(fit, name) < 0),
     )
 
 
@@ -167,8 +222,8 @@ def forecast_fixtures(fixtures: Iterable[Fixture], fit: LeagueFit) -> tuple[Fixt
     fixtures = tuple(fixtures)
     if not fixtures:
         return ()
-    mean, var, side = _posteriors(fixtures, fit)
-    return tuple(_forecast(fx, fit, float(mean[k]), float(var[k]), side[k]) for k, fx in enumerate(fixtures))
+    mean, var, side, mix = _posteriors(fixtures, fit)
+    return tuple(_forecast(fx, fit, float(mean[k]), float(var[k]), side[k], mix) for k, fx in enumerate(fixtures))
 
 
 def forecast(fixture: Fixture, fit: LeagueFit) -> FixtureForecast:

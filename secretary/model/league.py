@@ -106,23 +106,25 @@ class LeagueFit:
         """One player's ± in points."""
         return float(self.sds[self.index(name)])
 
-    def contrast_variance(self, coefficients) -> np.ndarray:
-        """Posterior variance of each row of ``coefficients @ r`` (log-odds squared; coefficients (m, n_players)).
+    def contrast_variance(self, coefficients, level_coefficients=None) -> np.ndarray:
+        """Posterior variance of each row of ``coefficients @ r + level_coefficients @ L`` (log-odds squared;
+        coefficients (m, n_players), level_coefficients (m, divisions) or None; fixed levels add nothing).
 
         Exact from the Laplace posterior: ``c^T H^-1 c`` with ``H`` the fit's
         Hessian at the optimum (``uncertainty.contrast_variance``).  With free
         division levels ``H`` is the joint Hessian over ``(r, L)``, in which a
         contrast over the strengths is ``[c, 0]`` (the levels' covariance is
         inside ``H^-1``), and the levels' average, which no game sees, is the anchor:
-        a row whose coefficients sum to ``k`` sheds ``k^2 tau^2 / D`` (``common_mode``;
-        nothing for a difference).
+        a row whose coefficients (the levels' included) sum to ``k`` sheds ``k^2 tau^2 / D``
+        (``common_mode``; nothing for a difference).
         """
         H = hessian(self.pairs, self.r, self.prior_sd, self.levels)
         if self.levels is None:
             return contrast_variance(H, coefficients)
-        total = np.asarray(coefficients.sum(axis=1)).ravel()
-        coefficients = sp.hstack([sp.csr_matrix(coefficients),
-                                  sp.csr_matrix((np.shape(coefficients)[0], len(self.levels.mean)))], "csr")
+        m = np.shape(coefficients)[0]
+        on_levels = sp.csr_matrix((m, len(self.levels.mean)) if level_coefficients is None else level_coefficients)
+        total = np.asarray(coefficients.sum(axis=1)).ravel() + np.asarray(on_levels.sum(axis=1)).ravel()
+        coefficients = sp.hstack([sp.csr_matrix(coefficients), on_levels], "csr")
         return np.maximum(contrast_variance(H, coefficients) - total**2 * common_mode(self.levels), 0.0)
 
     def starting_levels(self) -> dict[str, float]:

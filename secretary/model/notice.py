@@ -29,6 +29,8 @@ MONTHS = ("January", "February", "March", "April", "May", "June", "July", "Augus
 CHART_PLAYERS = 6  # biggest changes drawn per division
 
 NOT_RATED = "{} not rated yet: this chance is a rough guess"
+NO_DIVISION_NOTE = ("{} no results and no division on the Players sheet: this chance is a rough guess; "
+                    "add {} there for a better one")
 FAR_OFF_NOTE = "{} has {} games: this chance could be far off"
 ROUGH_NOTE = "{} has {} games: treat this chance as rough"
 PAST_NOTE = "past: dated before the latest results"  # a fixture before the newest result (window, sheet, card)
@@ -197,10 +199,16 @@ def build_notice(breakdown: "Breakdown", ratings: Sequence[PlayerRating], settin
 def forecast_note(fc: "FixtureForecast") -> str:
     """How sure a fixture's chance is, in plain words ('' when it is sure enough).
 
-    Names the player whose rating is least sure when the posterior SD of the
+    A player with no results and no division comes first, with what to do
+    about it (``FixtureForecast.no_division``); then the players not rated yet;
+    else the player whose rating is least sure when the posterior SD of the
     difference reaches the forecast's ``ROUGH`` or ``FAR_OFF`` thresholds
     (``secretary.model.fixtures``).
     """
+    if fc.no_division:
+        many = len(fc.no_division) > 1
+        return NO_DIVISION_NOTE.format(f"{' and '.join(fc.no_division)} {'have' if many else 'has'}",
+                                       "their divisions" if many else "their division")
     if fc.not_rated:
         names = " and ".join(fc.not_rated)
         return NOT_RATED.format(f"{names} {'are' if len(fc.not_rated) > 1 else 'is'}")

@@ -308,7 +308,7 @@ class PlayerRating:
     games: float  # age-weighted games played
     wins: float  # age-weighted games won
     last_played: dt.date | None
-    change: float | None = None  # points since the previous update; None = new
+    change: float | None = None  # shown whole points since the previous update (the Why it changed sheet's Change); None = new
     is_new: bool = False  # first published this update
     doubles_games: float = 0.0  # age-weighted doubles games played (included in ``games``)
     division_from: str = ""  # how the division was found: one of HOME_RULES ("" when not known)

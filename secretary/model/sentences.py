@@ -8,6 +8,9 @@ when a lead is needed ("You did not play this week.", "Back after 7
 months."), the lead and the largest part's clause.  Figures quoted are the shown whole points, and the games
 quoted are this update's new games with the number the player's pre-week
 rating expected them to win (the sum over those games of the pre-week chance).
+When no part is worth a word the sentence still says what the week was (played
+about as expected, did not play) and the shown change: 0 is "stays where it
+was", never a change, and a shown +1 is "hardly moved", never "no change".
 """
 from __future__ import annotations
 
@@ -22,6 +25,7 @@ MIN_POINTS = 1.0
 MIN_SHARE = 0.2
 LONG_GAP_DAYS = 90  # a player away this long is "back after a gap"
 DAYS_PER_MONTH = 30.44
+AS_EXPECTED = 0.05  # games: a week's wins this close to the expected number are "about as many as expected"
 
 
 @dataclass(frozen=True)
@@ -73,25 +77,55 @@ def division_label(division: str) -> str:
     return f"the {division} division"
 
 
+def _surprise(pc: "PlayerChange") -> float:
+    """Games won this week minus the games the pre-week rating expected."""
+    return pc.new_won - pc.new_expected
+
+
+def _week(pc: "PlayerChange") -> str:
+    """``You won 2 of 3 games this week, about as many as your rating expected`` (no full stop)."""
+    diff = _surprise(pc)
+    word = "more" if diff > 0 else "fewer"
+    if abs(diff) >= 0.5:
+        phrase = f"about {math.floor(abs(diff) + 0.5)} {word} than your rating expected"
+    elif abs(diff) >= AS_EXPECTED:
+        phrase = f"a little {word} than your rating expected"
+    else:
+        phrase = "about as many as your rating expected"
+    return f"You won {pc.new_won} of {_games(pc.new_games)} this week, {phrase}"
+
+
+def _still(pc: "PlayerChange", change: int, lead: list[str]) -> str:
+    """The sentence when no part is worth a word: what the week was, and the shown change (0 or a point or so).
+
+    A shown change of 0 is never called a change, and a shown +1 never "no change": the figure quoted is
+    the one the sheets show (``PlayerChange.shown``).
+    """
+    if not pc.played:
+        away = lead[0].rstrip(".")  # "You did not play this week" or "You have not played for 4 months"
+        if change == 0:
+            return f"{away}, and your rating stays where it was."
+        return f"{away}, and your rating hardly moved: {signed(change)}."
+    head = " ".join(lead + [_week(pc)])
+    if change:
+        return f"{head}: hardly any change, {signed(change)}."
+    if abs(_surprise(pc)) < AS_EXPECTED:
+        return f"{head}, so your rating stays where it was."
+    return f"{head}, but that moves your rating by less than a point: no change."
+
+
 def _own(pc: "PlayerChange", points: int, context: Context) -> str:
     if not pc.played and context.dates_moved_back:
         return f"The newest results were taken out, so your older games count a little more again: {signed(points)}."
     if not pc.played:
         return f"Your older games now count a little less, which moves you back toward the starting rating: {signed(points)}."
-    diff = pc.new_won - pc.new_expected
-    word = "more" if diff > 0 else "fewer"
-    if abs(diff) >= 0.5:
-        phrase = f"about {math.floor(abs(diff) + 0.5)} {word} than your rating expected"
-    elif abs(diff) >= 0.05:
-        phrase = f"a little {word} than your rating expected"
-    else:
-        phrase = "about as many as your rating expected"
-    head = f"You won {pc.new_won} of {_games(pc.new_games)} this week, {phrase}"
+    diff = _surprise(pc)
+    head = _week(pc)
     ageing_counts = abs(pc.ageing) >= MIN_POINTS and abs(pc.ageing) >= MIN_SHARE * abs(pc.own)
     if not ageing_counts:  # (games that disagree in sign can only come from very uneven age weights)
         return f"{head}: {signed(points)}."
     # Older games losing weight moved the player too (toward the starting rating).
-    joint = "but" if abs(diff) >= 0.05 and (diff > 0) != (pc.ageing > 0) else "and"
+    joint = "but" if abs(diff) >= AS_EXPECTED and (diff > 0) != (pc.ageing > 0) else "and"
     less = "more" if context.dates_moved_back else "less"
     return f"{head}, {joint} your older games now count {less}: {signed(points)} in all."
 
@@ -158,10 +192,10 @@ def sentence(pc: "PlayerChange", context: Context = Context()) -> str:
     lead = []
     if pc.played and away:
         lead.append(f"Back after {_months(pc.days_away)}.")
-    elif not pc.played and order and order[0] != 3:  # a correction needs no "you did not play"
+    elif not pc.played and (not order or order[0] != 3):  # a correction needs no "you did not play"
         lead.append(f"You have not played for {_months(pc.days_away)}." if away else "You did not play this week.")
     if not order:
-        return " ".join(lead + ["No change." if change == 0 else f"Hardly any change: {signed(change)}."])
+        return _still(pc, change, lead)
     clauses = []
     for k in order[: 1 if lead else 2]:  # never more than two sentences
         if k == 0:

@@ -14,6 +14,10 @@ from secretary.model.fit import hessian
 from secretary.model.races import fair_race_predictive, predictive_race_chance
 from secretary.model.records import Fixture, Result, Settings
 from secretary.model.scale import to_strength
+from secretary.model.notice import forecast_note
+from scipy.special import logit
+import scipy.sparse as sp
+from tests import newcomer_league as newcomers
 
 DAY = dt.date(2026, 3, 5)
 
@@ -90,6 +94,7 @@ def test_flags_for_few_games_and_unknown_players():
     H = hessian(fit.pairs, fit.r, fit.prior_sd).toarray()
     assert stranger.difference_sd**2 == pytest.approx(np.linalg.inv(H)[k, k] + fit.prior_sd**2, rel=1e-10)
     assert stranger.care == "far off" and stranger.least_known == ("Eve Stranger", 0.0)
+    assert stranger.no_division == ()  # one division: a division on the Players sheet would tell nothing
     assert regular.care == "" and seldom.least_known[0] == "Dot Seldom"
 
 
@@ -146,3 +151,60 @@ def test_a_demo_newcomers_chance_is_pulled_toward_even_by_the_monte_carlo_amount
     assert pull_mc > 0.01 and fc.fair_chance < 0.5  # toward 50 %, by over a point (measured 0.014 with doubles)
     assert fc.game_chance - fc.point_game_chance == pytest.approx(float(expit(d).mean()) - fc.point_game_chance,
                                                                   abs=1e-3)
+
+
+@pytest.mark.parametrize("spread, levels", [(250.0, None), (0.0, {"Premier": 120.0, "Second": -100.0})],
+                         ids=["free levels", "fixed starting levels"])
+def test_a_player_with_no_results_and_no_division_is_the_mixture_over_the_divisions(spread, levels):
+    fit = fit_league(newcomers.results(), Settings(division_spread=spread), players=newcomers.players(),
+                     starting_levels=levels)
+    fixtures = newcomers.fixtures()
+    out = forecast_fixtures(fixtures, fit)
+    for fixture, fc in zip(fixtures, out):
+        # Source: tests/newcomer_league.py, every choice of division enumerated with numpy.linalg.inv.
+        mean, var = newcomers.by_enumeration(fit, fixture, newcomers.shares())
+        assert logit(fc.point_game_chance) == pytest.approx(mean, abs=1e-9)
+        assert fc.difference_sd**2 == pytest.approx(var, rel=1e-9)
+        assert fc.race_chance == pytest.approx(predictive_race_chance(mean, var, fc.race_a, fc.race_b), abs=1e-12)
+    # At the centre with the prior's variance (how a stranger was taken before) is well off the mixture.
+    k = fit.index("Ada Finch")
+    centre = fit.r[k], fit.contrast_variance(sp.csr_matrix(([1.0], ([0], [k])), shape=(1, len(fit.names))))[0]
+    mean, var = newcomers.by_enumeration(fit, fixtures[0], newcomers.shares())
+    assert abs(centre[0] - mean) > 0.15 and var - (centre[1] + fit.prior_sd**2) > 0.1
+
+
+def test_a_player_with_a_division_but_no_results_starts_at_its_level_with_its_uncertainty():
+    fit = fit_league(newcomers.results(), Settings(division_spread=250.0), players=newcomers.players())
+    k, first = fit.index(newcomers.LISTED), fit.group_names.index("First")
+    assert fit.r[k] == pytest.approx(fit.level[first], abs=1e-9)  # no games: the own deviation at its prior mean
+    cov = np.linalg.inv(hessian(fit.pairs, fit.r, fit.prior_sd, fit.levels).toarray())
+    level = len(fit.names) + first
+    # Source: numpy.linalg.inv of the joint Hessian: strength = level + a deviation the games never saw,
+    # so its variance is the level's plus the prior's, and it moves with everyone as the level does.
+    assert cov[k, k] == pytest.approx(cov[level, level] + fit.prior_sd**2, rel=1e-9)
+    assert cov[k, :len(fit.names)][np.arange(len(fit.names)) != k] == pytest.approx(
+        cov[level, :len(fit.names)][np.arange(len(fit.names)) != k], abs=1e-12)
+    fc = forecast(Fixture(DAY, "Kit Ellis", newcomers.LISTED), fit)
+    j = fit.index("Kit Ellis")
+    assert fc.difference_sd**2 == pytest.approx(cov[j, j] + cov[k, k] - 2 * cov[j, k], rel=1e-9)
+    assert fc.no_division == () and fc.not_rated == (newcomers.LISTED,)
+
+
+def test_the_note_says_what_to_do_for_a_player_with_no_division():
+    fit = fit_league(newcomers.results(), Settings(division_spread=250.0), players=newcomers.players())
+    notes = [forecast_note(fc) for fc in forecast_fixtures(newcomers.fixtures(), fit)]
+    assert notes == [
+        "Pia Wren has no results and no division on the Players sheet: this chance is a rough guess; "
+        "add their division there for a better one",
+        "Pia Wren and Otto Vane have no results and no division on the Players sheet: this chance is a rough "
+        "guess; add their divisions there for a better one",
+        "Nell Quarry is not rated yet: this chance is a rough guess",
+        "Pia Wren has no results and no division on the Players sheet: this chance is a rough guess; "
+        "add their division there for a better one"]
+
+
+def test_one_division_gives_no_advice_to_add_one():
+    """With one division a division on the Players sheet would tell nothing: the plain 'not rated yet'."""
+    results = [r for r in newcomers.results() if r.division == "Premier"]
+    fc = forecast(newcomers.fixtures()[0], fit_league(results, Settings(division_spread=250.0)))
+    assert fc.no_division == () and forecast_note(fc) == "Pia Wren is not rated yet: this chance is a rough guess"

@@ -76,8 +76,27 @@ def test_corrections(context, text):
 def test_newcomer_first_update_and_no_change():
     assert sentence(change(own=40.0, is_new=True, games=12)) == "First rating: based on 12 games."
     assert sentence(change(own=40.0, games=1), Context(first_update=True)) == "First rating: based on 1 game."
-    assert sentence(change(own=0.3, opponents=-0.2)) == "No change."
-    assert sentence(change(own=0.6, opponents=0.3, before=1500.4)) == "Hardly any change: +1."
+
+
+
+def test_a_rating_that_barely_moved_says_what_happened():
+    # Shown 0 is never called a change; a shown +1 from under a point is never "no change".
+    assert sentence(change(own=0.3, opponents=-0.2)) == "You did not play this week, and your rating stays where it was."
+    assert sentence(change(own=0.6, opponents=0.3, before=1500.4)) == (
+        "You did not play this week, and your rating hardly moved: +1.")
+    assert sentence(change(own=0.2, days_away=150)) == (
+        "You have not played for 5 months, and your rating stays where it was.")
+    played = dict(played=True, new_games=3, new_won=2)
+    assert sentence(change(own=0.1, new_expected=1.98, **played)) == (
+        "You won 2 of 3 games this week, about as many as your rating expected, so your rating stays where it was.")
+    assert sentence(change(own=0.4, new_expected=1.2, games=400, **played)) == (
+        "You won 2 of 3 games this week, about 1 more than your rating expected, but that moves your rating "
+        "by less than a point: no change.")
+    assert sentence(change(own=0.7, new_expected=1.8, before=1500.4, **played)) == (
+        "You won 2 of 3 games this week, a little more than your rating expected: hardly any change, +1.")
+    assert sentence(change(own=0.1, new_expected=2.0, days_away=200, **played)) == (
+        "Back after 7 months. You won 2 of 3 games this week, about as many as your rating expected, "
+        "so your rating stays where it was.")
 
 
 def test_back_after_a_gap_and_ageing():
