@@ -2,14 +2,18 @@
 from __future__ import annotations
 
 import datetime as dt
+import heapq
+import itertools
 import re
 from dataclasses import dataclass, replace
+from operator import itemgetter
 from typing import Iterable, Mapping, Sequence
 
-from secretary.model.division_table import INFERRED
+from secretary.model.division_table import INFERRED, LEVEL_SD, LEVEL_SD_MEANING
 from secretary.model.notice import PAST_NOTE, fixture_note, is_past
 from secretary.model.records import HOME_RULES
 from secretary.model.sentences import naming, plural
+from secretary.model.watch_sentences import GAP, GAP_MEANING, GAP_SD, GAP_SD_MEANING
 from secretary.workbook import schema
 
 # ------------------------------------------------------------------ the routine
@@ -119,24 +123,55 @@ class Row:
     tags: tuple[str, ...] = ()
 
 
-def sort_key(value: object) -> tuple:
-    """Numbers by size, text alphabetically without regard to capitals, blanks last."""
+SORT_CHUNK = 500  # rows whose sort keys are worked out and sorted per step (a few ms: one turn of the event loop)
+NUMBER, TEXT, BLANK = 0, 1, 2  # how a value sorts: numbers by size, then text, blanks always last
+
+
+def sort_value(value: object) -> tuple[int, float | str]:
+    """(NUMBER, the number) for numbers and dates, (TEXT, the text without regard to capitals), (BLANK, "")."""
     if value is None or value == "":
-        return (2, 0, "")
-    if isinstance(value, bool):
-        return (1, 0, str(value))
-    if isinstance(value, (int, float)):
-        return (0, float(value), "")
+        return BLANK, ""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return NUMBER, float(value)
     if isinstance(value, dt.date):
-        return (0, float(value.toordinal()), "")
-    return (1, 0, str(value).casefold())
+        return NUMBER, float(value.toordinal())
+    return TEXT, str(value).casefold()
 
 
 def sort_rows(rows: Sequence[Row], index: int, descending: bool = False) -> list[Row]:
-    """Rows ordered by one column; blanks stay at the end either way."""
-    filled = [r for r in rows if sort_key(r.values[index])[0] < 2]
-    blank = [r for r in rows if sort_key(r.values[index])[0] == 2]
-    return sorted(filled, key=lambda r: sort_key(r.values[index]), reverse=descending) + blank
+    """Rows ordered by one column: numbers by size, then text alphabetically without regard to capitals
+    (the other way round when ``descending``); blanks stay at the end either way."""
+    steps = sort_steps(lambda start, end: rows[start:end], len(rows), index, descending, chunk=max(1, len(rows)))
+    while True:
+        try:
+            next(steps)
+        except StopIteration as done:
+            return list(done.value)
+
+
+def sort_steps(rows_of, count: int, index: int, descending: bool = False, chunk: int = SORT_CHUNK):
+    """``sort_rows`` a chunk at a time, for a table that must not hold the window up: a generator that sorts
+    ``chunk`` rows per step (``rows_of(start, end)`` gives them), yields between steps and returns an iterator
+    over all ``count`` rows in order, merged from the sorted chunks as it is read. Equal values keep the
+    order given, either way (the merge takes an earlier chunk's row first). The keys are plain numbers and
+    strings, no tuple per row: 100,000 of those would set off the garbage collector's full passes."""
+    runs, blanks = ([], []), []  # per kind: each chunk's (key, row) pairs in order, as iterators
+    for start in range(0, count, chunk):
+        if start:
+            yield
+        parts = ([], []), ([], [])  # per kind: keys, rows
+        for row in rows_of(start, start + chunk):
+            kind, key = sort_value(row.values[index])
+            if kind == BLANK:
+                blanks.append(row)
+            else:
+                parts[kind][0].append(key)
+                parts[kind][1].append(row)
+        for kind, (keys, rows) in enumerate(parts):
+            order = sorted(range(len(keys)), key=keys.__getitem__, reverse=descending)
+            runs[kind].append(zip([keys[i] for i in order], [rows[i] for i in order]))
+    merged = [heapq.merge(*run, key=itemgetter(0), reverse=descending) for run in runs]  # a run is freed once read
+    return itertools.chain(*(map(itemgetter(1), m) for m in (merged[::-1] if descending else merged)), blanks)
 
 
 def matches(text: str, search: str) -> bool:
@@ -226,9 +261,9 @@ LEVEL_COLUMNS = (
     Column("level", "Division level", "How strong the division is as a whole, in points above (+) or below (-) "
            "the starting rating (Centre); a player's rating is their division's level plus how far they stand "
            "from it (the division's level, a random effect fitted with the players).", 8, True),
-    Column("sd", "\u00b1", "How uncertain the division level is, in points (its posterior SD). It stays wide "
-           "even with many games, because games show a division's strength but not how it splits between the "
-           "level and its players' own distances from it; blank when Division spread is 0 (fixed levels).", 4, True),
+    Column("sd", LEVEL_SD, f"{LEVEL_SD_MEANING} Technical term: the level's posterior SD. It stays wide even "
+           "with many games, because games show a division's strength but not how it splits between the level "
+           "and its players' own distances from it; blank when Division spread is 0 (fixed levels).", 6, True),
     Column("players", "Players", "Players counted in the division.", 6, True),
     Column("cross", "Games against other divisions", "Games against other divisions (older ones counting "
            "less): the games that set the level.", 9, True),
@@ -509,7 +544,8 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
 DIVISION_COLUMNS = (
     Column("division", "Division", "The division (the group whose level is compared with the others).", 14),
     Column("players", "Players", "Players counted in the division.", 6, True),
-    Column("level", "Against the rest", "The division's average rating minus the league's, in points.", 6, True),
+    Column("level", GAP, GAP_MEANING, 6, True),
+    Column("gap_sd", GAP_SD, GAP_SD_MEANING, 6, True),
     Column("linked", "How well linked", "How well games against other divisions tie the division in: 100% is "
            "fully tied in, a low share means its level is mostly a guess. Technical term: linked share (how much "
            "of its gap to the rest games against other divisions pin down; 50% = to about ±104 points).", 9, True),
@@ -540,8 +576,9 @@ SUGGESTION_COLUMNS = (
     Column("race", "Race to", "The league's usual race.", 5),
     Column("chance", "A's chance per game", "Player A's chance of winning one game.", 9, True),
     Column("target", "Ties in", "The division whose level this match pins down most.", 12),
-    Column("sd", "\u00b1 now \u2192 after", "How uncertain that division's level is now, and after this match "
-           "(with the ones above it).", 11),
+    Column("sd", f"{GAP_SD} now \u2192 after", "How uncertain that division's gap to the rest is now, and after "
+           f"this match (with the ones above it): the Watch list's {GAP_SD}, not the {LEVEL_SD} on the Ratings "
+           "sheet.", 14),
     Column("todo", "What to do", "The suggestion in plain words.", 36, stretch=True),
 )
 
@@ -549,10 +586,10 @@ SUGGESTION_COLUMNS = (
 def division_rows(watch) -> list[Row]:
     rows = []
     for d in watch.divisions:
-        values = (d.division or "(none)", d.players, d.relative_level, d.linked_share, d.cross_games,
+        values = (d.division or "(none)", d.players, d.relative_level, d.level_sd, d.linked_share, d.cross_games,
                   d.linking_players, d.what_to_do or "nothing: well linked")
-        shown = (values[0], str(d.players), signed(d.relative_level), percent(d.linked_share),
-                 f"{d.cross_games:.0f}", str(d.linking_players), values[6])
+        shown = (values[0], str(d.players), signed(d.relative_level), points(d.level_sd), percent(d.linked_share),
+                 f"{d.cross_games:.0f}", str(d.linking_players), values[7])
         rows.append(Row(d.division or "(none)", values, shown, ("flagged",) if d.flagged else ()))
     return rows
 

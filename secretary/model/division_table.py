@@ -2,8 +2,9 @@
 
 One table for the Ratings sheet, the window's Ratings view and the notice
 board, so that all three say the same.  A division's level is ``L_d`` of the
-fit (``LeagueFit.level``), in points above the centre; its ± is the Laplace
-posterior SD of ``L_d`` (``LeagueFit.level_sd``).  With Division spread 0 the
+fit (``LeagueFit.level``), in points above the centre; its ± (``LEVEL_SD``, "± of
+the level") is the Laplace posterior SD of ``L_d`` against the levels' average
+(``LeagueFit.level_sd``), never called by the watch list's name for its own ±.  With Division spread 0 the
 levels are fixed at their starting levels and have no ±.
 """
 from __future__ import annotations
@@ -13,6 +14,12 @@ from dataclasses import dataclass
 from secretary.model.records import Settings
 
 NO_DIVISION = "(no division)"
+# Two different ± of a division, named apart everywhere: this table's (the level against the average of all
+# the divisions) and the watch list's (``watch_sentences.GAP_SD``: the division against the other divisions).
+LEVEL_SD = "± of the level"
+LEVEL_SD_MEANING = ("How uncertain the division level is, in points, measured against the average of all the "
+                    "divisions. Not the Watch list's ± of the gap, which compares the division with the "
+                    "other divisions only and so reads wider.")
 FIXED = "fixed at its starting level (Division spread is 0)"
 UNLINKED = "no games against other divisions yet: still at its starting level"
 STARTED = "started at {:+.0f} (Divisions sheet)"
@@ -52,7 +59,8 @@ class DivisionLevel:
 def level_sentence(settings: Settings) -> str:
     """What "division level" means, in one plain sentence."""
     return (f"A division level is how strong a division is as a whole: points above (+) or below (-) the "
-            f"league's starting rating of {settings.centre:.0f}, set by the games between divisions.")
+            f"league's starting rating of {settings.centre:.0f}, set by the games between divisions; the "
+            f"± after it (the {LEVEL_SD}) is how uncertain it is.")
 
 
 def level_table(fit, watch) -> tuple[DivisionLevel, ...]:

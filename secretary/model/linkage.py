@@ -47,9 +47,11 @@ class DivisionLink:
     division : the division's name ("" for players without one)
     players : players counted in it
     level : the division's level (with Division spread) or its players' mean rating, points
-    relative_level : against the rest, points: the level minus the other divisions' average level
-        (with Division spread), or the mean rating minus the league's
-    level_sd : ± (one SD) of the relative level from the games, points
+    relative_level : the gap to the rest (``watch_sentences.GAP``), points: the level minus the other
+        divisions' average level (with Division spread), or the mean rating minus the league's
+    level_sd : the ± of the gap (``watch_sentences.GAP_SD``: one posterior SD of ``relative_level``), points;
+        with free levels exactly ``D / (D - 1)`` times the divisions table's ± of the level, which is
+        measured against the average of all D levels
     prior_sd : the same ± under the starting assumption alone, points
     linked_share : the share of the division's gap to the rest that games pin down, 0 to 1, against the
         fixed ``LINK_REFERENCE`` (``division_shares``)
@@ -117,7 +119,7 @@ class Pool:
     players : their names
     divisions : the divisions they are counted in
     games : age-weighted games among themselves
-    level_sd : ± of the pool's average rating against the league's, points
+    level_sd : ± of the pool's gap to the rest (its average rating against the league's), points
     what_to_do : one line in plain words, naming them
     """
 

@@ -40,7 +40,7 @@ class LinkingMatch:
     chance_a : chance that A wins one game
     expected_games : expected games in the race
     target : the weakly linked division whose level it ties in most
-    sd_before, sd_after : ± of that level against the rest of the league, points
+    sd_before, sd_after : the target's ± of the gap (``DivisionLink.level_sd``) before and after, points
     what_to_do : one line in plain words
     """
 

@@ -17,6 +17,16 @@ NO_DIVISION = "(no division)"
 SHOWN_NAMES = 12  # names listed before "and N more"
 POOL_NAMES = 4  # names in a separate pool's line
 SUMMARY_PLAYERS = 5  # held-back players named in the short summary before "and N more"
+# A division against the rest of the league, and how sure that is (not the divisions table's ± of the level).
+GAP = "Gap to the rest"
+GAP_SD = "± of the gap"
+GAP_MEANING = ("How far the division stands above (+) or below (-) the rest of the league, in points (its "
+               "division level minus the other divisions' average level; with Division spread 0, its players' "
+               "average rating minus the league's).")
+GAP_SD_MEANING = ("How uncertain the gap to the rest is, in points (what linking matches narrow). Not the "
+                  "± of the level on the Ratings sheet, which measures the level against the average of "
+                  "all the divisions, itself included, and so reads smaller.")
+POOL_GAP_SD = "± of their gap to the rest"  # a separate pool's average rating against the league's
 NOTHING_TO_DO = "Nothing to act on: every division is tied in well enough and no rating is held back."
 
 
@@ -47,7 +57,7 @@ def held_todo(division: str, division_flagged: bool) -> str:
     if division_flagged:
         return (f"Their true level cannot show until they play outside {division_label(division)}; "
                 "treat their handicap with care.")
-    return "Their results run ahead of their rating; it will catch up as they play more."
+    return "Their results run ahead of their rating; it should catch up as they play more."
 
 
 def pool_todo(names: Sequence[str]) -> str:
@@ -60,8 +70,9 @@ def pool_todo(names: Sequence[str]) -> str:
 
 def match_todo(player_a: str, player_b: str, race: int, target: str, sd_before: float, sd_after: float) -> str:
     """One suggested linking match and what it would do to the level it ties in."""
-    return (f"Arrange {player_a} v {player_b}, race to {race}: the level of {division_label(target)} "
-            f"would then be known to ±{sd_after:.0f} points instead of ±{sd_before:.0f}.")
+    return (f"Arrange {player_a} v {player_b}, race to {race}: the gap between {division_label(target)} and "
+            f"the rest of the league would then be known to ±{sd_after:.0f} points instead of "
+            f"±{sd_before:.0f}.")
 
 
 def more_held(count: int) -> str:

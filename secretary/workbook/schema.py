@@ -209,7 +209,7 @@ SETTINGS_TABLE: tuple[SettingSpec, ...] = (
                 "The paper size of the printed notice board.", choices=("A4", "Letter")),
     SettingSpec("weakly_linked_below", "Weakly linked below", "number",
                 "A division is on the watch list when its games against other divisions pin its "
-                "level against the rest less well than this share (0 to 1; 0.5 = to about "
+                "gap to the rest less well than this share (0 to 1; 0.5 = to about "
                 "±104 points).", 0, 1),
     SettingSpec("held_z", "Held back from", "number",
                 "How surprising (in standard deviations) a player's results must be before "

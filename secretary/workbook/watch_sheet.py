@@ -9,7 +9,8 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from secretary.model.linkage import WatchList
-from secretary.model.watch_sentences import division_label, listing, more_held
+from secretary.model.watch_sentences import (GAP, GAP_MEANING, GAP_SD, GAP_SD_MEANING, POOL_GAP_SD, division_label,
+                                             listing, more_held)
 from secretary.workbook.schema import WATCH_SHEET
 from secretary.workbook.style import DATE_FORMAT, GAMES_FORMAT, RATING_FORMAT, SD_FORMAT, put, replace_sheet
 
@@ -22,9 +23,11 @@ TODO = "What to do"
 LINKED = "How well linked"  # the linked share, in plain words (the window's heading too)
 DIVISION_LINKED = "How well their division is linked"
 
-POOL_HEADERS = ("Players", "Divisions", "Games among themselves", "± of their level", TODO)
+GAP_NOW, GAP_AFTER = f"{GAP_SD} now", f"{GAP_SD} after"  # a suggested match's target, before and after it
+
+POOL_HEADERS = ("Players", "Divisions", "Games among themselves", POOL_GAP_SD, TODO)
 DIVISION_HEADERS = (
-    "Division", "Players", "Average rating", "Against the rest", "± of its level", LINKED,
+    "Division", "Players", "Average rating", GAP, GAP_SD, LINKED,
     "Games against other divisions", "Recent games against other divisions", "Players who link it",
     "Needs attention", TODO,
 )
@@ -34,17 +37,17 @@ HELD_HEADERS = (
 )
 MATCH_HEADERS = (
     "Player A", "Division A", "Rating A", "Player B", "Division B", "Rating B", "Race to",
-    "A's chance per game", "Expected games", "Ties in", "± now", "± after", TODO,
+    "A's chance per game", "Expected games", "Ties in", GAP_NOW, GAP_AFTER, TODO,
 )
 FORMATS = {
-    "Games among themselves": GAMES_FORMAT, "± of their level": SD_FORMAT,
-    "Average rating": RATING_FORMAT, "Against the rest": SIGNED_FORMAT, "± of its level": SD_FORMAT,
+    "Games among themselves": GAMES_FORMAT, POOL_GAP_SD: SD_FORMAT,
+    "Average rating": RATING_FORMAT, GAP: SIGNED_FORMAT, GAP_SD: SD_FORMAT,
     LINKED: SHARE_FORMAT, "Games against other divisions": GAMES_FORMAT,
     "Rating": RATING_FORMAT, "Weighted games": GAMES_FORMAT, "Weighted wins": GAMES_FORMAT,
     "Expected at their rating": GAMES_FORMAT, "Points held back": RATING_FORMAT,
     "How surprising (z)": Z_FORMAT, DIVISION_LINKED: SHARE_FORMAT,
     "Rating A": RATING_FORMAT, "Rating B": RATING_FORMAT, "A's chance per game": SHARE_FORMAT,
-    "Expected games": GAMES_FORMAT, "± now": SD_FORMAT, "± after": SD_FORMAT,
+    "Expected games": GAMES_FORMAT, GAP_NOW: SD_FORMAT, GAP_AFTER: SD_FORMAT,
 }
 WIDEST = 40  # characters for data columns; the what-to-do column gets TODO_WIDTH
 TODO_WIDTH = 60
@@ -60,14 +63,16 @@ def _column(position: int, header: str) -> int:
     return TODO_COLUMN if header == TODO else position
 
 
-def _section(ws: Worksheet, row: int, title: str, note: str, headers: Sequence[str],
+def _section(ws: Worksheet, row: int, title: str, note: str | Sequence[str], headers: Sequence[str],
              rows: Sequence[Sequence[object]], widths: dict[int, int], after: str = "") -> int:
-    """Heading, one explanatory line, column headers, rows and an ``after`` line from ``row``; returns the
+    """Heading, explanatory lines, column headers, rows and an ``after`` line from ``row``; returns the
     next free row."""
     put(ws.cell(row, 1), title)
     ws.cell(row, 1).font = HEADING
-    put(ws.cell(row + 1, 1), note)
-    row += 2
+    notes = (note,) if isinstance(note, str) else tuple(note)
+    for k, line in enumerate(notes, start=row + 1):
+        put(ws.cell(k, 1), line)
+    row += 1 + len(notes)
     columns = [_column(i, header) for i, header in enumerate(headers, start=1)]
     for col, header in zip(columns, headers):
         cell = ws.cell(row, col)
@@ -117,8 +122,10 @@ def write_watch(wb: Workbook, watch: WatchList) -> None:
               p.what_to_do) for p in watch.pools], widths)
     row = _section(
         ws, row, "Divisions",
-        f"{LINKED}: how much of a division's level is pinned down by games against other "
-        "divisions (0% = only the starting assumption, 100% = fully tied in; the linked share).", DIVISION_HEADERS,
+        (f"{LINKED}: how much of a division's level is pinned down by games against other "
+         "divisions (0% = only the starting assumption, 100% = fully tied in; the linked share).",
+         f"{GAP}: {GAP_MEANING[0].lower()}{GAP_MEANING[1:]}", f"{GAP_SD}: {GAP_SD_MEANING[0].lower()}{GAP_SD_MEANING[1:]}"),
+        DIVISION_HEADERS,
         [(division_label(d.division), d.players, d.level, d.relative_level, d.level_sd, d.linked_share,
           d.cross_games, d.recent_cross_games, d.linking_players, YES if d.flagged else "",
           d.what_to_do) for d in watch.divisions], widths)

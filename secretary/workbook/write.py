@@ -12,7 +12,7 @@ from openpyxl.workbook.workbook import Workbook
 
 from openpyxl.styles import Alignment, Font
 
-from secretary.model.division_table import HOME_RULE, INFERRED, DivisionLevel, level_sentence
+from secretary.model.division_table import HOME_RULE, INFERRED, LEVEL_SD, DivisionLevel, level_sentence
 from secretary.model.records import HOME_RULES, PlayerRating, Problem, Settings, UpdateLog
 from secretary.workbook.printing import LINE_POINTS, lines_needed
 from secretary.workbook.schema import (
@@ -48,7 +48,7 @@ DOUBLES_GAMES = "Doubles games"  # last, only in a league with doubles: how many
 NEW_NOTE = "new this update"
 FEW_GAMES_NOTE = "few games: rating still uncertain"
 LEVELS_TITLE = "Division levels"
-LEVEL_HEADERS = ("Division", "Division level", "±", "Games against other divisions", "Players", "Note")
+LEVEL_HEADERS = ("Division", "Division level", LEVEL_SD, "Games against other divisions", "Players", "Note")
 # Under Division, Rating, ±, Weighted games, Change and Note: Rank and Player stay blank under the players,
 # so that whoever reads the sheet's rows by their Player finds players only.
 LEVEL_COLUMNS = (3, 4, 5, 6, 7, 9)

@@ -23,7 +23,7 @@ predicted share against observed, in bands, and the best logit scale overall.
 
 Run from the repository root: ``python tests/bench/levels_where.py`` (options:
 ``--sets tennis,badminton,demo``, ``--skill-spread``, ``--half-life``,
-``--division-spread``; defaults: tennis, the shipped settings).  Doubles
+``--division-spread``, ``--change``; defaults: tennis, the shipped settings).  Doubles
 matches are left out of the breakdown (none in the three sets' cross games).
 """
 from __future__ import annotations
@@ -48,6 +48,9 @@ from secretary.model.evaluate import calibration_table, evaluate, prepare  # noq
 from secretary.model.league import fit_league  # noqa: E402
 from secretary.model.records import Settings  # noqa: E402
 from secretary.model import walkforward  # noqa: E402
+from secretary.model.pairs import age_weights  # noqa: E402
+from secretary.model.races import predictive_game_chance  # noqa: E402
+from secretary.model.scale import points_per_logodds  # noqa: E402
 from secretary.model.walkforward import Homes, training_pairs  # noqa: E402
 from tests.bench.bench_predict import SETS  # noqa: E402
 
@@ -174,13 +177,19 @@ class Chances:
     levels: dict[int, np.ndarray]
 
 
-def walk_chances(walk, settings: Settings) -> Chances:
-    """``evaluate``'s walk, each step's levels recorded on the way (a wrapper round its step prediction)."""
+def walk_chances(walk, settings: Settings, after=None) -> Chances:
+    """``evaluate``'s walk, each step's levels recorded on the way (a wrapper round its step prediction).
+
+    ``after(walk, out, step, pairs, level)``, if given, runs after each step's prediction and may change
+    ``out.mean[step]`` (a research change to the predictions; the fits are the shipped ones).
+    """
     levels, original = {}, walkforward._predict_step
 
     def recording(walk_, out, step, pairs, r, level, *rest):
         levels[step.start] = np.array(level, float)
-        return original(walk_, out, step, pairs, r, level, *rest)
+        original(walk_, out, step, pairs, r, level, *rest)
+        if after is not None:
+            after(walk_, out, step, pairs, level)
 
     walkforward._predict_step = recording
     try:
@@ -259,6 +268,54 @@ def print_scales(walk, sel, c0: Chances, c1: Chances, f: Features) -> None:
           f"correlation of gap and rest {np.corrcoef(gap, rest)[0, 1]:+.2f}")
 
 
+def recent_form(walk, p, window: int = 56) -> np.ndarray:
+    """Per sorted match (rows) and side (A, B): the player's surplus games per game over their predicted
+    matches in the ``window`` days before the match's step, against the chances ``p`` (0 without any)."""
+    ok = ~np.isnan(p) & ~walk.doubles
+    games = np.where(ok, walk.games_a + walk.games_b, 0.0)
+    surplus = np.where(ok, walk.games_a - games * np.where(ok, p, 0.0), 0.0)
+    n, form = len(walk.names), np.zeros((len(walk.day), 2))
+    for k in range(len(walk.bounds) - 1):
+        start, stop = int(walk.bounds[k]), int(walk.bounds[k + 1])
+        if stop == start or start == 0:
+            continue
+        past = slice(int(np.searchsorted(walk.day, walk.day[start] - window)), start)
+        sur = np.bincount(walk.a[past], surplus[past], n) - np.bincount(walk.b[past], surplus[past], n)
+        played = np.bincount(walk.a[past], games[past], n) + np.bincount(walk.b[past], games[past], n)
+        per_game = sur / np.maximum(played, 1e-12)
+        form[start:stop] = np.column_stack([per_game[walk.a[start:stop]], per_game[walk.b[start:stop]]])
+    return form
+
+
+def print_form_and_size(walk, sel, c0: Chances, c1: Chances) -> None:
+    """Does recent form explain the levels model's misses (logit ``k d + c (form_a - form_b)``)?  And the best
+    scale by the size of the predicted logit in the walk's second half, within and across divisions."""
+    inside = ~sel & ~np.isnan(c1.predictive) & ~walk.doubles
+    ga, gb = walk.games_a, walk.games_b
+    form = recent_form(walk, c1.predictive)
+    x = form[:, 0] - form[:, 1]
+    print("\nrecent form (surplus games per game in the 56 days before, levels model), logit k d + c x:")
+    for name, use in (("within divisions", inside), ("across divisions", sel)):
+        d, won, lost = logit(c1.predictive[use]), ga[use], gb[use]
+        per_game = lambda q: match_loss(q, won, lost).sum() / (won + lost).sum()  # noqa: E731
+        k, c = split_scales(d, x[use], won, lost)
+        print(f"  {name}: k {k:.2f}, c {c:.2f}; log-loss {per_game(c1.predictive[use]):.4f} -> "
+              f"{per_game(expit(k * d + c * x[use])):.4f} (k alone "
+              f"{per_game(expit(best_scale(c1.predictive[use], won, lost) * d)):.4f})")
+    late = np.minimum(4 * walk.day // (walk.day[-1] + 1), 3) >= 2
+    edges = (0.0, 0.4, 0.8, 1.2, 1.8, np.inf)
+    print("\nsecond half of the walk: best scale k (matches) by |predicted logit|, log-odds\n")
+    print("| games | model | " + " | ".join(f"{lo:g}-{hi:g}" for lo, hi in zip(edges, edges[1:])) + " |")
+    print("|---|---|" + "---|" * (len(edges) - 1))
+    for name, use in (("within", inside & late), ("across", sel & late)):
+        for label, c in (("spread 0", c0), ("levels", c1)):
+            size = np.abs(logit(c.predictive))
+            cells = [use & (size >= lo) & (size < hi) for lo, hi in zip(edges, edges[1:])]
+            print(f"| {name} | {label} | " + " | ".join(
+                f"{best_scale(c.predictive[b], ga[b], gb[b]):.2f} ({b.sum():,})" if b.sum() >= 50 else f"- ({b.sum()})"
+                for b in cells) + " |")
+
+
 def run(name: str, settings: Settings) -> None:
     results, players = SETS[name]()
     walk = prepare(results, players=players)
@@ -280,6 +337,122 @@ def run(name: str, settings: Settings) -> None:
         print_breakdown(title, label, loss0, loss1, games, (p0, p1), won, lost, not title.startswith("underdog"))
     print_calibration(p0, p1, won, lost)
     print_scales(walk, sel, c0, c1, f)
+    print_form_and_size(walk, sel, c0, c1)
+
+
+class NewcomerOffset:
+    """Research (not shipped): a newcomer starts at their division's level plus an offset ``delta_d``.
+
+    Before each step ``delta`` (one per division) is the MAP of the earlier newcomers' first-step games
+    given the walk's own predicted difference for them, ``logit = mean + X delta`` (``X``: each match's
+    newcomer coefficients per division, as in the prediction), games age-weighted by the half-life from
+    the newest earlier result, prior ``delta_d ~ N(0, s^2)`` (the Skill spread).  Only predictions with a
+    newcomer change; the fits are the shipped ones.
+    """
+
+    def __init__(self, walk, settings: Settings):
+        self.sd2 = (settings.skill_spread / points_per_logodds(settings.scale)) ** 2
+        self.half_life = settings.half_life_days
+        self.delta = np.zeros(len(walk.division_names))
+        self.rows: list[tuple[np.ndarray, ...]] = []  # (X, mean, won, lost, day) of earlier steps
+
+    @staticmethod
+    def design(walk, step: slice, n: int) -> np.ndarray:
+        """``X`` (matches x divisions): each match's newcomer seats' coefficients on their division."""
+        half = np.where(walk.doubles[step], 0.5, 1.0)
+        seats = [(walk.a[step], half), (walk.b[step], -half)]
+        if walk.pa is not None:
+            seats += [(walk.pa[step], half), (walk.pb[step], -half)]
+        X = np.zeros((step.stop - step.start, len(walk.division_names)))
+        for idx, coef in seats:
+            new = idx >= n
+            given = walk.given_home[np.maximum(idx, 0)]
+            div = np.where(given >= 0, given, walk.division[step])
+            np.add.at(X, (np.flatnonzero(new), div[new]), coef[new])
+        return X
+
+    def estimate(self, today: float) -> np.ndarray:
+        """``delta`` by Newton from the recorded newcomer games (warm-started from the last step's)."""
+        if not self.rows:
+            return self.delta
+        X, mean, won, lost, day = (np.concatenate(c) for c in zip(*self.rows))
+        w = age_weights(today - day, self.half_life)
+        for _ in range(50):
+            p = expit(mean + X @ self.delta)
+            g = X.T @ (w * (won - (won + lost) * p)) - self.delta / self.sd2
+            H = X.T @ (X * (w * (won + lost) * p * (1 - p))[:, None]) + np.eye(len(self.delta)) / self.sd2
+            move = np.linalg.solve(H, g)
+            self.delta = self.delta + move
+            if np.max(np.abs(move)) < 1e-10:
+                break
+        return self.delta
+
+    def __call__(self, walk, out, step: slice, pairs, level) -> None:
+        X = self.design(walk, step, pairs.n_players)
+        mean = out.mean[step].copy()
+        out.mean[step] = mean + X @ self.estimate(float(walk.day[step.start - 1]))
+        keep = np.any(X != 0, axis=1)
+        self.rows.append((X[keep], mean[keep], walk.games_a[step][keep], walk.games_b[step][keep],
+                          walk.day[step][keep].astype(float)))
+
+
+class CrossVariance:
+    """Research (not shipped): a cross-division game's difference gets extra variance ``v`` beyond the
+    Laplace posterior (a player's strength against another division deviating from the one their home
+    level implies, not learnt per player).
+
+    Before each step ``v`` is the maximum-likelihood value (0 to 9 log-odds^2) of the earlier cross-division
+    games under their own predictive chances ``E[sigmoid(d)]``, ``d ~ N(mean, var + v)``, games
+    age-weighted by the half-life from the newest earlier result.  Within-division games do not change.
+    """
+
+    def __init__(self, walk, settings: Settings):
+        self.half_life, self.v = settings.half_life_days, 0.0
+        self.rows: list[tuple[np.ndarray, ...]] = []  # (mean, var, won, lost, day) of earlier cross games
+
+    def estimate(self, today: float) -> float:
+        if not self.rows:
+            return self.v
+        mean, var, won, lost, day = (np.concatenate(c) for c in zip(*self.rows))
+        w = age_weights(today - day, self.half_life)
+        loss = lambda v: w @ match_loss(predictive_game_chance(mean, var + v), won, lost)  # noqa: E731
+        self.v = float(minimize_scalar(loss, bounds=(0.0, 9.0), method="bounded").x)
+        return self.v
+
+    def __call__(self, walk, out, step: slice, pairs, level) -> None:
+        v = self.estimate(float(walk.day[step.start - 1]))
+        cross = out.cross[step]
+        self.rows.append((out.mean[step][cross], out.var[step][cross], walk.games_a[step][cross],
+                          walk.games_b[step][cross], walk.day[step][cross].astype(float)))
+        out.var[step] = out.var[step] + np.where(cross, v, 0.0)
+
+
+CHANGES = {"offset": ("levels + newcomer offset", NewcomerOffset),
+           "cross-variance": ("levels + cross-division variance", CrossVariance)}
+
+
+def try_change(name: str, settings: Settings, change: str) -> None:
+    """One pool, the shipped levels and the levels with a change (``CHANGES``): predictive log-loss, same games."""
+    results, players = SETS[name]()
+    walk = prepare(results, players=players)
+    n_before = np.array([walk.seen(int(walk.bounds[k])) for k in walk.day // walk.step_days])
+    with_new = (walk.a >= n_before) | (walk.b >= n_before)
+    ppl = points_per_logodds(settings.scale)
+    label, make = CHANGES[change]
+    for label, tau, make in (("one pool (spread 0)", 0.0, None), ("shipped levels", settings.division_spread, None),
+                             (label, settings.division_spread, make)):
+        after = make(walk, settings) if make else None
+        c = walk_chances(walk, settings.replace(division_spread=tau), after)
+        done = ~np.isnan(c.predictive)
+        cells = []
+        for use in (done, done & c.cross, done & with_new, done & c.cross & with_new):
+            ga, gb = walk.games_a[use], walk.games_b[use]
+            cells.append(f"{match_loss(c.predictive[use], ga, gb).sum() / (ga.sum() + gb.sum()):.4f}" if use.any()
+                         else "-")
+        shown = "-" if after is None else (f"{np.sqrt(after.v) * ppl:.0f} (sd)" if make is CrossVariance else
+                                           ", ".join(f"{d} {v * ppl:+.0f}" for d, v in zip(walk.division_names,
+                                                                                          after.delta)))
+        print(f"| {name} | {label} | " + " | ".join(cells) + f" | {shown} |", flush=True)
 
 
 def main(argv=None) -> int:
@@ -289,13 +462,17 @@ def main(argv=None) -> int:
     parser.add_argument("--skill-spread", type=float, default=shipped.skill_spread)
     parser.add_argument("--half-life", type=float, default=shipped.half_life_days)
     parser.add_argument("--division-spread", type=float, default=shipped.division_spread)
+    parser.add_argument("--change", choices=sorted(CHANGES), help="research: score a change instead of the breakdown")
     args = parser.parse_args(argv)
     settings = Settings(skill_spread=args.skill_spread, half_life_days=args.half_life,
                         division_spread=args.division_spread)
     print(f"skill spread {settings.skill_spread:g}, half-life {settings.half_life_days:g} days, division spread "
           f"{settings.division_spread:g} against 0; predictive log-loss per game, walk forward week by week")
+    if args.change:
+        print("| set | model | predictive | cross | games with a newcomer | cross, with a newcomer "
+              "| at the last step (points) |\n|---|---|---|---|---|---|---|")
     for name in args.sets.split(","):
-        run(name, settings)
+        try_change(name, settings, args.change) if args.change else run(name, settings)
     return 0
 
 

@@ -10,6 +10,7 @@ import pytest
 
 from secretary.gui import views
 from secretary.gui.tooltips import tip_of
+from secretary.model import watch_sentences
 from secretary.workbook import fixtures_sheet, schema, watch_sheet, write
 from tests.gui.helpers import settle
 
@@ -20,7 +21,8 @@ JARGON = ("linked share", "severity", "held by the prior", "prior", "posterior",
 TERMS = {"How well linked": "linked share", "Kind": "severity", "Player": "held by the prior"}
 SETTING_TERMS = {"skill_spread": "prior standard deviation", "held_z": "z-score", "weakly_linked_below": "linked share"}
 # Window columns that join two sheet columns into one (the sheet keeps them apart for sorting and sums).
-JOINED = {"Divisions": ("Division A", "Division B"), "\u00b1 now \u2192 after": ("\u00b1 now", "\u00b1 after"),
+JOINED = {"Divisions": ("Division A", "Division B"),
+          f"{watch_sentences.GAP_SD} now \u2192 after": (watch_sheet.GAP_NOW, watch_sheet.GAP_AFTER),
           "Race": ("Race A", "Race B"), "Fair race": ("Fair race A", "Fair race B"),
           "Chance A (fair)": ("Fair race A", "Fair race B")}
 

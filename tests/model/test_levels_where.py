@@ -2,11 +2,12 @@
 per-match features are what the walk saw."""
 import numpy as np
 import pytest
+from scipy.special import expit
 
 from secretary.model.evaluate import evaluate, prepare
 from secretary.model.league import fit_league
-from tests.bench.levels_where import (EXPERIENCE, breakdown, experience_bin, features, level_gap, match_loss,
-                                      walk_chances)
+from tests.bench.levels_where import (EXPERIENCE, CrossVariance, NewcomerOffset, breakdown, experience_bin, features,
+                                      level_gap, match_loss, recent_form, walk_chances)
 from tests.model.test_evaluate_levels import SETTINGS, tiered_league
 
 
@@ -79,3 +80,72 @@ def test_recording_the_levels_leaves_the_walk_unchanged():
     assert len(last) >= 2
     expected = [level[homes[walk.names[walk.a[k]]]] - level[homes[walk.names[walk.b[k]]]] for k in last]
     assert gap[last] == pytest.approx(expected, abs=1e-5) and min(np.abs(expected)) > 0.3
+
+
+def test_newcomer_offset_design_and_estimate():
+    results = tiered_league(seed=2)
+    walk = prepare(results)
+    f = features(walk, SETTINGS.half_life_days)
+    k = int(np.argmax(f.new_a | f.new_b))  # the first step with a newcomer after step 0
+    step = slice(int(walk.bounds[walk.day[k] // 7]), int(walk.bounds[walk.day[k] // 7 + 1]))
+    X = NewcomerOffset.design(walk, step, walk.seen(step.start))
+    expected = np.zeros_like(X)
+    rows = np.arange(X.shape[0])
+    np.add.at(expected, (rows[f.new_a[step]], f.home_a[step][f.new_a[step]]), 1.0)
+    np.add.at(expected, (rows[f.new_b[step]], f.home_b[step][f.new_b[step]]), -1.0)
+    assert np.array_equal(X, expected) and np.abs(X).sum() >= 2
+    # The estimate is the MAP: planted offsets come back from many games, and the gradient vanishes.
+    rng = np.random.default_rng(5)
+    m, truth = 4000, np.array([-0.6, 0.3])
+    X = np.zeros((m, 2))
+    X[np.arange(m), rng.integers(0, 2, m)] = rng.choice([-1.0, 1.0], m)
+    mean = rng.normal(0.0, 1.0, m)
+    won = rng.binomial(3, expit(mean + X @ truth)).astype(float)
+    off = NewcomerOffset(walk, SETTINGS)
+    off.delta = np.zeros(2)
+    off.rows = [(X, mean, won, 3.0 - won, np.zeros(m))]
+    delta = off.estimate(0.0)
+    assert delta == pytest.approx(truth, abs=0.1)
+    p = expit(mean + X @ delta)
+    grad = X.T @ (won - 3.0 * p) - delta / off.sd2
+    assert np.max(np.abs(grad)) < 1e-6
+
+
+def test_offset_at_zero_leaves_the_walk_unchanged():
+    results = tiered_league(seed=2)
+    walk = prepare(results)
+
+    class Zero(NewcomerOffset):
+        def estimate(self, today):
+            return np.zeros_like(self.delta)
+
+    shipped, zero = walk_chances(walk, SETTINGS), walk_chances(walk, SETTINGS, Zero(walk, SETTINGS))
+    assert np.array_equal(shipped.predictive, zero.predictive, equal_nan=True)
+
+
+def test_cross_variance_recovers_a_planted_variance():
+    rng = np.random.default_rng(6)
+    m, v = 20000, 0.8
+    mean, var = rng.normal(0.0, 1.2, m), np.full(m, 0.1)
+    won = rng.binomial(1, expit(mean + rng.normal(0.0, np.sqrt(var + v)))).astype(float)
+    cv = CrossVariance(None, SETTINGS)
+    cv.rows = [(mean, var, won, 1.0 - won, np.zeros(m))]
+    assert cv.estimate(0.0) == pytest.approx(v, abs=0.25)
+    calibrated = rng.binomial(1, expit(mean)).astype(float)  # the chances' own model: little or no extra
+    cv.rows = [(mean, var, calibrated, 1.0 - calibrated, np.zeros(m))]
+    assert cv.estimate(0.0) < 0.15
+
+
+def test_recent_form_counts_the_window_before_the_step():
+    results = tiered_league(seed=2)
+    walk = prepare(results)
+    p = np.full(len(walk.day), 0.5)
+    form = recent_form(walk, p, window=21)
+    k = len(walk.day) - 1
+    start = int(walk.bounds[walk.day[k] // 7])
+    past = np.flatnonzero((walk.day >= walk.day[start] - 21) & (np.arange(len(walk.day)) < start))
+    x = walk.a[k]
+    mine = past[(walk.a[past] == x) | (walk.b[past] == x)]
+    surplus = np.where(walk.a[mine] == x, 1.0, -1.0) * (walk.games_a[mine] - walk.games_b[mine]) / 2
+    assert len(mine) >= 2
+    assert form[k, 0] == pytest.approx(surplus.sum() / (walk.games_a[mine] + walk.games_b[mine]).sum())

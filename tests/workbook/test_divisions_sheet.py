@@ -161,7 +161,7 @@ def levels_table(path: Path) -> dict[str, tuple]:
     rows = list(openpyxl.load_workbook(path, read_only=True)["Ratings"].iter_rows(values_only=True))
     start = next(k for k, r in enumerate(rows) if r[2] == "Division" and r[3] == "Division level")
     assert rows[start][2:7] + rows[start][8:9] == (
-        "Division", "Division level", "±", "Games against other divisions", "Players", "Note")
+        "Division", "Division level", "± of the level", "Games against other divisions", "Players", "Note")
     out = {}
     for r in rows[start + 1:]:
         if r[2] is None:

@@ -47,7 +47,9 @@ def column_a(ws):
 
 
 def header_row_after(ws, title):
-    row = column_a(ws).index(title) + 1 + 2  # heading, note, headers (1-based)
+    row = column_a(ws).index(title) + 2  # the heading, then its notes (column A only), then the headers (1-based)
+    while ws.cell(row, 2).value is None:
+        row += 1
     # Positions are kept (None for a gap): the what-to-do column sits at the far right in every section.
     return row, [ws.cell(row, c).value for c in range(1, ws.max_column + 1)]
 

@@ -194,6 +194,8 @@ class RatingsTab:
                 self.chosen(shown[0].iid)
             else:
                 self._blank("No player matches: change the search or the division.")
+        elif self.player is not None:
+            self.table.select(self.player)  # still shown: still chosen
 
     def _blank(self, text: str) -> None:
         self.player = None
@@ -204,8 +206,7 @@ class RatingsTab:
 
     def chosen(self, name: str) -> None:
         self.player = name
-        if self.table.tree.exists(name) and name not in self.table.tree.selection():
-            self.table.tree.selection_set(name)
+        self.table.select(name)
         self._redraw()
 
     def _redraw(self) -> None:
