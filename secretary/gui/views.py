@@ -541,6 +541,20 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
     return sorted(rows, key=lambda r: "past" in r.tags)  # stable: date order within each
 
 
+FIXTURE_CHOOSE = "Choose a fixture in the table to read its forecast note in full here."
+
+
+def fixture_detail(f, latest: dt.date | None = None) -> str:
+    """The chosen fixture in full, for the lines under the Fixtures table (its Forecast note column is
+    too narrow for a long note)."""
+    fx = f.fixture
+    when = f"{day(fx.date)}, " if fx.date else ""
+    note = fixture_note(f, latest) or "none: both ratings are sure enough for this chance"
+    return (f"{when}{fx.label_a} v {fx.label_b}: race {f.race_a}-{f.race_b}, {fx.label_a} "
+            f"{percent(f.race_chance)}; fair race {f.fair_race_a}-{f.fair_race_b}, {percent(f.fair_chance)}."
+            f"\nForecast note: {note}.")
+
+
 DIVISION_COLUMNS = (
     Column("division", "Division", "The division (the group whose level is compared with the others).", 14),
     Column("players", "Players", "Players counted in the division.", 6, True),
