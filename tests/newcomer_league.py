@@ -55,7 +55,7 @@ def players() -> list[Player]:
 def shares() -> np.ndarray:
     """Each division's share of the players with results, in the fit's (sorted) order of division names."""
     sizes = {d: len(names) for d, names in DIVISIONS.items()}
-    return np.array([sizes.get(d, 0) for d in sorted({*DIVISIONS, ""})], float) / sum(sizes.values())
+    return np.array([sizes[d] for d in sorted(DIVISIONS)], float) / sum(sizes.values())
 
 
 def fixtures() -> list[Fixture]:
@@ -65,8 +65,13 @@ def fixtures() -> list[Fixture]:
                                                        partner_b="Hal Brook")]
 
 
-def by_enumeration(fit, fixture: Fixture, w: np.ndarray, placed=lambda fit, name: name in fit.names
-                   and (fit.games[fit.index(name)] > 0 or fit.division(name))) -> tuple[float, float]:
+def _placed(fit, name: str) -> bool:
+    """In the fit with a result or a Players-sheet division (NO_DIVISION is counted in some division for the
+    fit's sake, with no games: the fixtures take them as the mixture)."""
+    return name in fit.names and (fit.games[fit.index(name)] > 0 or name in {p.name for p in players() if p.division})
+
+
+def by_enumeration(fit, fixture: Fixture, w: np.ndarray, placed=_placed) -> tuple[float, float]:
     """Mean and variance of the fixture's strength difference: every choice of division for every player
     who has no results and no division, weighted by ``w``, each a Normal from the dense joint posterior
     (plus the prior's ``s^2`` for each such player's own deviation); the mixture's two moments."""

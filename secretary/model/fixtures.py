@@ -48,7 +48,7 @@ from scipy.special import expit
 
 from secretary.model.league import LeagueFit
 from secretary.model.races import fair_race_predictive, predictive_game_chance, predictive_race_chance, race_chance
-from secretary.model.records import Fixture
+from secretary.model.records import HOME_RULES, Fixture
 
 FAR_OFF = 0.6  # log-odds: posterior SD of the difference above which a chance "could be far off"
 ROUGH = 0.4  # log-odds: above this a chance is "rough"
@@ -107,7 +107,7 @@ def _placed(fit: LeagueFit, name: str) -> int:
     """The player's index in the fit, or -1 when their strength is the mixture over the divisions: not in
     the fit at all, or with no rated game and no division (a Players-sheet row without one)."""
     k, games = _index_and_games(fit, name)
-    return -1 if k < 0 or (games <= 0 and not fit.group_names[fit.group[k]]) else k
+    return -1 if k < 0 or (games <= 0 and fit.home_rule[k] == HOME_RULES[2]) else k
 
 
 @dataclass(frozen=True)

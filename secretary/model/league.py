@@ -168,7 +168,18 @@ def _placed(matches: Matches, players: Sequence[Player], home: Mapping[str, str]
               for name, division, was in zip(matches.names, home_divisions(matches, players), played.tolist())]
     if home:
         placed = [(home.get(name, division), rule) for name, (division, rule) in zip(matches.names, placed)]
-    return placed
+    return _unplaced_join_a_division(placed)
+
+
+def _unplaced_join_a_division(placed: list[tuple[str, str]]) -> list[tuple[str, str]]:
+    """A player with no results and no division (a Players-sheet row without one) is counted in the first
+    division there is, not in a division named "" of their own, which would add a free level and change the
+    levels' average, the anchor of everyone's ±.  With no games their strength moves nobody's (it is their
+    prior, whatever the division); fixtures take them as the mixture over the divisions (``model.fixtures``)."""
+    named = sorted({d for d, rule in placed if d or rule != HOME_RULES[2]})
+    if not named:
+        return placed
+    return [(named[0], rule) if not d and rule == HOME_RULES[2] else (d, rule) for d, rule in placed]
 
 
 def _weighted_pairs(matches: Matches, reference_date: dt.date | None, half_life_days: float) -> Pairs:

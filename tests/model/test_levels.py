@@ -180,6 +180,20 @@ def test_home_division_rules_are_recorded():
     assert rule == {"Ann": "latest results", "Bea": "latest results", "Cal": "Players sheet", "Dee": "no results"}
 
 
+def test_a_players_row_with_no_division_and_no_results_changes_nobodys_rating_or_sd():
+    # Without the rule it made a division named "" with a free level of its own: the levels' average (the
+    # anchor of every ±) then counted four divisions instead of three, and every ± shed tau^2/4, not tau^2/3.
+    rows, players = tiered_league(5)
+    without = fit_league(rows, Settings(), players=players)
+    with_row = fit_league(rows, Settings(), players=[*players, Player("Newt Ashdown")])
+    assert with_row.group_names == without.group_names == DIVISIONS
+    assert dict(zip(with_row.names, with_row.home_rule))["Newt Ashdown"] == "no results"
+    k = [with_row.index(name) for name in without.names]
+    assert np.abs(with_row.r[k] - without.r).max() <= 1e-9
+    assert np.abs(with_row.var[k] / without.var - 1).max() <= 1e-9
+    assert np.abs(with_row.level_var / without.level_var - 1).max() <= 1e-9
+
+
 def test_a_player_who_changed_division_is_counted_in_the_one_they_play_in_now():
     day = [START + dt.timedelta(days=7 * k) for k in range(6)]
     rows = [Result(day[k], "Moe", f"Low{k}", 3, 1, "Lower") for k in range(4)]  # most of Moe's games
