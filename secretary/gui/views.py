@@ -2,8 +2,11 @@
 from __future__ import annotations
 
 import datetime as dt
+import heapq
+import itertools
 import re
 from dataclasses import dataclass, replace
+from operator import itemgetter
 from typing import Iterable, Mapping, Sequence
 
 from secretary.model.division_table import INFERRED, LEVEL_SD, LEVEL_SD_MEANING
@@ -120,24 +123,55 @@ class Row:
     tags: tuple[str, ...] = ()
 
 
-def sort_key(value: object) -> tuple:
-    """Numbers by size, text alphabetically without regard to capitals, blanks last."""
+SORT_CHUNK = 500  # rows whose sort keys are worked out and sorted per step (a few ms: one turn of the event loop)
+NUMBER, TEXT, BLANK = 0, 1, 2  # how a value sorts: numbers by size, then text, blanks always last
+
+
+def sort_value(value: object) -> tuple[int, float | str]:
+    """(NUMBER, the number) for numbers and dates, (TEXT, the text without regard to capitals), (BLANK, "")."""
     if value is None or value == "":
-        return (2, 0, "")
-    if isinstance(value, bool):
-        return (1, 0, str(value))
-    if isinstance(value, (int, float)):
-        return (0, float(value), "")
+        return BLANK, ""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return NUMBER, float(value)
     if isinstance(value, dt.date):
-        return (0, float(value.toordinal()), "")
-    return (1, 0, str(value).casefold())
+        return NUMBER, float(value.toordinal())
+    return TEXT, str(value).casefold()
 
 
 def sort_rows(rows: Sequence[Row], index: int, descending: bool = False) -> list[Row]:
-    """Rows ordered by one column; blanks stay at the end either way."""
-    filled = [r for r in rows if sort_key(r.values[index])[0] < 2]
-    blank = [r for r in rows if sort_key(r.values[index])[0] == 2]
-    return sorted(filled, key=lambda r: sort_key(r.values[index]), reverse=descending) + blank
+    """Rows ordered by one column: numbers by size, then text alphabetically without regard to capitals
+    (the other way round when ``descending``); blanks stay at the end either way."""
+    steps = sort_steps(lambda start, end: rows[start:end], len(rows), index, descending, chunk=max(1, len(rows)))
+    while True:
+        try:
+            next(steps)
+        except StopIteration as done:
+            return list(done.value)
+
+
+def sort_steps(rows_of, count: int, index: int, descending: bool = False, chunk: int = SORT_CHUNK):
+    """``sort_rows`` a chunk at a time, for a table that must not hold the window up: a generator that sorts
+    ``chunk`` rows per step (``rows_of(start, end)`` gives them), yields between steps and returns an iterator
+    over all ``count`` rows in order, merged from the sorted chunks as it is read. Equal values keep the
+    order given, either way (the merge takes an earlier chunk's row first). The keys are plain numbers and
+    strings, no tuple per row: 100,000 of those would set off the garbage collector's full passes."""
+    runs, blanks = ([], []), []  # per kind: each chunk's (key, row) pairs in order, as iterators
+    for start in range(0, count, chunk):
+        if start:
+            yield
+        parts = ([], []), ([], [])  # per kind: keys, rows
+        for row in rows_of(start, start + chunk):
+            kind, key = sort_value(row.values[index])
+            if kind == BLANK:
+                blanks.append(row)
+            else:
+                parts[kind][0].append(key)
+                parts[kind][1].append(row)
+        for kind, (keys, rows) in enumerate(parts):
+            order = sorted(range(len(keys)), key=keys.__getitem__, reverse=descending)
+            runs[kind].append(zip([keys[i] for i in order], [rows[i] for i in order]))
+    merged = [heapq.merge(*run, key=itemgetter(0), reverse=descending) for run in runs]  # a run is freed once read
+    return itertools.chain(*(map(itemgetter(1), m) for m in (merged[::-1] if descending else merged)), blanks)
 
 
 def matches(text: str, search: str) -> bool:
@@ -505,6 +539,20 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
                  percent(f.fair_chance), values[7])
         rows.append(Row(str(i), values, shown, ("past",) if past else ("uncertain",) if note else ()))
     return sorted(rows, key=lambda r: "past" in r.tags)  # stable: date order within each
+
+
+FIXTURE_CHOOSE = "Choose a fixture in the table to read its forecast note in full here."
+
+
+def fixture_detail(f, latest: dt.date | None = None) -> str:
+    """The chosen fixture in full, for the lines under the Fixtures table (its Forecast note column is
+    too narrow for a long note)."""
+    fx = f.fixture
+    when = f"{day(fx.date)}, " if fx.date else ""
+    note = fixture_note(f, latest) or "none: both ratings are sure enough for this chance"
+    return (f"{when}{fx.label_a} v {fx.label_b}: race {f.race_a}-{f.race_b}, {fx.label_a} "
+            f"{percent(f.race_chance)}; fair race {f.fair_race_a}-{f.fair_race_b}, {percent(f.fair_chance)}."
+            f"\nForecast note: {note}.")
 
 
 DIVISION_COLUMNS = (

@@ -1,6 +1,7 @@
 """Building blocks for the window: a scheduler that can cancel everything, and a sortable table."""
 from __future__ import annotations
 
+import itertools
 import tkinter as tk
 from tkinter import font as tkfont
 from tkinter import ttk
@@ -10,6 +11,7 @@ from secretary.gui import views
 from secretary.gui.tooltips import heading_tips
 
 BATCH_ROWS = 200  # rows inserted per event-loop turn: a big table fills without freezing the window
+CLEAR_ROWS = 2000  # rows taken out per turn when a table is emptied (about 3 microseconds each)
 TAG_COLOURS = {
     "error": {"foreground": "#8b0000", "background": "#fde2e1"},
     "warning": {"foreground": "#5c4300", "background": "#fff4cc"},
@@ -86,7 +88,11 @@ class Table:
         self._items: list = []  # what show() was given: rows, or items that ``_make`` turns into rows
         self._make: Callable | None = None
         self._made: list[views.Row] = []  # the rows made so far, in the items' order
+        self._inserted: list[str] = []  # the iids in the tree, top to bottom
+        self._keep: str | None = None  # the row to choose again once it is back in the table
         self.order: tuple[int, bool] | None = None
+        self.sorting = False  # the new order is being worked out (no new row is in yet)
+        self._steps = None  # the refill under way (a generator, a step per turn of the event loop)
         self._pending: str | None = None
 
     def _selected(self, on_select) -> None:
@@ -96,29 +102,30 @@ class Table:
 
     @property
     def filling(self) -> bool:
-        return self._pending is not None
+        return self._steps is not None
 
     def show(self, rows: Sequence, make: Callable[[object], views.Row] | None = None) -> None:
         """Show these rows (in the chosen sort order, if any).
 
         With ``make``, ``rows`` are items and ``make(item)`` is each one's row, made a batch at a time as the
-        rows go in: a table of 100,000 problems costs no turn of the event loop more than one batch (sorting
-        makes the rest at once).
+        rows go in (or a chunk at a time as they are sorted): a table of 100,000 problems costs no turn of
+        the event loop more than one batch.
         """
-        self._items, self._make, self._made = list(rows), make, []
+        self._items, self._make, self._made, self._keep = list(rows), make, [], None
         self._refill()
 
-    @property
-    def rows(self) -> list[views.Row]:
-        """Every row of the table, in the order given (those not made yet are made now)."""
-        self._make_rows(len(self._items))
-        return self._made
+    def select(self, iid: str) -> None:
+        """Choose this row: now if it is in the table, else as soon as it goes in."""
+        self._keep = iid  # if it is taken out for a refill, _put_in chooses it again when it is back
+        if self.tree.exists(iid) and iid not in self.tree.selection():
+            self.tree.selection_set(iid)
 
-    def _make_rows(self, end: int) -> None:
+    def _rows_of(self, start: int, end: int) -> list[views.Row]:
+        """The rows of items ``start`` to ``end`` (made now, if they are not made yet)."""
         if self._make is None:
-            self._made = self._items
-        else:
-            self._made.extend(map(self._make, self._items[len(self._made):end]))
+            return self._items[start:end]
+        self._made.extend(map(self._make, self._items[len(self._made):end]))
+        return self._made[start:end]
 
     def sort_by(self, index: int) -> None:
         """Sort by a column; a second click on the same heading reverses the order."""
@@ -133,28 +140,54 @@ class Table:
         for i, c in enumerate(self.columns):
             arrow = (" \u25bc" if descending else " \u25b2") if i == index else ""
             self.tree.heading(c.key, text=c.heading + arrow)
+        chosen = self.tree.selection()
+        if chosen:
+            self._keep = chosen[0]  # chosen again once it is back in, in its new place
         self._refill()
 
     def _refill(self) -> None:
-        rows = None if self.order is None else views.sort_rows(self.rows, *self.order)  # None: as given
+        """Empty the table and fill it again: the first step now, the rest a step per turn of the event loop."""
         self.scheduler.cancel(self._pending)
-        self._pending = None
-        children = self.tree.get_children()
-        if children:
-            self.tree.delete(*children)
-        self._insert(rows, 0)
+        self._pending, self._steps, self.sorting = None, self._filling(), False
+        self._step()
 
-    def _insert(self, rows: list[views.Row] | None, start: int) -> None:
-        end = start + BATCH_ROWS
-        if rows is None:
-            self._make_rows(end)
-        batch = (self._made if rows is None else rows)[start:end]
+    def _step(self) -> None:
+        self._pending = None
+        try:
+            next(self._steps)
+        except StopIteration:
+            self._steps = None
+        else:
+            self._pending = self.scheduler.later(1, self._step)
+
+    def _filling(self):
+        """The refill as a generator that yields between steps of a few milliseconds each: the old rows taken
+        out from the bottom (the top stays in sight until the new rows come), the rows sorted a chunk at a time
+        (``views.sort_steps``), then put in a batch at a time from the top."""
+        while self._inserted:
+            self.tree.delete(*self._inserted[-CLEAR_ROWS:])
+            del self._inserted[-CLEAR_ROWS:]
+            if self._inserted:
+                yield
+        count = len(self._items)
+        if self.order is None:
+            batches = (self._rows_of(s, s + BATCH_ROWS) for s in range(0, count, BATCH_ROWS))
+            rows = itertools.chain.from_iterable(batches)
+        else:
+            self.sorting = True
+            rows = yield from views.sort_steps(self._rows_of, count, *self.order)
+            self.sorting = False
+        for start in range(0, count, BATCH_ROWS):
+            if start:
+                yield
+            self._put_in(list(itertools.islice(rows, BATCH_ROWS)))
+
+    def _put_in(self, batch: list[views.Row]) -> None:
         for row in batch:
             self.tree.insert("", "end", iid=row.iid, values=row.shown, tags=row.tags)
-        if end < len(self._items):
-            self._pending = self.scheduler.later(1, lambda: self._insert(rows, end))
-        else:
-            self._pending = None
+        self._inserted += [row.iid for row in batch]
+        if self._keep is not None and not self.tree.selection() and any(row.iid == self._keep for row in batch):
+            self.tree.selection_set(self._keep)
 
     def shown_values(self) -> list[tuple[str, ...]]:
         """The texts of every row now in the table, top to bottom."""

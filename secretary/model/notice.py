@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING, Iterable, Sequence
 
 from secretary.model.division_table import DivisionLevel, level_sentence
 from secretary.model.records import PlayerRating, Settings
+from secretary.model.sentences import plural
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     from secretary.model.breakdown import Breakdown, PlayerChange
@@ -31,8 +32,8 @@ CHART_PLAYERS = 6  # biggest changes drawn per division
 NOT_RATED = "{} not rated yet: this chance is a rough guess"
 NO_DIVISION_NOTE = ("{} no results and no division on the Players sheet: this chance is a rough guess; "
                     "add {} there for a better one")
-FAR_OFF_NOTE = "{} has {} games: this chance could be far off"
-ROUGH_NOTE = "{} has {} games: treat this chance as rough"
+FAR_OFF_NOTE = "{} has {}: this chance could be far off"
+ROUGH_NOTE = "{} has {}: treat this chance as rough"
 PAST_NOTE = "past: dated before the latest results"  # a fixture before the newest result (window, sheet, card)
 
 CLOSING = (
@@ -213,7 +214,7 @@ def forecast_note(fc: "FixtureForecast") -> str:
         names = " and ".join(fc.not_rated)
         return NOT_RATED.format(f"{names} {'are' if len(fc.not_rated) > 1 else 'is'}")
     name, games = fc.least_known
-    shown = f"{games:.0f}" if games >= 1 else "under 1"
+    shown = plural(int(f"{games:.0f}"), "game") if games >= 1 else "under 1 game"
     if fc.care == "far off":
         return FAR_OFF_NOTE.format(name, shown)
     return ROUGH_NOTE.format(name, shown) if fc.care == "rough" else ""

@@ -57,7 +57,7 @@ def held_todo(division: str, division_flagged: bool) -> str:
     if division_flagged:
         return (f"Their true level cannot show until they play outside {division_label(division)}; "
                 "treat their handicap with care.")
-    return "Their results run ahead of their rating; it will catch up as they play more."
+    return "Their results run ahead of their rating; it should catch up as they play more."
 
 
 def pool_todo(names: Sequence[str]) -> str:

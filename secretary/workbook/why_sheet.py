@@ -25,9 +25,18 @@ FIRST_UPDATE_LINES = (
 
 
 def by_division_then_change(players: Sequence[PlayerChange]) -> list[PlayerChange]:
-    """Players grouped by division (strongest first, as on the notice board), largest shown change first."""
+    """Players grouped by division (strongest first, as on the notice board), largest shown change first,
+    players new this update last (they have a first rating, not a change)."""
     order = division_order((p.division, p.after) for p in players)
-    return sorted(players, key=lambda p: (order[p.division], -abs(p.shown[2]), p.name.casefold()))
+    return sorted(players, key=lambda p: (order[p.division], p.is_new, -abs(p.shown[2]), p.name.casefold()))
+
+
+def why_figures(p: PlayerChange) -> tuple:
+    """Before, After, Change and the four parts as the sheet shows them. A player new this update has no
+    Before and no change, so only After is filled (blank, as the Ratings sheet's Change is)."""
+    if p.is_new:
+        return (None, p.shown[1], *([None] * (len(p.shown) - 2)))
+    return tuple(p.shown)
 
 
 def write_why(wb: Workbook, breakdown: Breakdown, settings: Settings) -> None:
@@ -43,7 +52,7 @@ def write_why(wb: Workbook, breakdown: Breakdown, settings: Settings) -> None:
         ws.column_dimensions["A"].width = WHY_WIDTH
         return
     rows = [
-        (p.name, division_label(p.division), *p.shown, p.sentence)
+        (p.name, division_label(p.division), *why_figures(p), p.sentence)
         for p in by_division_then_change(breakdown.players)
     ]
     formats = {"Before": RATING_FORMAT, "After": RATING_FORMAT, "Change": CHANGE_FORMAT}

@@ -3,10 +3,15 @@
 Run by hand (not part of the test command; needs Tk and, without a display, Xvfb's xvfb-run):
 
     python tests/bench/bench_window.py [--rows 100000] [--conditions idle busy]
+    python tests/bench/bench_window.py --sort [--rows 100000]   # heading clicks on a 100k-row Problems table
 
 A timer asks the event loop for a callback every 10 ms; each gap between two
 callbacks is recorded while the real window opens the workbook (check) and
-runs the update in its background process.  The reference is the timer's own
+runs the update in its background process.  With ``--sort`` every result is
+entered twice, so that the check lists one warning per result (the same
+result as row ...), and the ticker runs while the Problems table is sorted by
+heading clicks (Found, Found again to reverse, Row), each until the table is
+full again; there is no update.  The reference is the timer's own
 10 ms: a gap near it means the window never stopped answering.  (Moved here
 from the test suite, where a time limit would fail on a busy machine.)
 """
@@ -165,7 +170,16 @@ def run_until(root, predicate, timeout: float) -> None:
         raise RuntimeError(f"timed out after {timeout} s")
 
 
-def one_run(path: Path, players: int, why: float | None = None) -> str:
+SORT_CLICKS = ("found", "found", "row")  # by text, the reverse, by number
+
+
+def gaps(ticker: Ticker) -> str:
+    worst = sorted(ticker.gaps)[-3:]
+    return (f"{len(ticker.gaps):>6} ticks of {TICK_MS} ms, largest gaps "
+            f"{', '.join(f'{1000 * g:.0f}' for g in reversed(worst))} ms; {ticker.busiest()}")
+
+
+def new_window():
     import tkinter as tk
 
     from secretary.gui.app import App
@@ -175,6 +189,32 @@ def one_run(path: Path, players: int, why: float | None = None) -> str:
     app = App(root, dialogs=RecordingDialogs())
     app.errors = []
     root.update()
+    return root, app
+
+
+def sort_run(path: Path) -> str:
+    """Check the workbook, then click the Problems table's headings one after another, each time until the
+    table is full again; the largest event-loop gaps during the clicks."""
+    root, app = new_window()
+    app.open_workbook(path)
+    run_until(root, lambda: app.idle, 1800)
+    table, ticker, took = app.problems.table, Ticker(root), []
+    ticker.start()
+    for key in SORT_CLICKS:
+        start, clicked = time.perf_counter(), []
+        root.after(0, lambda key=key: clicked.append(table.tree.tk.call(table.tree.heading(key, "command"))))
+        run_until(root, lambda: clicked and not table.filling, 900)
+        took.append(time.perf_counter() - start)
+    ticker.stop()
+    rows = len(table.shown_values())
+    app.worker.cancel.set()
+    app.worker.join(300)
+    app.close()
+    return f"{rows:,} rows sorted in {', '.join(f'{t:.1f}' for t in took)} s | {gaps(ticker)}"
+
+
+def one_run(path: Path, players: int, why: float | None = None) -> str:
+    root, app = new_window()
     ticker = Ticker(root)
     ticker.start()
     watchdog = Watchdog(ticker, why or 40.0)
@@ -200,10 +240,8 @@ def one_run(path: Path, players: int, why: float | None = None) -> str:
     app.worker.cancel.set()
     app.worker.join(300)
     app.close()
-    worst = sorted(ticker.gaps)[-3:]
-    line = (f"check {checked - start:6.1f}s  update {done - checked:6.1f}s | {len(ticker.gaps):>6} ticks of "
-            f"{TICK_MS} ms, largest gaps {', '.join(f'{1000 * g:.0f}' for g in reversed(worst))} ms")
-    return line + f"; {ticker.busiest()}" + ("\n" + watchdog.report() + "\n" + callbacks.report() if why else "")
+    line = f"check {checked - start:6.1f}s  update {done - checked:6.1f}s | {gaps(ticker)}"
+    return line + ("\n" + watchdog.report() + "\n" + callbacks.report() if why else "")
 
 
 def main():
@@ -212,6 +250,8 @@ def main():
     parser.add_argument("--players", type=int, default=2_000)
     parser.add_argument("--why", type=float, metavar="MS", nargs="?", const=40.0,
                         help="also say which code ran while the event loop was more than MS (40) ms late")
+    parser.add_argument("--sort", action="store_true",
+                        help="every result twice, checked but not updated: time heading clicks on the Problems table")
     busy.add_argument(parser)
     args = parser.parse_args()
     if not os.environ.get("DISPLAY"):
@@ -221,12 +261,13 @@ def main():
     with tempfile.TemporaryDirectory() as tmp:
         os.environ["SECRETARY_HOME"] = str(Path(tmp) / "user-folder")  # recent files, log: not the real ones
         source = Path(tmp) / "source.xlsx"
-        make_league_workbook(source, args.rows, args.players, seed=1)
-        print(f"{args.rows:,} rows, {args.players:,} players")
+        make_league_workbook(source, args.rows, args.players, seed=1, copies=2 if args.sort else 1)
+        print(f"{args.rows:,} results{' (each twice)' if args.sort else ''}, {args.players:,} players")
         for condition in busy.conditions(args.conditions):
             path = Path(tmp) / "big.xlsx"
             shutil.copyfile(source, path)
-            print(f"{condition:>14} | {one_run(path, args.players, args.why)}", flush=True)
+            line = sort_run(path) if args.sort else one_run(path, args.players, args.why)
+            print(f"{condition:>14} | {line}", flush=True)
 
 
 if __name__ == "__main__":

@@ -109,8 +109,10 @@ def make_games(n_games: int, n_players: int, seed: int = 0, n_divisions: int = 4
     return Games(*cols, strengths=strengths, division=division)
 
 
-def make_league_workbook(path, n_rows: int, n_players: int, n_divisions: int = 4, seed: int = 0) -> Games:
-    """Write a plain league workbook with ``n_rows`` results; return its games in row order."""
+def make_league_workbook(path, n_rows: int, n_players: int, n_divisions: int = 4, seed: int = 0,
+                         copies: int = 1) -> Games:
+    """Write a plain league workbook with ``n_rows`` results (each on ``copies`` rows in a row: entered twice,
+    the check warns about every second one); return its games in row order."""
     games = make_games(n_rows, n_players, seed, n_divisions)
     order = np.argsort(-games.age_days, kind="stable")  # oldest first, as a secretary types them
     games = games._replace(**{f: getattr(games, f)[order] for f in Games._fields[:5]})
@@ -125,8 +127,10 @@ def make_league_workbook(path, n_rows: int, n_players: int, n_divisions: int = 4
         a, b = int(games.idx_a[k]), int(games.idx_b[k])
         da, db = games.division[a], games.division[b]
         where = division_names[da] if da == db else "Open night"
-        results.append([date, where, names[a], names[b], int(games.games_a[k]), int(games.games_b[k]),
-                        "League night" if da == db else "Open night", None])
+        row = [date, where, names[a], names[b], int(games.games_a[k]), int(games.games_b[k]),
+               "League night" if da == db else "Open night", None]
+        for _ in range(copies):
+            results.append(row)
     players = wb.create_sheet("Players")
     players.append(["Player", "Division", "Starting rating", "Also known as"])
     for name, d in zip(names, games.division.tolist()):

@@ -150,3 +150,91 @@ def test_the_problems_tab_lists_every_problem_errors_first_from_rows_made_as_the
     finally:
         scheduler.cancel_all()
         root.destroy()
+
+
+# ------------------------------------------------------------------ sorting a big table on a heading click
+
+SORTED_ROWS = 3 * views.SORT_CHUNK + 41  # four chunks of sorting, the last one part-full
+
+
+def click(t: Table, key: str) -> None:
+    """What a click on the column heading runs: the heading's own command."""
+    t.tree.tk.call(t.tree.heading(key, "command"))
+
+
+def mixed_rows(n: int) -> list[views.Row]:
+    """Ratings-table rows whose names differ in capitals and whose Change is often equal and sometimes blank."""
+    out = []
+    for k in range(n):
+        name = f"{('ada', 'Ada', 'ADA', 'bram', 'Bram', 'cleo')[(k * 7) % 6]} {(k * 7919) % 10007:05d}"
+        change = None if k % 9 == 0 else float((37 * k) % 201 - 100)
+        values = (k + 1, name, 1500.0, change, "Division 1", 40.0, 12.0, None, "")
+        shown = (str(k + 1), name, "1500", views.signed(change), "Division 1", "40", "12", "", "")
+        out.append(views.Row(name, values, shown))
+    return out
+
+
+def test_a_heading_click_sorts_names_without_regard_to_capitals_numbers_by_size_blanks_last(table):
+    root, t = table
+    given = mixed_rows(SORTED_ROWS)
+    t.show(given)
+    filled(root, t)
+    chosen = given[1234].iid
+    t.tree.selection_set(chosen)
+    click(t, "player")
+    assert t.tree.heading("player", "text") == "Player \u25b2"
+    assert filled(root, t) == [r.shown for r in sorted(given, key=lambda r: r.values[1].casefold())]
+    assert t.tree.selection() == (chosen,) and t.tree.yview()[0] == 0.0  # still chosen; the top in sight
+    changed = [r for r in given if r.values[3] is not None]
+    blank = [r for r in given if r.values[3] is None]
+    click(t, "change")
+    assert t.tree.heading("change", "text") == "Change \u25b2" and t.tree.heading("player", "text") == "Player"
+    assert filled(root, t) == [r.shown for r in sorted(changed, key=lambda r: r.values[3]) + blank]
+    click(t, "change")  # again: the reverse, blanks still last, equal changes still in the order given
+    assert t.tree.heading("change", "text") == "Change \u25bc"
+    assert filled(root, t) == [r.shown for r in sorted(changed, key=lambda r: -r.values[3]) + blank]
+    assert t.tree.selection() == (chosen,)
+
+
+def test_the_window_answers_while_a_big_table_is_being_sorted(table):
+    root, t = table
+    given = rows(SORTED_ROWS)
+    t.show(given)
+    filled(root, t)
+    first = min(given, key=lambda r: r.values[2]).iid  # lowest rating: the top row once sorted
+    clicked, answered = [], []
+
+    def probe() -> None:  # an after() callback, as any other the window has
+        if clicked:
+            answered.append(t.tree.get_children()[:1] == (first,))
+        if t.filling or not clicked:
+            root.after(1, probe)
+
+    root.after(0, lambda: clicked.append(click(t, "rating")))
+    root.after(1, probe)
+    wait_until(root, lambda: clicked and not t.filling, 60)
+    assert answered and not answered[0]  # it answered before the sorted rows were in
+    assert t.shown_values() == [r.shown for r in sorted(given, key=lambda r: r.values[2])]
+
+
+def test_the_problems_of_a_real_workbook_sort_as_the_sheet_s_values_do(app, tmp_path):
+    path = tmp_path / "league.xlsx"
+    make_league_workbook(path, SORTED_ROWS, 60, seed=4, copies=2)  # every result twice: a warning per result
+    app.open_workbook(path)
+    settle(app, 300)
+    table = app.problems.table
+    given = [int(v[2]) for v in table.shown_values()]
+    assert len(given) >= SORTED_ROWS
+    wb = openpyxl.load_workbook(path, read_only=True)
+    try:  # the sheet's own values: Player A, Games A-Games B, Player B
+        sheet = {k: f"{r[2]} {r[4]}-{r[5]} {r[3]}"
+                 for k, r in enumerate(wb["Results"].iter_rows(min_row=1, values_only=True), start=1)}
+    finally:
+        wb.close()
+    click(table, "found")
+    by_text = sorted(given, key=lambda k: sheet[k].casefold())
+    assert [(int(v[2]), v[4]) for v in filled(app.root, table)] == [(k, sheet[k]) for k in by_text]
+    click(table, "row")
+    click(table, "row")  # again: the highest row number first, as numbers ("1000" after "999")
+    assert [int(v[2]) for v in filled(app.root, table)] == sorted(given, reverse=True)
+    assert app.idle

@@ -95,3 +95,29 @@ def test_long_messages_wrap_and_the_settings_dialog_fits(screen, display, demo_l
         assert on_screen(dialog.top, screen) and on_screen(dialog.save_button, screen)
         screenshot(dialog.top, f"gui-{screen[0]}x{screen[1]}-settings-messages")
         dialog.top.destroy()
+
+
+@pytest.mark.parametrize("screen", SCREENS)
+def test_a_fixture_s_long_forecast_note_is_read_in_full_under_the_table(screen, display, demo_league, tk_errors):
+    """The Forecast note column cuts a long note short; choosing the fixture shows it whole, wrapped, on the screen."""
+    from tkinter import font as tkfont
+
+    with screen_window(tk_errors, display, screen) as app:
+        app.open_workbook(demo_league / "league.xlsx")
+        settle(app, 300)
+        app.notebook.select(app.fixtures.frame)
+        tab, tree = app.fixtures, app.fixtures.table.tree
+        settle(app)
+        assert tab.detail.cget("text") == views.FIXTURE_CHOOSE
+        longest = max(tree.get_children(), key=lambda i: len(tree.set(i, "note")))
+        note = tree.set(longest, "note")
+        cell = int(tree.column("note", "width"))
+        assert tkfont.nametofont("TkDefaultFont").measure(note) > cell  # the demo's long note is cut in its cell
+        tree.selection_set(longest)
+        settle(app)
+        text = tab.detail.cget("text")
+        assert f"Forecast note: {note}." in text and tree.set(longest, "a") in text
+        assert clipped(app.root) == [] and on_screen(tab.detail, screen)
+        bottom = tab.detail.winfo_rooty() + tab.detail.winfo_height()
+        assert bottom <= tab.frame.winfo_rooty() + tab.frame.winfo_height()  # not hidden under the tab's edge
+        screenshot(app.root, f"gui-{screen[0]}x{screen[1]}-fixture-note")

@@ -79,6 +79,26 @@ def test_sorting_is_numeric_for_numbers_and_keeps_blanks_last():
     assert [r.values[0] for r in views.sort_rows(dates, 0)] == [dt.date(2025, 12, 30), dt.date(2026, 3, 2)]
 
 
+def test_sorting_a_chunk_at_a_time_gives_python_s_own_stable_sort_with_blanks_last_either_way():
+    values = [None if k % 11 == 0 else ("" if k % 13 == 0 else (k * 7919) % 97) for k in range(1234)]
+    rows = _rows(values)  # many equal values: the order given must stay among them
+    filled = [r for r in rows if r.values[0] not in (None, "")]
+    blanks = [r for r in rows if r.values[0] in (None, "")]
+    for descending in (False, True):
+        steps = views.sort_steps(lambda a, b: rows[a:b], len(rows), 0, descending, chunk=100)
+        turns = 0
+        while True:
+            try:
+                next(steps)
+                turns += 1
+            except StopIteration as done:
+                got = list(done.value)
+                break
+        assert turns == 12  # 13 chunks, a step between each two
+        assert got == sorted(filled, key=lambda r: r.values[0], reverse=descending) + blanks
+        assert views.sort_rows(rows, 0, descending) == got
+
+
 def _rating(name, rating, division="Premier", change=None, games=20.0, sd=40.0):
     return PlayerRating(name=name, division=division, rating=rating, sd=sd, games=games, wins=games / 2,
                         last_played=dt.date(2026, 4, 1), change=change, is_new=change is None)

@@ -53,10 +53,11 @@ def test_group_shift_names_the_division_and_the_event():
     at_event = Context(group_event="Open night", group_played_others=True)
     assert sentence(pc, at_event) == (
         "You did not play this week. Division One as a whole did well against the other divisions "
-        "at the Open night, which lifts everyone in it: +7."
+        "at the Open night, which lifts everyone in it: +7 (+8 in all)."
     )
     # No games against other divisions this week: no claim that the division beat anyone.
-    assert sentence(pc) == "You did not play this week. Division One as a whole moved up this week, which lifts everyone in it: +7."
+    assert sentence(pc) == ("You did not play this week. Division One as a whole moved up, which lifts "
+                            "everyone in it: +7 (+8 in all).")  # "this week" once
     assert sentence(change(group=-3.0, division="Premier"), Context(group_played_others=True)).endswith(
         "The Premier division as a whole did less well against the other divisions, which lowers everyone in it: -3."
     )
@@ -103,7 +104,7 @@ def test_back_after_a_gap_and_ageing():
     back = change(own=-20.0, ageing=-6.0, played=True, new_games=9, new_won=3, new_expected=4.9, days_away=200)
     assert sentence(back) == (
         "Back after 7 months. You won 3 of 9 games this week, about 2 fewer than your rating expected, "
-        "and your older games now count less: -20 in all."
+        "and your older games now count less: -20."
     )
     away = change(own=-5.0, ageing=-5.0, days_away=120)
     assert sentence(away) == (
@@ -116,7 +117,7 @@ def test_back_after_a_gap_and_ageing():
     )
     # This week's games pulled up, the fading of older wins pulled further down.
     mixed = change(own=-4.0, ageing=-9.0, played=True, new_games=5, new_won=4, new_expected=3.0)
-    assert sentence(mixed).endswith("about 1 more than your rating expected, but your older games now count less: -4 in all.")
+    assert sentence(mixed).endswith("about 1 more than your rating expected, but your older games now count less: -4.")
 
 
 def test_negligible_parts_are_never_claimed_as_causes():

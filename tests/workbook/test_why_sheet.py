@@ -41,8 +41,12 @@ def test_every_row_adds_up_and_matches_the_published_rating(tmp_path, updates):
     ws = load_workbook(saved(tmp_path, update.breakdown))[WHY_SHEET]
     assert [c.value for c in ws[1]] == list(WHY_HEADERS)
     rows = [r for r in data_rows(ws) if isinstance(r[2], int)]
-    assert len(rows) == len(update.breakdown.players) == len(update.ratings)
+    new = {p.name for p in update.breakdown.players if p.is_new}
+    assert len(rows) + len(new) == len(update.breakdown.players) == len(update.ratings)
     published = {p.name: p.rating for p in update.ratings}
+    for name, _, before, after, *rest in (r for r in data_rows(ws) if r[0] in new):
+        assert before is None and set(rest[:5]) == {None}, name  # a first rating: no Before, no change
+        assert after == shown_round(published[name]), name
     for name, _, before, after, change, *rest in rows:
         parts = rest[:4]
         assert all(isinstance(v, int) for v in (before, after, change, *parts)), name
@@ -110,7 +114,7 @@ def test_displayed_figures_add_up_in_a_spreadsheet_program(tmp_path, updates):
     rows = list(csv.reader(io.open(tmp_path / "why.csv", encoding="utf-8")))
     assert rows[0] == list(WHY_HEADERS)
     shown = [r for r in rows[1:] if r and r[4]]
-    assert len(shown) == len(updates[1].breakdown.players)
+    assert len(shown) == sum(not p.is_new for p in updates[1].breakdown.players)  # a first rating: no Change
     for r in shown:
         change, parts = int(r[4]), [int(v) for v in r[PARTS]]
         assert (r[4].startswith("+") or change <= 0)  # gains are shown with their plus sign

@@ -13,6 +13,7 @@ from secretary.model.sentences import plural
 
 # Sizes in lines and average characters of the default font, so that they follow the screen's text size.
 HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
+SIDE_LEAST = 32  # characters the player panel keeps at least, when the divisions table wants its width
 CHANGE_SIGHT = 5  # lines of "Why it changed" kept in sight before the history chart takes a third
 DETAIL_TIP = ("Weighted games: every rated game counted with its age weight (age-weighted games). In a league with "
               "doubles, how many of them were doubles frames: a doubles game counts for each of its four players.")
@@ -133,7 +134,20 @@ class RatingsTab:
             self.panes.unbind("<Configure>")
 
     def _side_sash(self, width: int) -> None:
-        self.panes.sashpos(0, max(width - self.side_width, width * 2 // 3 - 40))
+        """The player panel about a third of the width, but narrower (never under SIDE_LEAST characters) where
+        the divisions table needs the room for every column it shows (a netbook)."""
+        least = self.side_width * SIDE_LEAST // SIDE_CHARACTERS
+        wanted = min(self._levels_width(), width - least)
+        self.panes.sashpos(0, max(width - self.side_width, width * 2 // 3 - 40, wanted))
+
+    def _levels_width(self) -> int:
+        """The width the divisions table needs for every column it shows (0 when it is not shown)."""
+        if str(self.levels_frame) not in map(str, self.stack.panes()):
+            return 0
+        tree, shown = self.levels.tree, self.levels.tree["displaycolumns"]
+        keys = tree["columns"] if tuple(shown) in (("#all",), ()) else shown
+        scrollbar = self.levels.frame.grid_slaves(0, 1)[0]
+        return sum(int(tree.column(k, "width")) for k in keys) + scrollbar.winfo_reqwidth() + 4
 
     def show(self, updated) -> None:
         self.ratings = {p.name: p for p in updated.ratings}
@@ -194,6 +208,8 @@ class RatingsTab:
                 self.chosen(shown[0].iid)
             else:
                 self._blank("No player matches: change the search or the division.")
+        elif self.player is not None:
+            self.table.select(self.player)  # still shown: still chosen
 
     def _blank(self, text: str) -> None:
         self.player = None
@@ -204,8 +220,7 @@ class RatingsTab:
 
     def chosen(self, name: str) -> None:
         self.player = name
-        if self.table.tree.exists(name) and name not in self.table.tree.selection():
-            self.table.tree.selection_set(name)
+        self.table.select(name)
         self._redraw()
 
     def _redraw(self) -> None:
