@@ -71,7 +71,7 @@ def test_every_demo_sentence_agrees_with_its_change(demo):
         "everyone in it: +7 (no change in all).")
     # A part left unsaid (opponents re-rated, -1): the total is given.
     assert why["Nico Fairweather"]["Why"].endswith(
-        "The Premier division as a whole moved down this week, which lowers everyone in it: -3 (-4 in all).")
+        "The Premier division as a whole moved down, which lowers everyone in it: -3 (-4 in all).")
 
 
 def test_a_demo_player_who_played_is_told_so_even_when_the_division_moved_them_most(demo):
@@ -79,7 +79,21 @@ def test_a_demo_player_who_played_is_told_so_even_when_the_division_moved_them_m
     assert not _untold(why, second.breakdown.players)
     assert why["Eamon Brackley"]["Why"] == (
         "You won 1 of 6 games this week, about as many as your rating expected. "
-        "The Premier division as a whole moved down this week, which lowers everyone in it: -3.")
+        "The Premier division as a whole moved down, which lowers everyone in it: -3.")
+
+
+def test_no_demo_sentence_says_this_week_twice(demo):
+    # Before: "You did not play this week. Division One as a whole moved down this week, ..." and
+    # "The Premier division as a whole moved down this week, ... You won 5 of 7 games this week, ...".
+    why, _ = demo
+    assert not [(name, row["Why"]) for name, row in why.items() if row["Why"].count("this week") > 1]
+    assert why["Bartley Hoskins"]["Why"] == (
+        "You did not play this week. Division One as a whole moved down, which lowers everyone in it: -3.")
+    # The division first: "this week" goes with it, and the own results follow without it.
+    assert why["Gareth Elphick"]["Why"] == (
+        "The Premier division as a whole moved down this week, which lowers everyone in it: -4. "
+        "You won 5 of 7 games, about 1 fewer than your rating expected: -2.")
+    assert sum("this week" in row["Why"] for row in why.values()) == len(why)  # and every sentence still says when
 
 
 def test_the_notice_board_sheet_prints_the_same_sentence_and_change(demo, tmp_path_factory):

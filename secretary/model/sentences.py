@@ -30,6 +30,7 @@ MIN_SHARE = 0.2
 LONG_GAP_DAYS = 90  # a player away this long is "back after a gap"
 DAYS_PER_MONTH = 30.44
 AS_EXPECTED = 0.05  # games: a week's wins this close to the expected number are "about as many as expected"
+WEEK = " this week"  # said once per sentence: by the lead or the first clause that needs it
 
 
 @dataclass(frozen=True)
@@ -86,8 +87,9 @@ def _surprise(pc: "PlayerChange") -> float:
     return pc.new_won - pc.new_expected
 
 
-def _week(pc: "PlayerChange") -> str:
-    """``You won 2 of 3 games this week, about as many as your rating expected`` (no full stop)."""
+def _week(pc: "PlayerChange", when: str = WEEK) -> str:
+    """``You won 2 of 3 games this week, about as many as your rating expected`` (no full stop); ``when=""``
+    leaves out "this week" (said already)."""
     diff = _surprise(pc)
     word = "more" if diff > 0 else "fewer"
     if abs(diff) >= 0.5:
@@ -96,7 +98,7 @@ def _week(pc: "PlayerChange") -> str:
         phrase = f"a little {word} than your rating expected"
     else:
         phrase = "about as many as your rating expected"
-    return f"You won {pc.new_won} of {_games(pc.new_games)} this week, {phrase}"
+    return f"You won {pc.new_won} of {_games(pc.new_games)}{when}, {phrase}"
 
 
 def _still(pc: "PlayerChange", change: int, lead: list[str]) -> str:
@@ -118,13 +120,13 @@ def _still(pc: "PlayerChange", change: int, lead: list[str]) -> str:
     return f"{head}, but that moves your rating by less than a point: no change."
 
 
-def _own(pc: "PlayerChange", points: int, context: Context) -> str:
+def _own(pc: "PlayerChange", points: int, context: Context, when: str = WEEK) -> str:
     if not pc.played and context.dates_moved_back:
         return f"The newest results were taken out, so your older games count a little more again: {signed(points)}."
     if not pc.played:
         return f"Your older games now count a little less, which moves you back toward the starting rating: {signed(points)}."
     diff = _surprise(pc)
-    head = _week(pc)
+    head = _week(pc, when)
     if points == 0:  # said only to tell that the player played: no figure, so no cause claimed
         return f"{head}."
     ageing_counts = abs(pc.ageing) >= MIN_POINTS and abs(pc.ageing) >= MIN_SHARE * abs(pc.own)
@@ -159,7 +161,7 @@ def _partners(partners, points: int) -> str:
             f"count for {much}{more} for you: {signed(points)}.")
 
 
-def _group(pc: "PlayerChange", points: int, context: Context) -> str:
+def _group(pc: "PlayerChange", points: int, context: Context, when: str = WEEK) -> str:
     label = division_label(pc.division)
     label = label[0].upper() + label[1:]
     moves = "lifts" if points > 0 else "lowers"
@@ -169,7 +171,7 @@ def _group(pc: "PlayerChange", points: int, context: Context) -> str:
         at = "" if not event else f" at {event}" if event.casefold().startswith("the ") else f" at the {event}"
         return f"{label} as a whole {how} against the other divisions{at}, which {moves} everyone in it: {signed(points)}."
     way = "up" if points > 0 else "down"
-    return f"{label} as a whole moved {way} this week, which {moves} everyone in it: {signed(points)}."
+    return f"{label} as a whole moved {way}{when}, which {moves} everyone in it: {signed(points)}."
 
 
 def _corrections(points: int, context: Context) -> str:
@@ -205,17 +207,27 @@ def sentence(pc: "PlayerChange", context: Context = Context()) -> str:
     picked = order[: 1 if lead else 2]  # never more than two sentences
     if pc.played and not lead and 0 not in picked:
         picked = [0, order[0]]  # how their own games went comes first, even when that moved them little
-    clauses = [_clause(k, pc, shown[k], context) for k in picked]
+    clauses = _clauses(picked, pc, shown, context, lead)
     return " ".join(lead + _in_all(clauses, [shown[k] for k in picked], change))
 
 
-def _clause(k: int, pc: "PlayerChange", points: int, context: Context) -> str:
-    """The sentence for part ``k`` (own, opponents, group, corrections) with its shown points."""
+def _clauses(picked: list[int], pc: "PlayerChange", shown, context: Context, lead: list[str]) -> list[str]:
+    """The picked parts' sentences, saying "this week" only once: in the lead or the first that needs it."""
+    out, said = [], any(WEEK in text for text in lead)
+    for k in picked:
+        out.append(_clause(k, pc, shown[k], context, "" if said else WEEK))
+        said = said or WEEK in out[-1]
+    return out
+
+
+def _clause(k: int, pc: "PlayerChange", points: int, context: Context, when: str = WEEK) -> str:
+    """The sentence for part ``k`` (own, opponents, group, corrections) with its shown points; ``when``:
+    " this week", or "" when the sentence before has said it."""
     if k == 0:
-        return _own(pc, points, context)
+        return _own(pc, points, context, when)
     if k == 1:
         return _opponents(pc, points)
-    return _group(pc, points, context) if k == 2 else _corrections(points, context)
+    return _group(pc, points, context, when) if k == 2 else _corrections(points, context)
 
 
 def _in_all(clauses: list[str], figures: list[int], change: int) -> list[str]:

@@ -56,8 +56,8 @@ def test_group_shift_names_the_division_and_the_event():
         "at the Open night, which lifts everyone in it: +7 (+8 in all)."
     )
     # No games against other divisions this week: no claim that the division beat anyone.
-    assert sentence(pc) == ("You did not play this week. Division One as a whole moved up this week, which lifts "
-                            "everyone in it: +7 (+8 in all).")
+    assert sentence(pc) == ("You did not play this week. Division One as a whole moved up, which lifts "
+                            "everyone in it: +7 (+8 in all).")  # "this week" once
     assert sentence(change(group=-3.0, division="Premier"), Context(group_played_others=True)).endswith(
         "The Premier division as a whole did less well against the other divisions, which lowers everyone in it: -3."
     )
