@@ -215,8 +215,15 @@ CHECK_SPREADS = (90.0, 150.0, 240.0)
 CHECK_DIVISION_SPREADS = (0.0, 100.0, 300.0)
 CHECK_REFINE = 6
 CHECK_STEP_DAYS = 28  # the check walks four weeks at a time: a quarter of the fits of a weekly walk
-CHECK_MOST_PLAYERS = 1000  # larger leagues are not checked during an update (a check would take minutes)
-CHECK_MOST_RESULTS = 20_000
+# Larger leagues are not checked during an update.  A rule of ours: the check stays under about 30 s of
+# processor time on the development machine (2 cores, OPENBLAS_NUM_THREADS=1).  Measured with
+# `python tests/bench/bench_check.py` (generated leagues, four divisions, two years; load average 2-5):
+# 2,000 players x 30,000 results 27.1 s, 2,500 x 20,000 23.6 s, 1,000 x 50,000 17.9 s; over the rule
+# 2,000 x 40,000 33.2 s, 2,500 x 30,000 34.0 s; from 3,000 players (above walkforward.DENSE_CONTRASTS
+# unknowns a step's variances take a sparse LU) 20,000 results ran past 200 s of wall time and
+# 5,000 x 50,000 past 600 s.  The real tennis set (2,951 players, 27,080 results) took 9.9 s.
+CHECK_MOST_PLAYERS = 2000
+CHECK_MOST_RESULTS = 30_000
 
 
 def tune_due(first_date: dt.date | None, reference_date: dt.date | None, last: TuneCheck | None, *,

@@ -95,6 +95,7 @@ def test_a_check_is_due_once_a_season_and_only_for_leagues_it_can_check_quickly(
     assert not tune_due(first, dt.date(2025, 6, 1) + dt.timedelta(days=SEASON_DAYS - 1), done)
     assert tune_due(first, dt.date(2025, 6, 1) + dt.timedelta(days=SEASON_DAYS), done)
     late = first + dt.timedelta(days=2 * SEASON_DAYS)
+    assert tune_due(first, late, None, players=CHECK_MOST_PLAYERS, results=CHECK_MOST_RESULTS)  # at the limits
     assert not tune_due(first, late, None, players=CHECK_MOST_PLAYERS + 1)
     assert not tune_due(first, late, None, results=CHECK_MOST_RESULTS + 1)
     assert not tune_due(None, None, None)
