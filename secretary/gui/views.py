@@ -215,6 +215,15 @@ def percent(p: float) -> str:
     return f"{100 * p:.0f}%"
 
 
+def chance(p: float) -> str:
+    """A chance as a whole percentage, but never "0%" or "100%" for one that is not certain: "<1%", ">99%"."""
+    if 0 < p < 0.005:
+        return "<1%"
+    if 0.995 <= p < 1:
+        return ">99%"
+    return percent(p)
+
+
 def band(rating: float, sd: float) -> str:
     """The rating's likely range, one ± either side, e.g. "1480 - 1560"."""
     return f"{rating - sd:.0f} \u2013 {rating + sd:.0f}"
@@ -535,8 +544,8 @@ def fixture_rows(forecasts: Sequence, latest: dt.date | None = None) -> list[Row
         note = fixture_note(f, latest)
         values = (fx.date, fx.label_a, fx.label_b, f"{f.race_a}-{f.race_b}", f.race_chance,
                   f"{f.fair_race_a}-{f.fair_race_b}", f.fair_chance, note)
-        shown = (day(fx.date), fx.label_a, fx.label_b, values[3], percent(f.race_chance), values[5],
-                 percent(f.fair_chance), values[7])
+        shown = (day(fx.date), fx.label_a, fx.label_b, values[3], chance(f.race_chance), values[5],
+                 chance(f.fair_chance), values[7])
         rows.append(Row(str(i), values, shown, ("past",) if past else ("uncertain",) if note else ()))
     return sorted(rows, key=lambda r: "past" in r.tags)  # stable: date order within each
 
@@ -551,7 +560,7 @@ def fixture_detail(f, latest: dt.date | None = None) -> str:
     when = f"{day(fx.date)}, " if fx.date else ""
     note = fixture_note(f, latest) or "none: both ratings are sure enough for this chance"
     return (f"{when}{fx.label_a} v {fx.label_b}: race {f.race_a}-{f.race_b}, {fx.label_a} "
-            f"{percent(f.race_chance)}; fair race {f.fair_race_a}-{f.fair_race_b}, {percent(f.fair_chance)}."
+            f"{chance(f.race_chance)}; fair race {f.fair_race_a}-{f.fair_race_b}, {chance(f.fair_chance)}."
             f"\nForecast note: {note}.")
 
 
@@ -623,7 +632,7 @@ def suggestion_rows(watch) -> list[Row]:
     for i, s in enumerate(watch.suggestions):
         values = (s.player_a, s.player_b, f"{s.division_a} v {s.division_b}", s.race, s.chance_a, s.target,
                   s.sd_before, s.what_to_do)
-        shown = (*values[:3], f"{s.race}-{s.race}", percent(s.chance_a), s.target,
+        shown = (*values[:3], f"{s.race}-{s.race}", chance(s.chance_a), s.target,
                  f"{s.sd_before:.0f} \u2192 {s.sd_after:.0f}", s.what_to_do)
         rows.append(Row(str(i), values, shown))
     return rows

@@ -46,6 +46,8 @@ class DivisionLink:
     ----------
     division : the division's name ("" for players without one)
     players : players counted in it
+    mean_rating : its players' mean rating, points (the watch list's ``watch_sentences.MEAN_RATING``); with
+        Division spread not the same as ``level``: each rating is the level plus the player's own part
     level : the division's level (with Division spread) or its players' mean rating, points
     relative_level : the gap to the rest (``watch_sentences.GAP``), points: the level minus the other
         divisions' average level (with Division spread), or the mean rating minus the league's
@@ -67,6 +69,7 @@ class DivisionLink:
 
     division: str
     players: int
+    mean_rating: float
     level: float
     relative_level: float
     level_sd: float
@@ -266,7 +269,8 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
     ppl = points_per_logodds(fit.settings.scale)
     cross_games, player_cross = _cross_games(fit)
     recent = _recent_cross_games(fit, results) if results is not None else None
-    level, relative = _levels(fit)
+    mean = _mean_ratings(fit)
+    level, relative = _levels(fit, mean)
     rows = []
     for g, name in enumerate(fit.group_names):
         inside = np.flatnonzero(fit.group == g)
@@ -275,6 +279,7 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
         rows.append(DivisionLink(
             division=name,
             players=len(inside),
+            mean_rating=float(mean[g]),
             level=float(level[g]),
             relative_level=float(relative[g]),
             level_sd=float(np.sqrt(max(var[g], 0.0)) * ppl),
@@ -291,8 +296,16 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
     return rows
 
 
-def _levels(fit) -> tuple[np.ndarray, np.ndarray]:
-    """Each division's level and its level against the rest, points.
+def _mean_ratings(fit) -> np.ndarray:
+    """Each division's players' mean rating, points (the centre for a division with nobody in it)."""
+    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
+    mean = np.bincount(fit.group, fit.ratings, len(fit.group_names)) / np.maximum(sizes, 1)
+    mean[sizes == 0] = fit.settings.centre
+    return mean
+
+
+def _levels(fit, mean: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Each division's level and its level against the rest, points (``mean``: ``_mean_ratings``).
 
     Free levels: ``centre + L_d`` and ``L_d`` minus the other levels' average.
     One pool: the players' mean rating and that minus the league's mean rating.
@@ -300,9 +313,6 @@ def _levels(fit) -> tuple[np.ndarray, np.ndarray]:
     ppl, centre = points_per_logodds(fit.settings.scale), fit.settings.centre
     if fit.levels is not None:
         return centre + fit.level * ppl, against_the_rest(len(fit.level)) @ fit.level * ppl
-    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
-    mean = np.bincount(fit.group, fit.ratings, len(fit.group_names)) / np.maximum(sizes, 1)
-    mean[sizes == 0] = centre
     return mean, mean - (float(fit.ratings.mean()) if len(fit.names) else centre)
 
 

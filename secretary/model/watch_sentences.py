@@ -17,6 +17,10 @@ NO_DIVISION = "(no division)"
 SHOWN_NAMES = 12  # names listed before "and N more"
 POOL_NAMES = 4  # names in a separate pool's line
 SUMMARY_PLAYERS = 5  # held-back players named in the short summary before "and N more"
+MEAN_RATING = "Average rating"
+MEAN_RATING_MEANING = ("The mean rating of the division's players, in points. With division levels it is not "
+                       "the Centre plus the division level (Ratings sheet): each rating is that plus the "
+                       "player's own part, and the own parts need not average to zero.")
 # A division against the rest of the league, and how sure that is (not the divisions table's ± of the level).
 GAP = "Gap to the rest"
 GAP_SD = "± of the gap"

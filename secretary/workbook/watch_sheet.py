@@ -9,8 +9,8 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from secretary.model.linkage import WatchList
-from secretary.model.watch_sentences import (GAP, GAP_MEANING, GAP_SD, GAP_SD_MEANING, POOL_GAP_SD, division_label,
-                                             listing, more_held)
+from secretary.model.watch_sentences import (GAP, GAP_MEANING, GAP_SD, GAP_SD_MEANING, MEAN_RATING,
+                                             MEAN_RATING_MEANING, POOL_GAP_SD, division_label, listing, more_held)
 from secretary.workbook.schema import WATCH_SHEET
 from secretary.workbook.style import DATE_FORMAT, GAMES_FORMAT, RATING_FORMAT, SD_FORMAT, put, replace_sheet
 
@@ -27,7 +27,7 @@ GAP_NOW, GAP_AFTER = f"{GAP_SD} now", f"{GAP_SD} after"  # a suggested match's t
 
 POOL_HEADERS = ("Players", "Divisions", "Games among themselves", POOL_GAP_SD, TODO)
 DIVISION_HEADERS = (
-    "Division", "Players", "Average rating", GAP, GAP_SD, LINKED,
+    "Division", "Players", MEAN_RATING, GAP, GAP_SD, LINKED,
     "Games against other divisions", "Recent games against other divisions", "Players who link it",
     "Needs attention", TODO,
 )
@@ -41,7 +41,7 @@ MATCH_HEADERS = (
 )
 FORMATS = {
     "Games among themselves": GAMES_FORMAT, POOL_GAP_SD: SD_FORMAT,
-    "Average rating": RATING_FORMAT, GAP: SIGNED_FORMAT, GAP_SD: SD_FORMAT,
+    MEAN_RATING: RATING_FORMAT, GAP: SIGNED_FORMAT, GAP_SD: SD_FORMAT,
     LINKED: SHARE_FORMAT, "Games against other divisions": GAMES_FORMAT,
     "Rating": RATING_FORMAT, "Weighted games": GAMES_FORMAT, "Weighted wins": GAMES_FORMAT,
     "Expected at their rating": GAMES_FORMAT, "Points held back": RATING_FORMAT,
@@ -56,6 +56,11 @@ TODO_COLUMN = max(len(headers) for headers in (POOL_HEADERS, DIVISION_HEADERS, H
 
 BOLD = Font(bold=True)
 HEADING = Font(bold=True, size=13)
+
+
+def _meaning(header: str, meaning: str) -> str:
+    """A note line under a section: "Average rating: the mean rating of ..."."""
+    return f"{header}: {meaning[0].lower()}{meaning[1:]}"
 
 
 def _column(position: int, header: str) -> int:
@@ -124,9 +129,9 @@ def write_watch(wb: Workbook, watch: WatchList) -> None:
         ws, row, "Divisions",
         (f"{LINKED}: how much of a division's level is pinned down by games against other "
          "divisions (0% = only the starting assumption, 100% = fully tied in; the linked share).",
-         f"{GAP}: {GAP_MEANING[0].lower()}{GAP_MEANING[1:]}", f"{GAP_SD}: {GAP_SD_MEANING[0].lower()}{GAP_SD_MEANING[1:]}"),
+         _meaning(MEAN_RATING, MEAN_RATING_MEANING), _meaning(GAP, GAP_MEANING), _meaning(GAP_SD, GAP_SD_MEANING)),
         DIVISION_HEADERS,
-        [(division_label(d.division), d.players, d.level, d.relative_level, d.level_sd, d.linked_share,
+        [(division_label(d.division), d.players, d.mean_rating, d.relative_level, d.level_sd, d.linked_share,
           d.cross_games, d.recent_cross_games, d.linking_players, YES if d.flagged else "",
           d.what_to_do) for d in watch.divisions], widths)
     row = _section(

@@ -121,3 +121,22 @@ def test_a_fixture_s_long_forecast_note_is_read_in_full_under_the_table(screen, 
         bottom = tab.detail.winfo_rooty() + tab.detail.winfo_height()
         assert bottom <= tab.frame.winfo_rooty() + tab.frame.winfo_height()  # not hidden under the tab's edge
         screenshot(app.root, f"gui-{screen[0]}x{screen[1]}-fixture-note")
+
+
+def test_no_fixture_s_chance_reads_as_certain_when_it_is_not(display, demo_league, tk_errors):
+    """The demo's Yvette Marwood has a 0.09% chance: a cell reading "0%" would say she cannot win."""
+    import openpyxl
+
+    wb = openpyxl.load_workbook(demo_league / "league.xlsx", read_only=True)
+    try:
+        sheet = [r for r in wb["Fixtures"].iter_rows(min_row=2, values_only=True) if r[1]]
+    finally:
+        wb.close()
+    with screen_window(tk_errors, display, SCREENS[0]) as app:
+        app.open_workbook(demo_league / "league.xlsx")
+        settle(app, 300)
+        shown = {(r[1], r[2]): r[4] for r in app.fixtures.table.shown_values()}
+    expected = {(a, b): "<1%" if p < 0.005 else ">99%" if p >= 0.995 else f"{100 * p:.0f}%"
+                for _, a, b, _, _, p, *_ in sheet}
+    assert shown == expected and "<1%" in shown.values()
+    assert not {"0%", "100%"} & set(shown.values())
