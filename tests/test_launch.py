@@ -79,3 +79,13 @@ def test_programs_a_frozen_app_starts_get_the_system_libraries(monkeypatch):
     monkeypatch.setenv("LD_LIBRARY_PATH_ORIG", "/usr/local/lib")
     restore_system_libraries()
     assert os.environ["LD_LIBRARY_PATH"] == "/usr/local/lib" and "LD_LIBRARY_PATH_ORIG" not in os.environ
+
+
+def test_python_dash_m_secretary_is_the_secretary_command():
+    env = dict(os.environ, PYTHONPATH=str(REPO))
+    done = subprocess.run([sys.executable, "-m", "secretary", "check", str(DEMO)], cwd=REPO, env=env,
+                          capture_output=True, text=True, timeout=300)
+    assert done.returncode == 0 and "1 warning (the update can go ahead)" in done.stdout, done
+    done = subprocess.run([sys.executable, "-m", "secretary", "--version"], cwd=REPO, env=env,
+                          capture_output=True, text=True, timeout=300)
+    assert (done.returncode, done.stdout.strip()) == (0, f"secretary {__version__}")
