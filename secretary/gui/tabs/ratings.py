@@ -13,6 +13,7 @@ from secretary.model.sentences import plural
 
 # Sizes in lines and average characters of the default font, so that they follow the screen's text size.
 HISTORY_LINES, CHANGE_LINES, SIDE_CHARACTERS = 9, 11, 40
+WRAP_MARGIN = 6  # pixels: room for a label's own border and padding on top of its wrap length
 SIDE_LEAST = 32  # characters the player panel keeps at least, when the divisions table wants its width
 CHANGE_SIGHT = 5  # lines of "Why it changed" kept in sight before the history chart takes a third
 DETAIL_TIP = ("Weighted games: every rated game counted with its age weight (age-weighted games). In a league with "
@@ -228,8 +229,9 @@ class RatingsTab:
         if p is None:
             return
         width = max(200, self.history_canvas.winfo_width())
-        self.name.configure(text=p.name, wraplength=width)
-        self.detail.configure(wraplength=width, text=views.player_detail(p, self.doubles))
+        wrap = max(200, min(width, self.side.winfo_width()) - WRAP_MARGIN)  # the labels never ask for more
+        self.name.configure(text=p.name, wraplength=wrap)
+        self.detail.configure(wraplength=wrap, text=views.player_detail(p, self.doubles))
         self._fit_history()  # after the detail: it may have wrapped to more lines
         charts.draw_history(self.history_canvas, self.history.get(p.name, []), width, self.history_height)
         self.change_canvas.delete("all")
