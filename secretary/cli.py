@@ -211,7 +211,7 @@ def cmd_fixtures(args) -> int:
     if not forecasts:
         print("The Fixtures sheet lists no coming matches; nothing to forecast.")
         return EXIT_DONE
-    from secretary.model.notice import fixture_note, is_past, long_date
+    from secretary.model.notice import fixture_note, is_past, long_date, percent_chance
 
     past = sum(1 for fc in forecasts if is_past(fc.fixture.date, latest))
     if past:
@@ -220,7 +220,7 @@ def cmd_fixtures(args) -> int:
     for fc in in_date_order(forecasts):
         f = fc.fixture
         note = fixture_note(fc, latest)
-        print(f"  {f.label_a} v {f.label_b}: {f.label_a} {fc.race_chance:.0%} to win a race "
+        print(f"  {f.label_a} v {f.label_b}: {f.label_a} {percent_chance(fc.race_chance)} to win a race "
               f"{fc.race_a}-{fc.race_b}; fair race {fc.fair_race_a}-{fc.fair_race_b}" + (f" ({note})" if note else ""))
     if written:
         print(f"Forecast columns written to the Fixtures sheet of {written}")

@@ -10,7 +10,8 @@ from operator import itemgetter
 from typing import Iterable, Mapping, Sequence
 
 from secretary.model.division_table import INFERRED, LEVEL_SD, LEVEL_SD_MEANING
-from secretary.model.notice import PAST_NOTE, fixture_note, is_past
+from secretary.model.notice import PAST_NOTE, fixture_note, is_past, percent
+from secretary.model.notice import percent_chance as chance
 from secretary.model.records import HOME_RULES
 from secretary.model.sentences import naming, plural
 from secretary.model.watch_sentences import GAP, GAP_MEANING, GAP_SD, GAP_SD_MEANING
@@ -209,19 +210,6 @@ def signed(x: float | None) -> str:
         return ""
     n = round(x)
     return f"{n:+d}" if n else "0"
-
-
-def percent(p: float) -> str:
-    return f"{100 * p:.0f}%"
-
-
-def chance(p: float) -> str:
-    """A chance as a whole percentage, but never "0%" or "100%" for one that is not certain: "<1%", ">99%"."""
-    if 0 < p < 0.005:
-        return "<1%"
-    if 0.995 <= p < 1:
-        return ">99%"
-    return percent(p)
 
 
 def band(rating: float, sd: float) -> str:

@@ -8,6 +8,7 @@ whose four parts add up to the shown change.
 from __future__ import annotations
 
 import datetime as dt
+import math
 from dataclasses import dataclass
 from itertools import groupby
 from typing import TYPE_CHECKING, Iterable, Sequence
@@ -90,6 +91,21 @@ class Notice:
     def levels_line(self) -> str:
         """``Premier +152 ± 31; Division One +4 ± 28; ...`` ("" without fitted levels)."""
         return "; ".join(f"{d.label} {d.level:+.0f} \u00b1 {d.sd:.0f}" for d in self.levels)
+
+
+def percent(p: float) -> str:
+    """A share as a whole percentage ("71%"), halves rounded up as a spreadsheet rounds them (0.5% is "1%")."""
+    return f"{math.floor(100 * p + 0.5):d}%"
+
+
+def percent_chance(p: float) -> str:
+    """A chance as a whole percentage, but never "0%" or "100%" for one that is not certain: "<1%", ">99%"
+    (the window, the handicap card and ``secretary fixtures``; the Fixtures sheet's number format says the same)."""
+    if 0 < p < 0.005:
+        return "<1%"
+    if 0.995 <= p < 1:
+        return ">99%"
+    return percent(p)
 
 
 def long_date(day: dt.date | None) -> str:

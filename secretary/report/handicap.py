@@ -9,7 +9,8 @@ from typing import Sequence
 from reportlab.platypus import CondPageBreak
 
 from secretary.model.fixtures import FixtureForecast
-from secretary.model.notice import CLOSING, PAST_NOTE, forecast_note, is_past, league_title, long_date
+from secretary.model.notice import (CLOSING, PAST_NOTE, forecast_note, is_past, league_title, long_date,
+                                     percent_chance)
 from secretary.model.records import PlayerRating, Settings
 from secretary.model.sentences import plural
 from secretary.report import layout
@@ -37,7 +38,7 @@ def chance_text(fc: FixtureForecast, settings: Settings) -> str:
         race = f"Races to {fc.race_a} (the usual race)"
     else:
         race = f"Races to {fc.race_a}"
-    return f"{race}: {a} wins {fc.race_chance:.0%}"
+    return f"{race}: {a} wins {percent_chance(fc.race_chance)}"
 
 
 def _match_cell(fc: FixtureForecast, ratings: dict[str, PlayerRating]) -> list:

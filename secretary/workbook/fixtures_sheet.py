@@ -25,7 +25,7 @@ FAIR_A = "Fair race A"
 FAIR_B = "Fair race B"
 NOTE = "Forecast note"
 TOOL_HEADERS = (CHANCE, FAIR_A, FAIR_B, NOTE)
-CHANCE_FORMAT = "0%"
+CHANCE_FORMAT = '[<0.005]"<1%";[>=0.995]">99%";0%'  # never 0% or 100% for a chance that is not certain
 RACE_FORMAT = "0"
 HEADER_SEARCH_ROWS = 10  # the reader allows a title line or two above the headers
 WIDTHS = {CHANCE: 10, FAIR_A: 12, FAIR_B: 12, NOTE: 34}

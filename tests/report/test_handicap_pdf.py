@@ -1,8 +1,10 @@
 """The handicap card, read back with poppler: every fixture's players, fair race, chance and flags."""
+import dataclasses
+
 import pytest
 from PIL import Image
 
-from secretary.model.notice import CLOSING, long_date
+from secretary.model.notice import CLOSING, long_date, percent_chance
 from secretary.report.handicap import chance_text, fair_race_text, write_handicap_pdf
 from tests.invented_league import SETTINGS, chance_by_integral, forecasts, two_updates
 from tests.report.poppler import A4_POINTS, LETTER_POINTS, needs_poppler, page_points, pdf_text, render_page, squeeze
@@ -140,3 +142,14 @@ def test_a_long_card_fills_its_pages(league, tmp_path):
     assert min(filled[:-1]) >= 0.78, filled
     text = pdf_text(card)
     assert text.count("Fair race") >= len(boxes)  # every page's table has its header row
+
+
+def test_a_chance_that_is_not_certain_never_prints_as_0_or_100_percent(league, tmp_path):
+    update, fcs = league
+    extreme = [dataclasses.replace(fcs[0], race_chance=0.0009), dataclasses.replace(fcs[1], race_chance=0.9993)]
+    card = write_handicap_pdf(tmp_path / "card.pdf", extreme, SETTINGS, ratings=update.ratings)
+    text = squeeze(pdf_text(card))
+    assert squeeze(f"{fcs[0].fixture.player_a} wins <1%") in text
+    assert squeeze(f"{fcs[1].fixture.player_a} wins >99%") in text
+    assert [percent_chance(p) for p in (0.0, 0.0049, 0.005, 0.42, 0.9949, 0.995, 1.0)] == \
+        ["0%", "<1%", "1%", "42%", "99%", ">99%", "100%"]
