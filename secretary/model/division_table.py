@@ -76,9 +76,7 @@ def level_table(fit, watch) -> tuple[DivisionLevel, ...]:
         return ()
     ppl = points_per_logodds(fit.settings.scale)
     cross = {d.division: d.cross_games for d in watch.divisions}
-    rated = np.ones(len(fit.group), dtype=bool)
-    rated[fit.diagnosis.no_games] = False  # as on the Ratings sheet: a player with no rated game is not counted
-    sizes = np.bincount(fit.group[rated], minlength=len(fit.group_names))
+    sizes = np.bincount(fit.group[fit.rated], minlength=len(fit.group_names))
     free = fit.levels is not None
     rows = []
     for g, name in enumerate(fit.group_names):

@@ -139,9 +139,7 @@ class Unplaced:
 
 def _division_shares(fit: LeagueFit) -> np.ndarray:
     """``w_d``: each named division's share of the players with a rated game (all 0 when none has one)."""
-    rated = np.ones(len(fit.names), dtype=bool)
-    rated[fit.diagnosis.no_games] = False
-    count = np.bincount(fit.group[rated], minlength=len(fit.group_names)).astype(float)
+    count = np.bincount(fit.group[fit.rated], minlength=len(fit.group_names)).astype(float)
     count[[k for k, g in enumerate(fit.group_names) if not g]] = 0.0
     return count / count.sum() if count.sum() > 0 else count
 

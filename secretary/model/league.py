@@ -132,6 +132,14 @@ class LeagueFit:
         ppl = points_per_logodds(self.settings.scale)
         return {g: float(m * ppl) for g, m in zip(self.group_names, self.starting_level)}
 
+    @property
+    def rated(self) -> np.ndarray:
+        """True for each player with a rated game: the players the Ratings sheet publishes and every
+        division's count takes (a Players-sheet row with no results is in the fit, with its prior only)."""
+        mask = np.ones(len(self.names), dtype=bool)
+        mask[self.diagnosis.no_games] = False
+        return mask
+
     def homes(self) -> dict[str, str]:
         """Each player's home division."""
         return {name: self.group_names[g] for name, g in zip(self.names, self.group)}

@@ -45,7 +45,7 @@ class DivisionLink:
     Attributes
     ----------
     division : the division's name ("" for players without one)
-    players : players counted in it
+    players : players with a rated game counted in it (as the Ratings sheet and the divisions table count)
     mean_rating : its players' mean rating, points (the watch list's ``watch_sentences.MEAN_RATING``); with
         Division spread not the same as ``level``: each rating is the level plus the player's own part
     level : the division's level (with Division spread) or its players' mean rating, points
@@ -271,9 +271,9 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
     recent = _recent_cross_games(fit, results) if results is not None else None
     mean = _mean_ratings(fit)
     level, relative = _levels(fit, mean)
-    rows = []
+    rows, rated = [], fit.rated
     for g, name in enumerate(fit.group_names):
-        inside = np.flatnonzero(fit.group == g)
+        inside = np.flatnonzero((fit.group == g) & rated)
         linkers = inside[player_cross[inside] > 0]
         linkers = linkers[np.argsort(-player_cross[linkers], kind="stable")]
         rows.append(DivisionLink(
@@ -297,9 +297,10 @@ def _division_rows(fit, results, var, prior, share, flagged, suggested) -> list[
 
 
 def _mean_ratings(fit) -> np.ndarray:
-    """Each division's players' mean rating, points (the centre for a division with nobody in it)."""
-    sizes = np.bincount(fit.group, minlength=len(fit.group_names))
-    mean = np.bincount(fit.group, fit.ratings, len(fit.group_names)) / np.maximum(sizes, 1)
+    """Each division's rated players' mean rating, points (the centre for a division with nobody rated in it)."""
+    group, ratings = fit.group[fit.rated], fit.ratings[fit.rated]
+    sizes = np.bincount(group, minlength=len(fit.group_names))
+    mean = np.bincount(group, ratings, len(fit.group_names)) / np.maximum(sizes, 1)
     mean[sizes == 0] = fit.settings.centre
     return mean
 
@@ -313,7 +314,8 @@ def _levels(fit, mean: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     ppl, centre = points_per_logodds(fit.settings.scale), fit.settings.centre
     if fit.levels is not None:
         return centre + fit.level * ppl, against_the_rest(len(fit.level)) @ fit.level * ppl
-    return mean, mean - (float(fit.ratings.mean()) if len(fit.names) else centre)
+    rated = fit.ratings[fit.rated]
+    return mean, mean - (float(rated.mean()) if len(rated) else centre)
 
 
 def _whole_pools(fit) -> np.ndarray:

@@ -192,6 +192,17 @@ def test_a_players_row_with_no_division_and_no_results_changes_nobodys_rating_or
     assert np.abs(with_row.r[k] - without.r).max() <= 1e-9
     assert np.abs(with_row.var[k] / without.var - 1).max() <= 1e-9
     assert np.abs(with_row.level_var / without.level_var - 1).max() <= 1e-9
+    # Nor any division's count or mean rating on the watch list: the row is in the fit, not among the rated.
+    from secretary.model.linkage import watch_list
+
+    def counted(fit):
+        return {d.division: (d.players, d.mean_rating, d.relative_level) for d in watch_list(fit, rows).divisions}
+
+    before, after = counted(without), counted(with_row)
+    assert before.keys() == after.keys()
+    for name, (players, mean, gap) in before.items():
+        assert after[name][0] == players and abs(after[name][1] - mean) <= 1e-6 and abs(after[name][2] - gap) <= 1e-6
+    assert sum(players for players, _, _ in after.values()) == len(without.names)
 
 
 def test_a_player_who_changed_division_is_counted_in_the_one_they_play_in_now():

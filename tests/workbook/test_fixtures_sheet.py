@@ -86,7 +86,7 @@ def test_values_formats_and_notes(tmp_path, results):
         # A's chance of getting race_a games first, averaged over the posterior of the difference.
         # Source: docs/checks.md section 4 (scipy.stats.nbinom.cdf(b-1, a, p)), integrated by the trapezoid rule.
         assert chance.value == pytest.approx(chance_by_integral(fc, fc.race_a, fc.race_b), abs=1e-6)
-        assert chance.number_format == "0%"
+        assert chance.number_format == '[<0.005]"<1%";[>=0.995]">99%";0%'  # shown by LibreOffice: test_chance_format
         assert (ws.cell(r, where[FAIR_A]).value, ws.cell(r, where[FAIR_B]).value) == (fc.fair_race_a, fc.fair_race_b)
     notes = {ws.cell(fc.fixture.row, 2).value: ws.cell(fc.fixture.row, where[NOTE]).value for fc in fcs}
     assert notes["Otto Newman"] == "Otto Newman is not rated yet: this chance is a rough guess"
